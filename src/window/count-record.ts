@@ -1,0 +1,72 @@
+/**
+ * Load reported for one shard at one instant after validation: a count report,
+ * one entry of a count batch, or a request event (count 1). `shard` is the id
+ * as the producer wrote it; only the shard universe turns it into an index.
+ */
+export interface CountRecord {
+  /** Event time, epoch milliseconds. */
+  readonly ts: number;
+  /** Shard id, untrusted text, at most {@link longestShardId} characters. */
+  readonly shard: string;
+  /** Units of load (requests), a non-negative whole number. */
+  readonly count: number;
+  /** The request's key, kept from request events for key-level drill-down. */
+  readonly key?: string;
+}
+
+/**
+ * Why a record was not counted. The strings are stable: they become metric
+ * labels and report headings, so never reword one.
+ *
+ * "shard id too long" is this project's own addition to the reasons listed in
+ * INTERFACES.md: an id over {@link longestShardId} characters is far more
+ * likely garbage than a shard, and naming it apart from "wrong type" tells the
+ * operator which producer field to look at.
+ */
+export type RejectionReason =
+  | 'not JSON'
+  | 'wrong type'
+  | 'negative count'
+  | 'non-integer count'
+  | 'missing shard'
+  | 'shard id too long'
+  | 'outside universe'
+  | 'bad timestamp'
+  | 'too late'
+  | 'too many shards'
+  | 'line too long';
+
+/** Every rejection reason, in the order reports list them. */
+export const rejectionReasons: readonly RejectionReason[] = [
+  'not JSON',
+  'wrong type',
+  'negative count',
+  'non-integer count',
+  'missing shard',
+  'shard id too long',
+  'outside universe',
+  'bad timestamp',
+  'too late',
+  'too many shards',
+  'line too long',
+];
+
+/**
+ * Shard ids longer than this are rejected: ids are untrusted text and each
+ * new one is kept for the whole run by an undeclared universe.
+ */
+export const longestShardId = 200;
+
+/** A record that failed validation, with where it came from. */
+export interface Rejection {
+  readonly reason: RejectionReason;
+  /** 1-based line number in the input file, when the source has lines. */
+  readonly line?: number;
+}
+
+/**
+ * Tells a rejection from a record in a source's output stream.
+ */
+export function isRejection(item: CountRecord | Rejection): item is Rejection {
+  return (item as Rejection).reason !== undefined;
+}

@@ -1,0 +1,376 @@
+import type { CountRecord, RejectionReason } from './count-record.js';
+import { UsageError } from './errors.js';
+import { outsideUniverse, type ShardUniverse } from './shard-universe.js';
+
+/** One finished window: the per-shard count vector the judge works on. */
+export interface ClosedWindow {
+  /** Window start, epoch ms, inclusive; a multiple of the hop. */
+  readonly start: number;
+  /** Window end, epoch ms, exclusive. */
+  readonly end: number;
+  /**
+   * Load per shard, indexed like the universe. Its length is the universe
+   * size at close time (a growing universe may have grown meanwhile). The
+   * consumer owns the array.
+   */
+  readonly counts: Float64Array;
+  /** Sum of `counts`: the window's N. */
+  readonly total: number;
+  /**
+   * Units of load (not records) that arrived after a window they belonged to
+   * had closed, since the previous closed window. A late unit still counts in
+   * any covering window that was open; a record that missed every covering
+   * window is also a "too late" rejection.
+   */
+  readonly late: number;
+  /** Records rejected since the previous closed window, by reason. */
+  readonly rejected: Readonly<Partial<Record<RejectionReason, number>>>;
+}
+
+/** Window settings; the CLI turns `--window 10s` etc. into milliseconds. */
+export interface WindowOptions {
+  /** `--window`: window length in ms, a whole number above zero. */
+  readonly windowMs: number;
+  /**
+   * `--hop`: distance between window starts in ms; must divide the window
+   * length. Equal to the window length (the default) means tumbling windows;
+   * shorter means sliding windows, each record counting in every window that
+   * covers it.
+   */
+  readonly hopMs?: number;
+  /** `--lateness`: how far the watermark trails the newest timestamp (default 0). */
+  readonly latenessMs?: number;
+  /**
+   * The most all-zero windows emitted for one quiet stretch (default 10000).
+   * A silent stream is a finding, but a clock jump of a year must not emit
+   * millions of empty windows; the rest are counted in
+   * {@link WindowTotals.quietWindowsSkipped}.
+   */
+  readonly maxQuietWindows?: number;
+}
+
+/** Running totals since the aggregator was built. */
+export interface WindowTotals {
+  /** Records counted in at least one window. */
+  readonly records: number;
+  /** Units of load of those records. */
+  readonly load: number;
+  /** Units of load that missed at least one covering window (see {@link ClosedWindow.late}). */
+  readonly late: number;
+  /** Records that missed at least one covering window. */
+  readonly lateRecords: number;
+  /** Rejected records by reason, including "too late". */
+  readonly rejected: Readonly<Partial<Record<RejectionReason, number>>>;
+  readonly windowsClosed: number;
+  /** All-zero windows not emitted because a quiet stretch exceeded the cap. */
+  readonly quietWindowsSkipped: number;
+}
+
+interface OpenWindow {
+  counts: Float64Array;
+  total: number;
+}
+
+const defaultMaxQuietWindows = 10_000;
+const smallestGrowingCapacity = 64;
+
+/**
+ * Event-time windows over a shard universe. Windows are aligned to multiples
+ * of the hop since the Unix epoch (with the default hop: of the window
+ * length). The watermark is the newest timestamp seen minus the lateness; a
+ * window closes, in start order, once the watermark reaches its end, and is
+ * handed to `onClose`. Windows between the first and the last one seen close
+ * too, as all-zero windows. Memory is O(m x open windows); per record the
+ * work is one id lookup and one typed-array add per covering window.
+ */
+export class EventTimeWindows {
+  /** Window length in ms. */
+  readonly windowMs: number;
+  /** Hop in ms (equal to the window length for tumbling windows). */
+  readonly hopMs: number;
+  /** Lateness in ms. */
+  readonly latenessMs: number;
+  private readonly universe: ShardUniverse;
+  private readonly onClose: (window: ClosedWindow) => void;
+  private readonly windowsPerRecord: number;
+  private readonly maxQuietWindows: number;
+  private readonly open = new Map<number, OpenWindow>();
+  private newest = Number.NEGATIVE_INFINITY;
+  private currentWatermark = Number.NEGATIVE_INFINITY;
+  /** Lowest window index not yet closed, once any record has been counted. */
+  private nextToClose = Number.POSITIVE_INFINITY;
+  /** End of window `nextToClose`: the watermark at which closing is due. */
+  private dueAt = Number.POSITIVE_INFINITY;
+  private closedThrough = Number.NEGATIVE_INFINITY;
+  private highestOpened = Number.NEGATIVE_INFINITY;
+  private cachedIndex = Number.NaN;
+  private cachedWindow: OpenWindow | null = null;
+  private pendingLate = 0;
+  private pendingRejected: Partial<Record<RejectionReason, number>> = {};
+  private readonly running = {
+    records: 0,
+    load: 0,
+    late: 0,
+    lateRecords: 0,
+    rejected: {} as Partial<Record<RejectionReason, number>>,
+    windowsClosed: 0,
+    quietWindowsSkipped: 0,
+  };
+
+  /**
+   * @param universe the shards counts are indexed by; a growing one may grow while windows are open
+   * @param options window length, hop, lateness; validated here (UsageError naming the option)
+   * @param onClose receives each closed window, in start order, synchronously
+   */
+  constructor(
+    universe: ShardUniverse,
+    options: WindowOptions,
+    onClose: (window: ClosedWindow) => void,
+  ) {
+    const windowMs = options.windowMs;
+    if (!Number.isSafeInteger(windowMs) || windowMs <= 0) {
+      throw new UsageError(
+        '--window',
+        `${windowMs}ms`,
+        'is not a whole number of milliseconds above zero',
+      );
+    }
+    const hopMs = options.hopMs ?? windowMs;
+    if (!Number.isSafeInteger(hopMs) || hopMs <= 0) {
+      throw new UsageError(
+        '--hop',
+        `${hopMs}ms`,
+        'is not a whole number of milliseconds above zero',
+      );
+    }
+    if (hopMs > windowMs || windowMs % hopMs !== 0) {
+      throw new UsageError('--hop', `${hopMs}ms`, `does not divide --window ${windowMs}ms`);
+    }
+    const latenessMs = options.latenessMs ?? 0;
+    if (!Number.isSafeInteger(latenessMs) || latenessMs < 0) {
+      throw new UsageError(
+        '--lateness',
+        `${latenessMs}ms`,
+        'is not a whole number of milliseconds, zero or more',
+      );
+    }
+    const maxQuietWindows = options.maxQuietWindows ?? defaultMaxQuietWindows;
+    if (!Number.isSafeInteger(maxQuietWindows) || maxQuietWindows < 0) {
+      throw new UsageError(
+        '--max-quiet-windows',
+        String(maxQuietWindows),
+        'is not a whole number, zero or more',
+      );
+    }
+    this.universe = universe;
+    this.onClose = onClose;
+    this.windowMs = windowMs;
+    this.hopMs = hopMs;
+    this.latenessMs = latenessMs;
+    this.windowsPerRecord = windowMs / hopMs;
+    this.maxQuietWindows = maxQuietWindows;
+  }
+
+  /** Newest timestamp seen minus the lateness; -Infinity before any record. */
+  get watermark(): number {
+    return this.currentWatermark;
+  }
+
+  /** Number of windows holding counts and not yet closed. */
+  get openWindows(): number {
+    return this.open.size;
+  }
+
+  /** A snapshot of the running totals. */
+  get totals(): WindowTotals {
+    return { ...this.running, rejected: { ...this.running.rejected } };
+  }
+
+  /** Counts a validated record (see {@link add}). */
+  addRecord(record: CountRecord): void {
+    this.add(record.ts, record.shard, record.count);
+  }
+
+  /**
+   * Counts `count` units of load for `shard` at event time `ts` (epoch ms).
+   * An id outside a declared universe, or beyond a full growing one, is
+   * rejected; a record whose window already closed is counted as late. May
+   * close windows (calling `onClose`) when it advances the watermark.
+   * Allocation-free unless it opens a window.
+   */
+  add(ts: number, shard: string, count: number): void {
+    if (!Number.isFinite(ts)) {
+      this.reject('bad timestamp');
+      return;
+    }
+    const index = this.universe.admit(shard);
+    if (index < 0) {
+      this.reject(index === outsideUniverse ? 'outside universe' : 'too many shards');
+      return;
+    }
+    if (ts > this.newest) {
+      this.newest = ts;
+      this.currentWatermark = ts - this.latenessMs;
+    }
+    const lastIndex = Math.floor(ts / this.hopMs);
+    if (this.windowsPerRecord === 1) {
+      let window = lastIndex === this.cachedIndex ? this.cachedWindow : null;
+      if (window === null) {
+        window = this.windowFor(lastIndex);
+        if (window === null) {
+          this.countLate(count, true);
+          return;
+        }
+      }
+      addTo(window, index, count);
+    } else {
+      let missed = 0;
+      for (let window = lastIndex - this.windowsPerRecord + 1; window <= lastIndex; window++) {
+        const open = this.windowFor(window);
+        if (open === null) missed++;
+        else addTo(open, index, count);
+      }
+      if (missed > 0) this.countLate(count, missed === this.windowsPerRecord);
+      if (missed === this.windowsPerRecord) return;
+    }
+    this.running.records++;
+    this.running.load += count;
+    if (this.currentWatermark >= this.dueAt) {
+      this.closeThrough(Math.floor((this.currentWatermark - this.windowMs) / this.hopMs));
+    }
+  }
+
+  /** Counts a rejected record by reason; it shows in the next closed window. */
+  reject(reason: RejectionReason): void {
+    this.pendingRejected[reason] = (this.pendingRejected[reason] ?? 0) + 1;
+    this.running.rejected[reason] = (this.running.rejected[reason] ?? 0) + 1;
+  }
+
+  /**
+   * Wall-clock closing for a live source that has gone quiet: closes every
+   * window whose end plus the lateness is at or before `nowMs`, including
+   * all-zero windows after the last record (silence is a finding). Records
+   * that arrive for them later are late. Does nothing before the first record.
+   */
+  closeDue(nowMs: number): void {
+    this.closeThrough(Math.floor((nowMs - this.latenessMs - this.windowMs) / this.hopMs));
+  }
+
+  /** Closes every window still open, in order: the end of a file. */
+  closeAll(): void {
+    this.closeThrough(this.highestOpened);
+  }
+
+  private windowFor(window: number): OpenWindow | null {
+    const existing = this.open.get(window);
+    if (existing !== undefined) {
+      this.cachedIndex = window;
+      this.cachedWindow = existing;
+      return existing;
+    }
+    if (
+      window <= this.closedThrough ||
+      window * this.hopMs + this.windowMs <= this.currentWatermark
+    ) {
+      return null;
+    }
+    const capacity = this.universe.declared
+      ? this.universe.size
+      : Math.max(smallestGrowingCapacity, this.universe.size * 2);
+    const created: OpenWindow = { counts: new Float64Array(capacity), total: 0 };
+    this.open.set(window, created);
+    if (window < this.nextToClose) this.setNextToClose(window);
+    if (window > this.highestOpened) this.highestOpened = window;
+    this.cachedIndex = window;
+    this.cachedWindow = created;
+    return created;
+  }
+
+  private countLate(count: number, missedAll: boolean): void {
+    this.pendingLate += count;
+    this.running.late += count;
+    this.running.lateRecords++;
+    if (missedAll) this.reject('too late');
+  }
+
+  private setNextToClose(window: number): void {
+    this.nextToClose = window;
+    this.dueAt = window * this.hopMs + this.windowMs;
+  }
+
+  /** Closes windows nextToClose..last in order, empty ones included (capped per quiet run). */
+  private closeThrough(last: number): void {
+    while (this.nextToClose <= last) {
+      const window = this.nextToClose;
+      const state = this.open.get(window);
+      if (state !== undefined) {
+        this.open.delete(window);
+        this.emit(window, state.counts, state.total);
+        this.finishClosing(window);
+        continue;
+      }
+      const quietUntil = Math.min(last, this.nextOpenAfter(window) - 1);
+      const quietRun = quietUntil - window + 1;
+      const emitted = Math.min(quietRun, this.maxQuietWindows);
+      for (let quiet = window; quiet < window + emitted; quiet++) {
+        this.emit(quiet, null, 0);
+      }
+      this.running.quietWindowsSkipped += quietRun - emitted;
+      this.finishClosing(quietUntil);
+    }
+  }
+
+  private finishClosing(window: number): void {
+    this.closedThrough = window;
+    if (this.cachedIndex <= window) {
+      this.cachedIndex = Number.NaN;
+      this.cachedWindow = null;
+    }
+    // Stays finite from now on, so the stretch before the next record's
+    // window closes as all-zero windows instead of vanishing.
+    this.setNextToClose(window + 1);
+  }
+
+  private nextOpenAfter(window: number): number {
+    let next = Number.POSITIVE_INFINITY;
+    for (const key of this.open.keys()) if (key > window && key < next) next = key;
+    return next;
+  }
+
+  private emit(window: number, counts: Float64Array | null, total: number): void {
+    const size = this.universe.size;
+    const start = window * this.hopMs;
+    const closed: ClosedWindow = {
+      start,
+      end: start + this.windowMs,
+      counts: fitCounts(counts, size),
+      total,
+      late: this.pendingLate,
+      rejected: this.pendingRejected,
+    };
+    this.pendingLate = 0;
+    this.pendingRejected = {};
+    this.running.windowsClosed++;
+    this.onClose(closed);
+  }
+}
+
+function addTo(window: OpenWindow, index: number, count: number): void {
+  if (index >= window.counts.length) {
+    const grown = new Float64Array(Math.max(index + 1, window.counts.length * 2));
+    grown.set(window.counts);
+    window.counts = grown;
+  }
+  window.counts[index] += count;
+  window.total += count;
+}
+
+/** A count vector of exactly the universe size; growing universes over- or under-allocate. */
+function fitCounts(counts: Float64Array | null, size: number): Float64Array {
+  if (counts === null) return new Float64Array(size);
+  if (counts.length === size) return counts;
+  if (counts.length > size) return counts.slice(0, size);
+  const fitted = new Float64Array(size);
+  fitted.set(counts);
+  return fitted;
+}

@@ -1,0 +1,28 @@
+import { describe, expect, it } from 'vitest';
+import { isRejection, rejectionReasons } from '../../src/window/count-record.js';
+
+describe('rejection reasons', () => {
+  it('are the stable labels of INTERFACES.md plus "shard id too long", each once', () => {
+    // The exact strings are a contract (metric labels): the brief's list plus this project's one addition.
+    expect([...rejectionReasons].sort()).toEqual(
+      [
+        'not JSON',
+        'wrong type',
+        'negative count',
+        'non-integer count',
+        'missing shard',
+        'outside universe',
+        'bad timestamp',
+        'too late',
+        'too many shards',
+        'line too long',
+        'shard id too long',
+      ].sort(),
+    );
+  });
+
+  it('tell a rejection from a record', () => {
+    expect(isRejection({ reason: 'not JSON', line: 3 })).toBe(true);
+    expect(isRejection({ ts: 0, shard: 'a', count: 0 })).toBe(false);
+  });
+});
