@@ -1,0 +1,134 @@
+import gammainc from '@stdlib/math-base-special-gammainc';
+import { boxLogProbability } from './box-probability.js';
+import { logChoose } from './discrete-densities.js';
+import { anyShardTail } from './extreme-load.js';
+import { log1mExp, logAddExp } from './log-space.js';
+import { shareClasses, type Placement } from './placement.js';
+
+/**
+ * The number of empty shards E = #{i : x_i = 0} under random placement (the classical
+ * occupancy problem; Feller 1968, vol. 1, ch. II.11 and IV.2).
+ */
+
+/** Result of the empty-shard test. */
+export interface EmptyShardsTail {
+  /** Natural log of P(E >= observed). */
+  readonly logProbability: number;
+  /** `exact`, `exact-terms` (sum of exact point probabilities), `normal`, `certain`. */
+  readonly method: string;
+}
+
+/**
+ * Mean and variance of the empty-shard count.
+ * Mean sum_i (1 - p_i)^N; variance sum_i q_i (1 - q_i) + sum_{i != j} (q_ij - q_i q_j) with
+ * q_i = (1 - p_i)^N and q_ij = (1 - p_i - p_j)^N. Every difference is formed in log space
+ * (q_ij - q_i q_j = q_i q_j expm1(N log(1 - c_i c_j)), c = p / (1 - p)), so nothing cancels.
+ * Cost O(1) for equal shares; O(k^2) for k distinct shares up to 3000, beyond that the
+ * pair sum is expanded in powers of c_i c_j (four terms; relative error below
+ * (N max c^2)^5 / 120).
+ * Example: emptyShardMoments(makePlacement(3, 3)) has mean 3 (2/3)^3 = 8/9.
+ */
+export function emptyShardMoments(placement: Placement): { mean: number; variance: number } {
+  const n = placement.total;
+  const classes = shareClasses(placement);
+  let mean = 0;
+  let variance = 0;
+  const logQ = classes.map((c) => n * Math.log1p(-c.share));
+  for (let a = 0; a < classes.length; a++) {
+    const q = Math.exp(logQ[a]);
+    mean += classes[a].count * q;
+    variance += classes[a].count * q * (1 - q);
+  }
+  const c = classes.map((k) => (k.share < 1 ? k.share / (1 - k.share) : Infinity));
+  const pairTerm = (a: number, b: number) => {
+    const product = c[a] * c[b];
+    if (product >= 1) return -Math.exp(logQ[a] + logQ[b]);
+    return Math.exp(logQ[a] + logQ[b]) * Math.expm1(n * Math.log1p(-product));
+  };
+  if (classes.length <= 3000) {
+    for (let a = 0; a < classes.length; a++) {
+      const ca = classes[a].count;
+      if (ca >= 2) variance += ca * (ca - 1) * pairTerm(a, a);
+      for (let b = a + 1; b < classes.length; b++) variance += 2 * ca * classes[b].count * pairTerm(a, b);
+    }
+  } else {
+    // expm1(N log(1 - x)) = sum_r a_r x^r with a_1 = -N, a_2 = N(N-1)/2 ... (binomial series
+    // of (1 - x)^N - 1), so sum_{i != j} q_i q_j expm1(...) = sum_r a_r [(sum q c^r)^2 - sum q^2 c^2r].
+    let coefficient = 1;
+    for (let r = 1; r <= 4; r++) {
+      coefficient *= -(n - r + 1) / r;
+      let linear = 0;
+      let square = 0;
+      for (let a = 0; a < classes.length; a++) {
+        const qa = Math.exp(logQ[a]);
+        const term = qa * c[a] ** r;
+        linear += classes[a].count * term;
+        square += classes[a].count * term * term;
+      }
+      variance += coefficient * (linear * linear - square);
+    }
+  }
+  return { mean, variance: Math.max(variance, 0) };
+}
+
+/**
+ * log P(E = e) for equal shares: C(m, e) ((m - e)/m)^N P(no empty shard among m - e with N
+ * requests), the last factor a box probability (every count >= 1) by Levin's representation.
+ * Exact identity; O(1) box probability per call.
+ */
+function logEmptyExactly(total: number, shards: number, empty: number): number {
+  const occupied = shards - empty;
+  if (occupied === 0) return total === 0 ? 0 : -Infinity;
+  if (occupied > total) return -Infinity;
+  const allHit = boxLogProbability(total, [{ share: 1 / occupied, count: occupied, lower: 1, upper: Infinity }]);
+  return logChoose(shards, empty) + total * Math.log1p(-empty / shards) + allHit.logProbability;
+}
+
+/**
+ * log P(E >= observed), the empty-shard p-value.
+ * Equal shares: the exact point probabilities (logEmptyExactly) summed from the observed
+ * count outward (or the complement summed on the other side when that side is smaller),
+ * until terms fall below 1e-18 of the sum. Weighted shares: exact for observed = 1
+ * (P(some shard empty), the emptiest-shard machinery), otherwise the normal limit with
+ * continuity correction (Weiss 1958; Renyi 1962), which is reported as `normal`.
+ * Cost: O(number of terms) box probabilities; terms decay geometrically away from the mean.
+ * Example: emptyShardsTail(makePlacement(2, 2), 1) = log(1/2).
+ */
+export function emptyShardsTail(placement: Placement, observed: number): EmptyShardsTail {
+  const n = placement.total;
+  const m = placement.shardCount;
+  if (observed <= 0) return { logProbability: 0, method: 'certain' };
+  const minEmpty = Math.max(0, m - n);
+  if (observed <= minEmpty) return { logProbability: 0, method: 'certain' };
+  if (observed > m - (n > 0 ? 1 : 0)) return { logProbability: -Infinity, method: 'exact' };
+  if (placement.shares !== null) {
+    if (observed === 1) {
+      return { logProbability: anyShardTail('low', n, shareClasses(placement).map((c) => ({ ...c, threshold: 0 }))).logProbability, method: 'exact' };
+    }
+    const { mean, variance } = emptyShardMoments(placement);
+    const z = (observed - 0.5 - mean) / Math.sqrt(Math.max(variance, 1e-300));
+    return { logProbability: logNormalUpper(z), method: 'normal' };
+  }
+  const { mean } = emptyShardMoments(placement);
+  const maxEmpty = m - (n > 0 ? 1 : 0);
+  const sumFrom = (start: number, stop: number, direction: 1 | -1) => {
+    let logSum = -Infinity;
+    for (let e = start; direction > 0 ? e <= stop : e >= stop; e += direction) {
+      const term = logEmptyExactly(n, m, e);
+      logSum = logAddExp(logSum, term);
+      if (term < logSum - 41.4 && Math.abs(e - mean) > 1) break;
+    }
+    return logSum;
+  };
+  if (observed >= mean) return { logProbability: sumFrom(observed, maxEmpty, 1), method: 'exact-terms' };
+  return { logProbability: log1mExp(Math.min(0, sumFrom(observed - 1, minEmpty, -1))), method: 'exact-terms' };
+}
+
+/** log P(Z >= z) for a standard normal Z: regularized incomplete gamma (stdlib gammainc), Mills' ratio series past underflow. */
+function logNormalUpper(z: number): number {
+  const half = 0.5 * gammainc((z * z) / 2, 0.5, true, true);
+  if (z < 0) return log1mExp(Math.log(half));
+  if (half > 1e-280) return Math.log(half);
+  const inverse = 1 / (z * z);
+  return -0.5 * z * z - Math.log(z * Math.sqrt(2 * Math.PI)) + Math.log1p(-inverse + 3 * inverse * inverse);
+}

@@ -1,0 +1,194 @@
+import { boxLogProbability, type ShardGroup } from './box-probability.js';
+import { logChoose } from './discrete-densities.js';
+import { log1mExp, logAddExp, logDifference } from './log-space.js';
+import { logBinomialAtLeast, logBinomialAtMost } from './tails.js';
+
+/**
+ * Tail probabilities of the fullest and the emptiest shard under random placement.
+ *
+ * The question "does some shard reach its threshold?" is answered two ways, each where it
+ * is accurate:
+ * - when the single-shard tails are small (their sum S1 below a switch-over), by the
+ *   Bonferroni inequalities S1 - S2 <= P <= S1 (and S1 - S2 + S3 >= P), with the joint
+ *   tails S2, S3 computed by Levin's representation (box-probability.ts); the answer is
+ *   then accurate far beyond 1e-15 and needs no subtraction from 1;
+ * - otherwise as 1 - P(no shard reaches it), the complement of a box probability, which is
+ *   well-conditioned once the answer is not small.
+ * Feller (1968), "An Introduction to Probability Theory and Its Applications", vol. 1,
+ * ch. IV, for the inclusion-exclusion (Bonferroni) bounds.
+ */
+
+/** Shards with one share and one integer threshold. */
+export interface ThresholdGroup {
+  /** Expected share p of each shard (0 < p <= 1). */
+  readonly share: number;
+  /** Number of shards in the group. */
+  readonly count: number;
+  /** The count each shard is tested against. */
+  readonly threshold: number;
+}
+
+/** A tail probability with the method that produced it. */
+export interface TailProbability {
+  /** Natural log of the probability. */
+  readonly logProbability: number;
+  /** `inclusion-exclusion`, `complement-exact`, `complement-edgeworth`, `certain`, `impossible`. */
+  readonly method: string;
+  /** Estimated relative error. */
+  readonly relativeError: number;
+}
+
+type Side = 'high' | 'low';
+
+/** Switch-over for a single group (equal shares), where S3 is available. */
+const SINGLE_GROUP_SWITCH = 0.1;
+/** Switch-over when every pair of groups gets an exact joint tail. */
+const FEW_GROUPS_SWITCH = 0.03;
+/** Switch-over for many groups, where S2 is estimated from the leading pair. */
+const MANY_GROUPS_SWITCH = 2e-3;
+/** Up to this many groups, all pairwise joint tails are computed. */
+const FEW_GROUPS = 6;
+
+function singleLogTail(side: Side, total: number, g: ThresholdGroup): number {
+  return side === 'high'
+    ? logBinomialAtLeast(g.threshold, total, g.share)
+    : logBinomialAtMost(g.threshold, total, g.share);
+}
+
+/**
+ * log P(the given shards all reach their thresholds), by Levin's representation: the named
+ * shards get a floor (side high) or a ceiling (side low), all others are free.
+ */
+function jointLogTail(side: Side, total: number, members: readonly ThresholdGroup[]): number {
+  let rest = 1;
+  const groups: ShardGroup[] = [];
+  for (const m of members) {
+    rest -= m.share * m.count;
+    groups.push(
+      side === 'high'
+        ? { share: m.share, count: m.count, lower: m.threshold, upper: Infinity }
+        : { share: m.share, count: m.count, lower: 0, upper: m.threshold },
+    );
+  }
+  if (rest > 1e-15) groups.push({ share: rest, count: 1, lower: 0, upper: Infinity });
+  return boxLogProbability(total, groups).logProbability;
+}
+
+function complementLogTail(side: Side, total: number, groups: readonly ThresholdGroup[]): TailProbability {
+  const box: ShardGroup[] = groups.map((g) =>
+    side === 'high'
+      ? { share: g.share, count: g.count, lower: 0, upper: g.threshold - 1 }
+      : { share: g.share, count: g.count, lower: g.threshold + 1, upper: Infinity },
+  );
+  const none = boxLogProbability(total, box);
+  if (none.method === 'impossible') return { logProbability: 0, method: 'certain', relativeError: 0 };
+  const logP = log1mExp(none.logProbability);
+  // The complement magnifies the box's relative error by Q / (1 - Q).
+  const magnification = Math.exp(none.logProbability - logP);
+  return {
+    logProbability: logP,
+    method: `complement-${none.method}`,
+    relativeError: none.relativeError * magnification,
+  };
+}
+
+/**
+ * log P(some shard i has X_i >= threshold_i) (side high) or X_i <= threshold_i (side low),
+ * under Multinomial(total, shares), where the groups together hold every shard.
+ *
+ * Cost: O(groups) single tails, plus a few box probabilities (O(groups) each); for many
+ * groups no pairwise sum is formed. Accuracy: relative error below 1e-3 for results in
+ * [1e-15, 1] (tested against exact enumeration, exact convolution and Monte Carlo), and
+ * results below 1e-300 keep their log.
+ * Example: anyShardTail('high', 23, [{share: 1/365, count: 365, threshold: 2}]) is
+ * log(0.5072972343239857), the birthday problem.
+ */
+export function anyShardTail(
+  side: Side,
+  total: number,
+  groups: readonly ThresholdGroup[],
+): TailProbability {
+  const live = groups.filter((g) => g.count > 0 && g.share > 0);
+  // Shards with no share always hold 0 load, so a threshold at or past 0 is always reached.
+  const zeroShareReaches = (g: ThresholdGroup) => (side === 'low' ? g.threshold >= 0 : g.threshold <= 0);
+  if (groups.some((g) => g.count > 0 && g.share === 0 && zeroShareReaches(g))) {
+    return { logProbability: 0, method: 'certain', relativeError: 0 };
+  }
+  let logS1 = -Infinity;
+  const logTails: number[] = [];
+  for (const g of live) {
+    const t = singleLogTail(side, total, g);
+    logTails.push(t);
+    if (t === 0) return { logProbability: 0, method: 'certain', relativeError: 0 };
+    logS1 = logAddExp(logS1, Math.log(g.count) + t);
+  }
+  if (logS1 === -Infinity) return { logProbability: -Infinity, method: 'impossible', relativeError: 0 };
+  const s1 = Math.exp(logS1);
+  const shardCount = live.reduce((n, g) => n + g.count, 0);
+  if (shardCount === 1) return { logProbability: logS1, method: 'single-shard', relativeError: 1e-13 };
+
+  if (live.length === 1 && s1 <= SINGLE_GROUP_SWITCH) {
+    const g = live[0];
+    const logS2 = logChoose(g.count, 2) + jointLogTail(side, total, [{ ...g, count: 2 }]);
+    const logS3 =
+      g.count >= 3 ? logChoose(g.count, 3) + jointLogTail(side, total, [{ ...g, count: 3 }]) : -Infinity;
+    // S1 - S2 + S3: an upper Bonferroni bound whose error is at most S4 <= S1 * S3 / 4.
+    const value = logDifference(logAddExp(logS1, logS3), logS2);
+    return {
+      logProbability: value,
+      method: 'inclusion-exclusion',
+      relativeError: Math.max(1e-12, Math.exp(logS3 - value) * s1),
+    };
+  }
+  if (live.length <= FEW_GROUPS && s1 <= FEW_GROUPS_SWITCH) {
+    let logS2 = -Infinity;
+    for (let a = 0; a < live.length; a++) {
+      if (live[a].count >= 2) {
+        logS2 = logAddExp(
+          logS2,
+          logChoose(live[a].count, 2) + jointLogTail(side, total, [{ ...live[a], count: 2 }]),
+        );
+      }
+      for (let b = a + 1; b < live.length; b++) {
+        const pair = jointLogTail(side, total, [
+          { ...live[a], count: 1 },
+          { ...live[b], count: 1 },
+        ]);
+        logS2 = logAddExp(logS2, Math.log(live[a].count) + Math.log(live[b].count) + pair);
+      }
+    }
+    const value = logDifference(logS1, logS2);
+    return { logProbability: value, method: 'inclusion-exclusion', relativeError: Math.max(1e-12, (s1 * s1) / 6) };
+  }
+  if (live.length > FEW_GROUPS && s1 <= MANY_GROUPS_SWITCH) {
+    // S2 under independence is sum_{i<j} t_i t_j = (S1^2 - sum t_i^2) / 2; multinomial cells
+    // are negatively associated, so the true S2 is below it. The ratio true/independent is
+    // taken from the pair with the largest tails.
+    let logSumSquares = -Infinity;
+    let top = 0;
+    let second = -1;
+    for (let i = 0; i < live.length; i++) {
+      logSumSquares = logAddExp(logSumSquares, Math.log(live[i].count) + 2 * logTails[i]);
+      if (logTails[i] > logTails[top]) {
+        second = top;
+        top = i;
+      } else if (i !== top && (second < 0 || logTails[i] > logTails[second])) {
+        second = i;
+      }
+    }
+    const logIndependent = logDifference(2 * logS1, logSumSquares) - Math.LN2;
+    const pairGroups =
+      live[top].count >= 2
+        ? [{ ...live[top], count: 2 }]
+        : [
+            { ...live[top], count: 1 },
+            { ...live[second], count: 1 },
+          ];
+    const logPairProduct = live[top].count >= 2 ? 2 * logTails[top] : logTails[top] + logTails[second];
+    const logRatio = Math.min(0, jointLogTail(side, total, pairGroups) - logPairProduct);
+    const value = logDifference(logS1, logIndependent + logRatio);
+    return { logProbability: value, method: 'inclusion-exclusion', relativeError: Math.max(1e-9, s1 / 2) };
+  }
+  return complementLogTail(side, total, live);
+}
+

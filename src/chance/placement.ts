@@ -1,0 +1,75 @@
+/**
+ * A window's placement question: `total` units of load on `shardCount` shards with
+ * expected shares (null for equal shares). Loads are compared as relative loads
+ * r_i = x_i / (total p_i), so that a shard with twice the hash range is allowed twice the load.
+ */
+export interface Placement {
+  /** N, the number of independent placements (requests) in the window. */
+  readonly total: number;
+  /** m, the number of shards in the declared universe. */
+  readonly shardCount: number;
+  /** Expected shares p_1..p_m summing to 1, or null for equal shares 1/m. */
+  readonly shares: Float64Array | null;
+}
+
+/** Shards sharing a share value, with their positions in the universe. */
+export interface ShareClass {
+  readonly share: number;
+  readonly count: number;
+}
+
+/**
+ * Validated placement. Throws RangeError naming the bad field: total must be a whole
+ * number in [0, 2^53), shardCount a whole number >= 1, shares finite, non-negative, not all
+ * zero, of length shardCount (they are normalised to sum to 1).
+ * O(m). Example: makePlacement(23, 365) is the birthday problem.
+ */
+export function makePlacement(total: number, shardCount: number, weights?: ArrayLike<number>): Placement {
+  if (!Number.isSafeInteger(total) || total < 0) {
+    throw new RangeError(`requests must be a whole number from 0 to 2^53-1, got ${total}`);
+  }
+  if (!Number.isSafeInteger(shardCount) || shardCount < 1) {
+    throw new RangeError(`shards must be a whole number of at least 1, got ${shardCount}`);
+  }
+  if (weights === undefined) return { total, shardCount, shares: null };
+  if (weights.length !== shardCount) {
+    throw new RangeError(`expected ${shardCount} weights, got ${weights.length}`);
+  }
+  let sum = 0;
+  for (let i = 0; i < weights.length; i++) {
+    const w = weights[i];
+    if (!Number.isFinite(w) || w < 0) throw new RangeError(`weight ${i} must be a finite number >= 0, got ${w}`);
+    sum += w;
+  }
+  if (!(sum > 0)) throw new RangeError('weights are all zero');
+  const shares = new Float64Array(shardCount);
+  let equal = true;
+  for (let i = 0; i < weights.length; i++) {
+    shares[i] = weights[i] / sum;
+    if (weights[i] !== weights[0]) equal = false;
+  }
+  return { total, shardCount, shares: equal ? null : shares };
+}
+
+/** Share of shard i. O(1). */
+export function shareOf(placement: Placement, index: number): number {
+  return placement.shares === null ? 1 / placement.shardCount : placement.shares[index];
+}
+
+/**
+ * The distinct shares and how many shards hold each (one class for equal shares).
+ * O(m log m) for weighted shares. Example: shares [0.5, 0.25, 0.25] give two classes.
+ */
+export function shareClasses(placement: Placement): ShareClass[] {
+  if (placement.shares === null) return [{ share: 1 / placement.shardCount, count: placement.shardCount }];
+  const sorted = Float64Array.from(placement.shares).sort();
+  const classes: ShareClass[] = [];
+  let start = 0;
+  for (let i = 1; i <= sorted.length; i++) {
+    if (i === sorted.length || sorted[i] !== sorted[start]) {
+      classes.push({ share: sorted[start], count: i - start });
+      start = i;
+    }
+  }
+  return classes;
+}
