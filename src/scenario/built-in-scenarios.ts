@@ -47,11 +47,13 @@ const demo: ScenarioDefinition = {
       forMs: 80 * second,
       failoverTo: 'seat-43',
     },
-    // 0.4% of the traffic is about 4 requests per shard per 10 s window:
-    // the detectable excess climbs above 3x ("too little traffic").
+    // 0.4% of the traffic, at the diurnal low, is about 3 requests per
+    // shard per 10 s window: the detectable excess climbs above 3x ("too
+    // little traffic").
     { kind: 'lull', factor: 0.004, atMs: 260 * second, forMs: 40 * second },
-    // A 7% wobble: the spread test rejects (phi about 3.5) while no shard
-    // reaches the +20% practical floor of a hotspot.
+    // A 7% wobble (CV 0.05): the spread test rejects (phi = 1 + (N/m) CV^2,
+    // about 3 at the diurnal low) while no shard reaches the +20% practical
+    // floor of a hotspot.
     { kind: 'uneven', amplitude: 0.07, atMs: 300 * second, forMs: 30 * second },
   ],
   cycleMs: 6 * minute,
