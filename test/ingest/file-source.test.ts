@@ -169,27 +169,21 @@ describe('100000 fuzzed lines through decoding and windows', () => {
   const count = fc.nat({ max: 1000 });
   const iso = (time: number) => new Date(time).toISOString();
   const planned: fc.Arbitrary<Planned> = fc.oneof(
-    fc
-      .tuple(shard, count)
-      .map(([id, n]) => ({
-        make: (t: number) => `{"ts":${t},"shard":"${id}","count":${n}}`,
-        good: [{ shard: id, count: n }],
-        bad: [],
-      })),
-    fc
-      .tuple(shard, count)
-      .map(([id, n]) => ({
-        make: (t: number) => `{ "count": ${n}, "shard": "${id}", "ts": "${iso(t)}" }`,
-        good: [{ shard: id, count: n }],
-        bad: [],
-      })),
-    fc
-      .tuple(shard, fc.string({ maxLength: 8 }))
-      .map(([id, key]) => ({
-        make: (t: number) => JSON.stringify({ ts: t, shard: id, key }),
-        good: [{ shard: id, count: 1 }],
-        bad: [],
-      })),
+    fc.tuple(shard, count).map(([id, n]) => ({
+      make: (t: number) => `{"ts":${t},"shard":"${id}","count":${n}}`,
+      good: [{ shard: id, count: n }],
+      bad: [],
+    })),
+    fc.tuple(shard, count).map(([id, n]) => ({
+      make: (t: number) => `{ "count": ${n}, "shard": "${id}", "ts": "${iso(t)}" }`,
+      good: [{ shard: id, count: n }],
+      bad: [],
+    })),
+    fc.tuple(shard, fc.string({ maxLength: 8 })).map(([id, key]) => ({
+      make: (t: number) => JSON.stringify({ ts: t, shard: id, key }),
+      good: [{ shard: id, count: 1 }],
+      bad: [],
+    })),
     fc
       .tuple(
         fc.uniqueArray(fc.tuple(fc.constantFrom(...inside, 'other'), count), {
@@ -218,13 +212,11 @@ describe('100000 fuzzed lines through decoding and windows', () => {
           bad: problems,
         };
       }),
-    fc
-      .tuple(shard, count)
-      .map(([id, n]) => ({
-        make: (t: number) => `{"ts":${t},"shard":"${id}","count":${n}`,
-        good: [],
-        bad: ['not JSON' as const],
-      })),
+    fc.tuple(shard, count).map(([id, n]) => ({
+      make: (t: number) => `{"ts":${t},"shard":"${id}","count":${n}`,
+      good: [],
+      bad: ['not JSON' as const],
+    })),
     fc.constantFrom<Planned>(
       { make: (t) => `[${t},"s-0",1]`, good: [], bad: ['wrong type'] },
       { make: (t) => `{"ts":${t},"shard":"s-0","count":"1"}`, good: [], bad: ['wrong type'] },
