@@ -1,4 +1,5 @@
 import { logFactorial, logPoissonDensity } from './discrete-densities.js';
+import { fftConvolve } from './fft-convolution.js';
 import { log1mExp, logAddExp, logDifference } from './log-space.js';
 import { logBinomialAtLeast, logBinomialAtMost } from './tails.js';
 import { cutCumulants, cutLogMass, cutMassFunction, type OneSidedCut } from './truncated-poisson.js';
@@ -45,10 +46,19 @@ export interface BoxProbability {
   readonly relativeError: number;
 }
 
+/** Evaluation options. */
+export interface BoxOptions {
+  /**
+   * Never spend more than the routine budget on an exact answer, accepting the Edgeworth
+   * error instead (used while bracketing a quantile; the final answer is re-checked).
+   */
+  readonly quick?: boolean;
+}
+
 /** Work above which the exact convolution gives way to the Edgeworth expansion. */
 const EXACT_BUDGET = 3e6;
 /** Work we accept for an exact answer when the Edgeworth expansion would be inaccurate. */
-const EXACT_BUDGET_WHEN_NEEDED = 6e7;
+const EXACT_BUDGET_WHEN_NEEDED = 4e8;
 /** Third-order Edgeworth size above which we prefer the exact convolution. */
 const EDGEWORTH_TOLERANCE = 1e-9;
 
@@ -151,6 +161,11 @@ function edgeworthLogDensity(
   return { logDensity, remainder: correction > 0 ? remainder : Infinity };
 }
 
+/** Both factors longer than this: convolve by FFT instead of directly. */
+const FFT_FROM = 256;
+/** FFT outputs carry absolute noise near 1e-16 of the peak; anything below this is dropped. */
+const FFT_FLOOR = 1e-15;
+
 /** A mass function on consecutive integers starting at `offset`. */
 interface Lattice {
   offset: number;
@@ -162,9 +177,13 @@ function convolve(a: Lattice, b: Lattice, maxValue: number): Lattice {
   const offset = a.offset + b.offset;
   const length = Math.min(a.values.length + b.values.length - 1, maxValue - offset + 1);
   if (length <= 0) return { offset, values: new Float64Array(0) };
-  const out = new Float64Array(length);
   const av = a.values;
   const bv = b.values;
+  if (av.length > FFT_FROM && bv.length > FFT_FROM) {
+    const full = fftConvolve(av, bv);
+    return prune({ offset, values: full.length > length ? full.slice(0, length) : full }, FFT_FLOOR);
+  }
+  const out = new Float64Array(length);
   for (let i = 0; i < av.length && i < length; i++) {
     const x = av[i];
     if (x === 0) continue;
@@ -213,13 +232,19 @@ function exactLogDensity(tilted: readonly TiltedGroup[], at: number): number {
 function exactWork(tilted: readonly TiltedGroup[], at: number): number {
   let width = 0;
   let work = 0;
+  const productCost = (x: number, y: number) =>
+    x > FFT_FROM && y > FFT_FROM ? 6 * (x + y) * Math.log2(x + y) : x * y;
   for (const t of tilted) {
     const sd = Math.sqrt(Math.max(t.cumulants[1], 1e-12));
     const span = t.group.upper < Infinity ? t.group.upper - t.group.lower + 1 : Infinity;
-    const pieceWidth = Math.min(span, at + 1, Math.ceil(30 * sd + 30));
-    const groupWidth = Math.min(at + 1, Math.ceil(30 * Math.sqrt(t.group.count) * sd + 30 * pieceWidth));
-    // Squaring up to the group's width, then one product with the running result.
-    work += groupWidth * groupWidth * 1.5 + width * groupWidth;
+    const pieceWidth = Math.min(span, at + 1, Math.ceil(28 * sd + 30));
+    const groupWidth = Math.min(
+      at + 1,
+      t.group.count * pieceWidth,
+      Math.ceil(28 * Math.sqrt(t.group.count) * sd) + pieceWidth,
+    );
+    // Repeated squaring up to the group's width, then one product with the running result.
+    work += 2 * Math.log2(t.group.count + 1) * productCost(groupWidth, groupWidth) + productCost(width, groupWidth);
     width = Math.min(at + 1, width + groupWidth);
   }
   return work;
@@ -258,14 +283,18 @@ function twoShardBox(total: number, live: readonly ShardGroup[]): BoxProbability
  * log P(lower_g <= X_i <= upper_g for every shard i of every group g) under
  * Multinomial(total, shares), with the method used and its estimated relative error.
  *
- * Cost: O(groups) per saddle-point step; the exact branch is limited to about 6e7
- * multiply-adds. Accuracy: the exact branch is limited by rounding (about 1e-13 relative);
+ * Cost: O(groups) per saddle-point step; the exact branch is limited to about 4e8
+ * operations (about a second; only few shards with very many requests need it). Accuracy: the exact branch is limited by rounding (about 1e-13 relative);
  * the Edgeworth branch reports its third-order remainder, below 1e-9 in the regimes where
  * it is chosen over an affordable exact answer.
  * Example: boxLogProbability(23, [{share: 1/365, count: 365, lower: 0, upper: 1}]) is
  * log(0.4927027656760144), the chance that 23 people have 23 different birthdays.
  */
-export function boxLogProbability(total: number, groups: readonly ShardGroup[]): BoxProbability {
+export function boxLogProbability(
+  total: number,
+  groups: readonly ShardGroup[],
+  options: BoxOptions = {},
+): BoxProbability {
   const live: ShardGroup[] = [];
   let floorSum = 0;
   let ceilingSum = 0;
@@ -313,7 +342,8 @@ export function boxLogProbability(total: number, groups: readonly ShardGroup[]):
   const work = exactWork(tilted, total);
   const exactWanted =
     work <= EXACT_BUDGET ||
-    (edgeworth.remainder > EDGEWORTH_TOLERANCE && work <= EXACT_BUDGET_WHEN_NEEDED);
+    (edgeworth.remainder > EDGEWORTH_TOLERANCE &&
+      work <= (options.quick ? EXACT_BUDGET : EXACT_BUDGET_WHEN_NEEDED));
   if (exactWanted) {
     const logDensity = exactLogDensity(tilted, total);
     return {

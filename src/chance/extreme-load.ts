@@ -1,4 +1,4 @@
-import { boxLogProbability, type ShardGroup } from './box-probability.js';
+import { boxLogProbability, type BoxOptions, type ShardGroup } from './box-probability.js';
 import { logChoose } from './discrete-densities.js';
 import { log1mExp, logAddExp, logDifference } from './log-space.js';
 import { logBinomialAtLeast, logBinomialAtMost } from './tails.js';
@@ -59,7 +59,12 @@ function singleLogTail(side: Side, total: number, g: ThresholdGroup): number {
  * log P(the given shards all reach their thresholds), by Levin's representation: the named
  * shards get a floor (side high) or a ceiling (side low), all others are free.
  */
-function jointLogTail(side: Side, total: number, members: readonly ThresholdGroup[]): number {
+function jointLogTail(
+  side: Side,
+  total: number,
+  members: readonly ThresholdGroup[],
+  options: BoxOptions,
+): number {
   let rest = 1;
   const groups: ShardGroup[] = [];
   for (const m of members) {
@@ -71,16 +76,21 @@ function jointLogTail(side: Side, total: number, members: readonly ThresholdGrou
     );
   }
   if (rest > 1e-15) groups.push({ share: rest, count: 1, lower: 0, upper: Infinity });
-  return boxLogProbability(total, groups).logProbability;
+  return boxLogProbability(total, groups, options).logProbability;
 }
 
-function complementLogTail(side: Side, total: number, groups: readonly ThresholdGroup[]): TailProbability {
+function complementLogTail(
+  side: Side,
+  total: number,
+  groups: readonly ThresholdGroup[],
+  options: BoxOptions,
+): TailProbability {
   const box: ShardGroup[] = groups.map((g) =>
     side === 'high'
       ? { share: g.share, count: g.count, lower: 0, upper: g.threshold - 1 }
       : { share: g.share, count: g.count, lower: g.threshold + 1, upper: Infinity },
   );
-  const none = boxLogProbability(total, box);
+  const none = boxLogProbability(total, box, options);
   if (none.method === 'impossible') return { logProbability: 0, method: 'certain', relativeError: 0 };
   const logP = log1mExp(none.logProbability);
   // The complement magnifies the box's relative error by Q / (1 - Q).
@@ -107,6 +117,7 @@ export function anyShardTail(
   side: Side,
   total: number,
   groups: readonly ThresholdGroup[],
+  options: BoxOptions = {},
 ): TailProbability {
   const live = groups.filter((g) => g.count > 0 && g.share > 0);
   // Shards with no share always hold 0 load, so a threshold at or past 0 is always reached.
@@ -129,9 +140,9 @@ export function anyShardTail(
 
   if (live.length === 1 && s1 <= SINGLE_GROUP_SWITCH) {
     const g = live[0];
-    const logS2 = logChoose(g.count, 2) + jointLogTail(side, total, [{ ...g, count: 2 }]);
+    const logS2 = logChoose(g.count, 2) + jointLogTail(side, total, [{ ...g, count: 2 }], options);
     const logS3 =
-      g.count >= 3 ? logChoose(g.count, 3) + jointLogTail(side, total, [{ ...g, count: 3 }]) : -Infinity;
+      g.count >= 3 ? logChoose(g.count, 3) + jointLogTail(side, total, [{ ...g, count: 3 }], options) : -Infinity;
     // S1 - S2 + S3: an upper Bonferroni bound whose error is at most S4 <= S1 * S3 / 4.
     const value = logDifference(logAddExp(logS1, logS3), logS2);
     return {
@@ -146,14 +157,14 @@ export function anyShardTail(
       if (live[a].count >= 2) {
         logS2 = logAddExp(
           logS2,
-          logChoose(live[a].count, 2) + jointLogTail(side, total, [{ ...live[a], count: 2 }]),
+          logChoose(live[a].count, 2) + jointLogTail(side, total, [{ ...live[a], count: 2 }], options),
         );
       }
       for (let b = a + 1; b < live.length; b++) {
         const pair = jointLogTail(side, total, [
           { ...live[a], count: 1 },
           { ...live[b], count: 1 },
-        ]);
+        ], options);
         logS2 = logAddExp(logS2, Math.log(live[a].count) + Math.log(live[b].count) + pair);
       }
     }
@@ -185,10 +196,10 @@ export function anyShardTail(
             { ...live[second], count: 1 },
           ];
     const logPairProduct = live[top].count >= 2 ? 2 * logTails[top] : logTails[top] + logTails[second];
-    const logRatio = Math.min(0, jointLogTail(side, total, pairGroups) - logPairProduct);
+    const logRatio = Math.min(0, jointLogTail(side, total, pairGroups, options) - logPairProduct);
     const value = logDifference(logS1, logIndependent + logRatio);
     return { logProbability: value, method: 'inclusion-exclusion', relativeError: Math.max(1e-9, s1 / 2) };
   }
-  return complementLogTail(side, total, live);
+  return complementLogTail(side, total, live, options);
 }
 

@@ -1,3 +1,4 @@
+import type { BoxOptions } from './box-probability.js';
 import { anyShardTail, type TailProbability, type ThresholdGroup } from './extreme-load.js';
 import { shareClasses, type Placement } from './placement.js';
 
@@ -32,9 +33,9 @@ function groups(placement: Placement, relative: number, side: 'high' | 'low'): T
  * Cost: O(distinct shares) tails and box probabilities. Error: relative <= 1e-3 on [1e-15, 1].
  * Example: fullestTail(makePlacement(23, 365), 2 * 365 / 23) = 0.5072972343239857.
  */
-export function fullestTail(placement: Placement, relative: number): TailProbability {
+export function fullestTail(placement: Placement, relative: number, options: BoxOptions = {}): TailProbability {
   if (placement.total === 0 || relative <= 0) return { logProbability: 0, method: 'certain', relativeError: 0 };
-  return anyShardTail('high', placement.total, groups(placement, relative, 'high'));
+  return anyShardTail('high', placement.total, groups(placement, relative, 'high'), options);
 }
 
 /**
@@ -42,10 +43,10 @@ export function fullestTail(placement: Placement, relative: number): TailProbabi
  * observed minimum. Cost and error as fullestTail.
  * Example: emptiestTail(makePlacement(2, 2), 0) = 0.5 (both requests on one shard).
  */
-export function emptiestTail(placement: Placement, relative: number): TailProbability {
+export function emptiestTail(placement: Placement, relative: number, options: BoxOptions = {}): TailProbability {
   if (relative < 0) return { logProbability: -Infinity, method: 'impossible', relativeError: 0 };
   if (placement.total === 0) return { logProbability: 0, method: 'certain', relativeError: 0 };
-  return anyShardTail('low', placement.total, groups(placement, relative, 'low'));
+  return anyShardTail('low', placement.total, groups(placement, relative, 'low'), options);
 }
 
 /** The largest expected count over the shards: the scale of one count in relative load. */
@@ -63,7 +64,8 @@ function unit(placement: Placement): number {
  */
 export function fullestQuantile(placement: Placement, level: number): number {
   if (placement.total === 0) return 0;
-  const exceeds = (t: number) => Math.exp(fullestTail(placement, t).logProbability) > 1 - level;
+  const exceeds = (quick: boolean) => (t: number) =>
+    Math.exp(fullestTail(placement, t, { quick }).logProbability) > 1 - level;
   return searchRelative(placement, exceeds, 'high');
 }
 
@@ -75,7 +77,8 @@ export function fullestQuantile(placement: Placement, level: number): number {
 export function emptiestQuantile(placement: Placement, level: number): number {
   if (placement.total === 0) return 0;
   // "u is below the quantile" <=> P(min r <= u) < level.
-  const below = (u: number) => Math.exp(emptiestTail(placement, u).logProbability) < level;
+  const below = (quick: boolean) => (u: number) =>
+    Math.exp(emptiestTail(placement, u, { quick }).logProbability) < level;
   return searchRelative(placement, below, 'low');
 }
 
@@ -84,7 +87,14 @@ export function emptiestQuantile(placement: Placement, level: number): number {
  * (true below the answer). For equal shares the answer is a whole count; for weighted
  * shares it is located to a relative 1e-9.
  */
-function searchRelative(placement: Placement, before: (t: number) => boolean, side: 'high' | 'low'): number {
+function searchRelative(
+  placement: Placement,
+  makeTest: (quick: boolean) => (t: number) => boolean,
+  side: 'high' | 'low',
+): number {
+  // Bracket and bisect with quick evaluations, then settle the last step with full accuracy.
+  const before = makeTest(true);
+  const accurate = makeTest(false);
   const step = unit(placement);
   const equal = placement.shares === null;
   const fair = placement.total / placement.shardCount;
@@ -111,6 +121,9 @@ function searchRelative(placement: Placement, before: (t: number) => boolean, si
       if (test(mid)) lo = mid;
       else hi = mid;
     }
+    const exact = (k: number) => (side === 'high' ? accurate((k + 1) / fair) : accurate(k / fair));
+    while (exact(hi) && hi < placement.total) hi++;
+    while (hi > 0 && !exact(hi - 1)) hi--;
     return hi / fair;
   }
   let lo = side === 'high' ? 1 : 0;
@@ -124,9 +137,18 @@ function searchRelative(placement: Placement, before: (t: number) => boolean, si
   } else if (!before(0)) {
     return 0;
   }
-  for (let i = 0; i < 200 && hi - lo > 1e-9 * hi; i++) {
+  // Quick bisection to a relative 1e-4, then full accuracy to 1e-9 (widening if the quick
+  // bracket was off).
+  for (let i = 0; i < 200 && hi - lo > 1e-4 * hi; i++) {
     const mid = (lo + hi) / 2;
     if (before(mid)) lo = mid;
+    else hi = mid;
+  }
+  while (lo > (side === 'high' ? 1 : 0) && !accurate(lo)) lo = Math.max(side === 'high' ? 1 : 0, lo - 2 * (hi - lo));
+  while (accurate(hi)) hi += 2 * (hi - lo);
+  for (let i = 0; i < 200 && hi - lo > 1e-9 * hi; i++) {
+    const mid = (lo + hi) / 2;
+    if (accurate(mid)) lo = mid;
     else hi = mid;
   }
   return hi;

