@@ -1,4 +1,4 @@
-import gammainc from '@stdlib/math-base-special-gammainc';
+import { pnorm } from 'lib-r-math.js';
 import { boxLogProbability } from './box-probability.js';
 import { logChoose } from './discrete-densities.js';
 import { anyShardTail } from './extreme-load.js';
@@ -84,9 +84,58 @@ function logEmptyExactly(total: number, shards: number, empty: number): number {
   return logChoose(shards, empty) + total * Math.log1p(-empty / shards) + allHit.logProbability;
 }
 
+/** Steps of the occupancy chain we accept for an exact answer (N * min(N, m)). */
+const OCCUPANCY_CHAIN_BUDGET = 2e7;
+
+/**
+ * log P(E >= observed) from the exact occupancy chain: after each request the number of
+ * occupied shards k stays with probability k/m or grows by one with probability (m - k)/m
+ * (Feller 1968, vol. 1, ch. IX.9). Kept rescaled so that no state underflows while it can
+ * still matter. O(N min(N, m)).
+ */
+function occupancyChainTail(total: number, shards: number, observed: number): number {
+  const states = Math.min(total, shards) + 1;
+  let current = new Float64Array(states);
+  let next = new Float64Array(states);
+  current[0] = 1;
+  let logScale = 0;
+  for (let ball = 1; ball <= total; ball++) {
+    next.fill(0);
+    const top = Math.min(ball, shards);
+    let peak = 0;
+    for (let k = 1; k <= top; k++) {
+      const stay = current[k] * (k / shards);
+      const grow = current[k - 1] * ((shards - k + 1) / shards);
+      next[k] = stay + grow;
+      if (next[k] > peak) peak = next[k];
+    }
+    if (peak < 1e-200) {
+      for (let k = 0; k <= top; k++) next[k] /= peak;
+      logScale += Math.log(peak);
+    }
+    [current, next] = [next, current];
+  }
+  // E >= observed  <=>  occupied <= m - observed.
+  let tail = 0;
+  let all = 0;
+  const limit = shards - observed;
+  for (let k = 0; k < states; k++) {
+    all += current[k];
+    if (k <= limit) tail += current[k];
+  }
+  // Complement when the wanted side is the big one keeps relative precision for tiny tails.
+  if (tail > 0.5 * all) {
+    let rest = 0;
+    for (let k = limit + 1; k < states; k++) rest += current[k];
+    return Math.log1p(-rest / all);
+  }
+  return tail > 0 ? Math.log(tail) + logScale : -Infinity;
+}
+
 /**
  * log P(E >= observed), the empty-shard p-value.
- * Equal shares: the exact point probabilities (logEmptyExactly) summed from the observed
+ * Equal shares: the exact occupancy chain when N min(N, m) <= 2e7, otherwise the exact
+ * point probabilities (logEmptyExactly) summed from the observed
  * count outward (or the complement summed on the other side when that side is smaller),
  * until terms fall below 1e-18 of the sum. Weighted shares: exact for observed = 1
  * (P(some shard empty), the emptiest-shard machinery), otherwise the normal limit with
@@ -109,6 +158,9 @@ export function emptyShardsTail(placement: Placement, observed: number): EmptySh
     const z = (observed - 0.5 - mean) / Math.sqrt(Math.max(variance, 1e-300));
     return { logProbability: logNormalUpper(z), method: 'normal' };
   }
+  if (n * Math.min(n, m) <= OCCUPANCY_CHAIN_BUDGET) {
+    return { logProbability: occupancyChainTail(n, m, observed), method: 'exact' };
+  }
   const { mean } = emptyShardMoments(placement);
   const maxEmpty = m - (n > 0 ? 1 : 0);
   const sumFrom = (start: number, stop: number, direction: 1 | -1) => {
@@ -124,11 +176,7 @@ export function emptyShardsTail(placement: Placement, observed: number): EmptySh
   return { logProbability: log1mExp(Math.min(0, sumFrom(observed - 1, minEmpty, -1))), method: 'exact-terms' };
 }
 
-/** log P(Z >= z) for a standard normal Z: regularized incomplete gamma (stdlib gammainc), Mills' ratio series past underflow. */
+/** log P(Z >= z) for a standard normal Z: lib-r-math.js pnorm(z, 0, 1, false, true) (R's pnorm). */
 function logNormalUpper(z: number): number {
-  const half = 0.5 * gammainc((z * z) / 2, 0.5, true, true);
-  if (z < 0) return log1mExp(Math.log(half));
-  if (half > 1e-280) return Math.log(half);
-  const inverse = 1 / (z * z);
-  return -0.5 * z * z - Math.log(z * Math.sqrt(2 * Math.PI)) + Math.log1p(-inverse + 3 * inverse * inverse);
+  return pnorm(z, 0, 1, false, true);
 }

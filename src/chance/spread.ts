@@ -1,5 +1,4 @@
-import gammainc from '@stdlib/math-base-special-gammainc';
-import gammaln from '@stdlib/math-base-special-gammaln';
+import { pchisq } from 'lib-r-math.js';
 import type { Placement } from './placement.js';
 import { shareOf } from './placement.js';
 
@@ -29,7 +28,7 @@ export interface Spread {
  * the moments of the distribution of chi-square", Biometrika 29. A scaled chi-square
  * c chi^2_nu with c nu = m - 1 and 2 c^2 nu = that variance (Satterthwaite 1946) is used
  * for the p-value; for equal shares with many requests per shard it is the classical
- * chi^2_{m-1}. Upper tail by the regularized incomplete gamma (stdlib gammainc(x, a, true, true)).
+ * chi^2_{m-1}. Upper tail by lib-r-math.js pchisq(x, nu, undefined, false, true) (R's pchisq, in log space).
  * O(m). Example: counts [5, 5] under equal shares give X^2 = 0 and p-value 1.
  */
 export function spreadTest(placement: Placement, counts: ArrayLike<number>): Spread {
@@ -52,8 +51,7 @@ export function spreadTest(placement: Placement, counts: ArrayLike<number>): Spr
   const nullVariance = Math.max(1e-12, 2 * df + (inverseShares - m * m - 2 * m + 2) / n);
   const scale = nullVariance / (2 * df);
   const nu = (2 * df * df) / nullVariance;
-  const upper = gammainc(chiSquare / scale / 2, nu / 2, true, true);
-  const logProbability = upper > 1e-280 ? Math.log(upper) : logChiSquareUpperFar(chiSquare / scale, nu);
+  const logProbability = pchisq(chiSquare / scale, nu, undefined, false, true);
   const dispersion = chiSquare / df;
   return {
     chiSquare,
@@ -63,21 +61,6 @@ export function spreadTest(placement: Placement, counts: ArrayLike<number>): Spr
     nullVariance,
     effectiveTotal: dispersion > 0 ? n / Math.max(dispersion, 1) : n,
   };
-}
-
-/** log of the chi-square upper tail where it underflows: leading term of the asymptotic series. */
-function logChiSquareUpperFar(x: number, nu: number): number {
-  const a = nu / 2;
-  const h = x / 2;
-  // Q(a, h) ~ h^(a-1) e^-h / Gamma(a) * (1 + (a-1)/h + ...), h >> a.
-  let series = 1;
-  let term = 1;
-  for (let k = 1; k < 30; k++) {
-    term *= (a - k) / h;
-    if (Math.abs(term) < 1e-17) break;
-    series += term;
-  }
-  return (a - 1) * Math.log(h) - h - gammaln(a) + Math.log(Math.max(series, 1e-300));
 }
 
 /**

@@ -2,7 +2,7 @@
 """Independent reference values for the chance engine's tests.
 
 Run:  python3 test/chance/reference/make-reference.py > test/chance/reference/exact.json
-Needs: pip install python-flint==0.9.0 scipy==1.17.1 (both from PyPI).
+Needs: pip install python-flint==0.9.0 scipy==1.17.1 mpmath==1.3.0 (all from PyPI).
 
 Nothing here shares code with src/chance. The methods are the textbook ones:
 - equal shares, fullest shard: P(max <= b) = N!/m^N [x^N] (sum_{j<=b} x^j/j!)^m,
@@ -102,7 +102,7 @@ def floor_fraction(x):
     return x.numerator // x.denominator
 
 
-out = {"equalMax": [], "equalMin": [], "weightedMax": [], "weightedMin": [], "empty": [], "twoThree": []}
+out = {"tails": [], "equalMax": [], "equalMin": [], "weightedMax": [], "weightedMin": [], "empty": [], "twoThree": []}
 
 EQUAL_CASES = [
     (365, 23), (365, 88), (10, 50), (64, 100), (64, 1000), (64, 6400), (1000, 1000),
@@ -202,5 +202,59 @@ for N in [30000, 10 ** 6]:
                 continue
             total += binom.pmf(x1, N, 1 / 3) * (binom.cdf(b, n2, 0.5) - binom.cdf(low2 - 1, n2, 0.5))
         out["twoThree"].append({"shards": 3, "requests": N, "atLeast": k, "p": float(1 - total)})
+
+# Single-shard tails at large and extreme arguments: binomial from scipy.stats.binom (checked
+# against mpmath.betainc at 40 digits for Binomial(1e9, 1e-5) at k = 9900 and 10000).
+for n, p in [(10 ** 9, 1e-5), (10 ** 9, 0.5), (10 ** 6, 1e-3), (1000, 0.5), (200, 0.01)]:
+    mean = n * p
+    sd = math.sqrt(n * p * (1 - p))
+    for z in [-30, -8, -3, -1, 0, 1, 3, 8, 30]:
+        k = math.floor(mean + z * sd)
+        if k < 0 or k > n:
+            continue
+        out["tails"].append({"law": "binomial", "n": n, "share": p, "k": k,
+                             "atMost": float(binom.cdf(k, n, p)), "atLeast": float(binom.sf(k - 1, n, p))})
+# Poisson tails by mpmath at 50 digits: the smaller tail summed term by term from its first
+# density (scipy 1.17.1 poisson.sf was found off by 24% at mean 1e8, k = mean + 8 sd; mpmath
+# agrees with an independent summation there).
+import mpmath as mp
+
+mp.mp.dps = 50
+
+
+def poisson_run(k, mean, upward):
+    lam = mp.mpf(mean)
+    first = mp.exp(-lam + k * mp.log(lam) - mp.loggamma(k + 1)) if k > 0 else mp.exp(-lam)
+    term = mp.mpf(1)
+    total = mp.mpf(1)
+    j = k
+    while True:
+        if upward:
+            j += 1
+            term *= lam / j
+        else:
+            if j == 0:
+                break
+            term *= j / lam
+            j -= 1
+        total += term
+        if term < total * mp.mpf(10) ** -30:
+            break
+    return first * total
+
+
+for mean in [0.5, 30, 1e4, 1e8]:
+    sd = math.sqrt(mean)
+    for z in [-8, -3, 0, 3, 8, 30]:
+        k = math.floor(mean + z * sd)
+        if k < 0:
+            continue
+        if k + 1 > mean:
+            upper = poisson_run(k + 1, mean, True)
+            at_most, at_least = 1 - upper, upper + mp.exp(-mp.mpf(mean) + k * mp.log(mean) - mp.loggamma(k + 1))
+        else:
+            lower = poisson_run(k, mean, False)
+            at_most, at_least = lower, 1 - lower + mp.exp(-mp.mpf(mean) + k * mp.log(mean) - mp.loggamma(k + 1))
+        out["tails"].append({"law": "poisson", "mean": mean, "k": k, "atMost": float(at_most), "atLeast": float(at_least)})
 
 print(json.dumps(out, indent=1))

@@ -1,0 +1,76 @@
+#!/usr/bin/env node
+import { UsageError } from '../window/errors.js';
+import type { Command, CommandIO } from './command.js';
+import { oddsCommand } from './odds.js';
+import { planCommand } from './plan.js';
+
+/**
+ * Entry point: picks the subcommand, runs it, and is the only place that decides the exit
+ * code (0 success, 2 bad usage with a one-line reason, 1 runtime failure).
+ */
+
+const COMMANDS: readonly Command[] = [oddsCommand, planCommand];
+
+function topHelp(): string {
+  const width = Math.max(...COMMANDS.map((c) => c.name.length));
+  return [
+    'shardwise: tell a true shard hotspot from the chance skew of random placement.',
+    '',
+    'Usage: shardwise <command> [options]    (shardwise <command> --help for its options)',
+    '',
+    'Commands:',
+    ...COMMANDS.map((c) => `  ${c.name.padEnd(width)}  ${c.summary}`),
+    '',
+    'Verdicts are statistical evidence under a stated null model, not certainty; operators decide.',
+    '',
+  ].join('\n');
+}
+
+/** Runs the command line and resolves to the exit code. */
+export async function main(argv: readonly string[], io: CommandIO): Promise<number> {
+  const debug = argv.includes('--debug');
+  const args = argv.filter((a) => a !== '--debug');
+  const [name, ...rest] = args;
+  if (name === undefined || name === '--help' || name === '-h' || name === 'help') {
+    io.stdout.write(topHelp());
+    return name === undefined ? 2 : 0;
+  }
+  if (name === '--version') {
+    io.stdout.write('shardwise 0.1.0\n');
+    return 0;
+  }
+  const command = COMMANDS.find((c) => c.name === name);
+  if (!command) {
+    io.stderr.write(`shardwise: unknown command ${JSON.stringify(name)} (commands: ${COMMANDS.map((c) => c.name).join(', ')})\n`);
+    return 2;
+  }
+  if (rest.includes('--help') || rest.includes('-h')) {
+    io.stdout.write(command.help);
+    return 0;
+  }
+  try {
+    return await command.run(rest, io);
+  } catch (error) {
+    if (error instanceof UsageError) {
+      io.stderr.write(`shardwise ${command.name}: ${error.message}\n`);
+      return 2;
+    }
+    const message = error instanceof Error ? error.message : String(error);
+    io.stderr.write(`shardwise ${command.name}: ${message}\n`);
+    if (debug && error instanceof Error && error.stack) io.stderr.write(`${error.stack}\n`);
+    return 1;
+  }
+}
+
+const invokedDirectly = process.argv[1] !== undefined && import.meta.url.endsWith(process.argv[1].replace(/.*\/dist\//, '/dist/'));
+if (invokedDirectly || process.env.SHARDWISE_MAIN === '1') {
+  main(process.argv.slice(2), { stdout: process.stdout, stderr: process.stderr, stdin: process.stdin, env: process.env }).then(
+    (code) => {
+      process.exitCode = code;
+    },
+    (error: unknown) => {
+      process.stderr.write(`shardwise: ${error instanceof Error ? error.message : String(error)}\n`);
+      process.exitCode = 1;
+    },
+  );
+}

@@ -1,0 +1,75 @@
+import { parseArgs, type ParseArgsConfig } from 'node:util';
+import { UsageError } from '../window/errors.js';
+
+/**
+ * Parsing of command-line values with messages that name the option and the value, so a
+ * typo fails at start-up with one line (exit 2) and never halfway through a run.
+ */
+
+/** node:util parseArgs in strict mode, with its errors turned into UsageError. */
+export function parseOptions<T extends NonNullable<ParseArgsConfig['options']>>(
+  argv: readonly string[],
+  options: T,
+): ReturnType<typeof parseArgs<{ args: string[]; options: T; strict: true; allowPositionals: false }>>['values'] {
+  try {
+    return parseArgs({ args: [...argv], options, strict: true, allowPositionals: false }).values;
+  } catch (error) {
+    const message = error instanceof Error ? error.message : String(error);
+    const unknown = /Unknown option '([^']+)'/.exec(message);
+    if (unknown) throw new UsageError(unknown[1], unknown[1], 'is not an option of this command (see --help)');
+    const missing = /Option '([^']+?)(?: <value>)?' argument missing/.exec(message);
+    if (missing) throw new UsageError(missing[1].split(',').pop()!.trim(), '', 'needs a value');
+    const unexpected = /Unexpected argument '([^']+)'/.exec(message);
+    if (unexpected) throw new UsageError('argument', unexpected[1], 'is not expected (options start with --)');
+    throw new UsageError('arguments', argv.join(' '), message.split('\n')[0]);
+  }
+}
+
+/** A whole number in [min, 2^53 - 1]. */
+export function wholeNumber(option: string, raw: string, min = 0): number {
+  const text = raw.trim();
+  if (!/^[+]?\d+(\.0+)?$|^[+]?\d+(\.\d+)?e[+]?\d+$/i.test(text)) {
+    throw new UsageError(option, raw, 'is not a whole number');
+  }
+  const value = Number(text);
+  if (!Number.isInteger(value)) throw new UsageError(option, raw, 'is not a whole number');
+  if (!Number.isSafeInteger(value)) throw new UsageError(option, raw, 'is beyond 2^53 - 1, the largest exact count');
+  if (value < min) throw new UsageError(option, raw, `must be at least ${min}`);
+  return value;
+}
+
+/** A finite number in (min, max] or [min, max]. */
+export function finiteNumber(
+  option: string,
+  raw: string,
+  range: { min?: number; max?: number; minExclusive?: boolean; maxExclusive?: boolean } = {},
+): number {
+  const value = Number(raw.trim());
+  if (raw.trim() === '' || !Number.isFinite(value)) throw new UsageError(option, raw, 'is not a number');
+  const { min, max, minExclusive, maxExclusive } = range;
+  if (min !== undefined && (minExclusive ? value <= min : value < min)) {
+    throw new UsageError(option, raw, `must be ${minExclusive ? 'above' : 'at least'} ${min}`);
+  }
+  if (max !== undefined && (maxExclusive ? value >= max : value > max)) {
+    throw new UsageError(option, raw, `must be ${maxExclusive ? 'below' : 'at most'} ${max}`);
+  }
+  return value;
+}
+
+/** A probability strictly between 0 and 1 (alpha, quantile levels, targets). */
+export function probability(option: string, raw: string): number {
+  return finiteNumber(option, raw, { min: 0, max: 1, minExclusive: true, maxExclusive: true });
+}
+
+const DURATION_UNITS: Record<string, number> = { ms: 1, s: 1000, m: 60_000, h: 3_600_000, d: 86_400_000 };
+
+/** A duration like 250ms, 10s, 5m, 1h, 1d (a bare number is seconds); returned in milliseconds. */
+export function duration(option: string, raw: string, { allowZero = false } = {}): number {
+  const match = /^(\d+(?:\.\d+)?)(ms|s|m|h|d)?$/.exec(raw.trim());
+  if (!match) throw new UsageError(option, raw, 'is not a duration (examples: 500ms, 10s, 5m, 1h)');
+  const ms = Number(match[1]) * DURATION_UNITS[match[2] ?? 's'];
+  if (!Number.isFinite(ms) || (!allowZero && ms <= 0) || !Number.isInteger(Math.round(ms))) {
+    throw new UsageError(option, raw, allowZero ? 'must be a duration of zero or more' : 'must be a duration above zero');
+  }
+  return Math.round(ms);
+}

@@ -1,0 +1,41 @@
+import { describe, expect, it } from 'vitest';
+import { emptyShardMoments, emptyShardsTail } from '../../src/chance/empty-shards.js';
+import { makePlacement } from '../../src/chance/placement.js';
+import { reference, relativeError } from './reference-data.js';
+
+describe('empty shards', () => {
+  it('mean is m (1 - 1/m)^N and N = m gives about m/e (classical occupancy problem, Feller vol. 1)', () => {
+    for (const [m, n] of [[10, 7], [365, 23], [1000, 5000]] as const) {
+      expect(relativeError(emptyShardMoments(makePlacement(n, m)).mean, m * (1 - 1 / m) ** n)).toBeLessThan(1e-12);
+    }
+    const m = 100000;
+    expect(relativeError(emptyShardMoments(makePlacement(m, m)).mean, m / Math.E)).toBeLessThan(1e-4);
+  });
+
+  const exact = reference.empty;
+  it('mean and variance match exact occupancy probabilities (exact Stirling numbers, python-flint)', () => {
+    for (const c of exact.filter((e) => e.mean !== undefined)) {
+      const moments = emptyShardMoments(makePlacement(c.requests, c.shards));
+      expect(relativeError(moments.mean, c.mean!)).toBeLessThan(1e-9);
+      expect(relativeError(moments.variance, c.variance!)).toBeLessThan(1e-7);
+    }
+  });
+
+  it('the weighted variance formula with equal weights equals the equal-share one (pair sum identity)', () => {
+    const weights = new Array(40).fill(1);
+    weights[0] = 1 + 1e-12; // forces the weighted path
+    const weighted = emptyShardMoments(makePlacement(60, 40, weights));
+    const equal = emptyShardMoments(makePlacement(60, 40));
+    expect(relativeError(weighted.variance, equal.variance)).toBeLessThan(1e-6);
+  });
+
+  const tails = exact.filter((e) => e.atLeast !== undefined && e.p! >= 1e-15);
+  it(`P(E >= e) matches exact occupancy (${tails.length} cases) within 1e-3 relative`, () => {
+    const failures: string[] = [];
+    for (const c of tails) {
+      const p = Math.exp(emptyShardsTail(makePlacement(c.requests, c.shards), c.atLeast!).logProbability);
+      if (!(relativeError(p, c.p!) <= 1e-3)) failures.push(`m=${c.shards} N=${c.requests} e=${c.atLeast}: ${p} vs ${c.p}`);
+    }
+    expect(failures).toEqual([]);
+  });
+});
