@@ -46,6 +46,8 @@ const SINGLE_GROUP_SWITCH = 0.1;
 const FEW_GROUPS_SWITCH = 0.03;
 /** Switch-over for many groups, where S2 is estimated from the leading pair. */
 const MANY_GROUPS_SWITCH = 2e-3;
+/** From this S1 on, an exact box complement is preferred to inclusion-exclusion. */
+const EXACT_COMPLEMENT_FROM = 1e-4;
 /** Up to this many groups, all pairwise joint tails are computed. */
 const FEW_GROUPS = 6;
 
@@ -138,6 +140,12 @@ export function anyShardTail(
   const shardCount = live.reduce((n, g) => n + g.count, 0);
   if (shardCount === 1) return { logProbability: logS1, method: 'single-shard', relativeError: 1e-13 };
 
+  if (s1 >= EXACT_COMPLEMENT_FROM && s1 <= SINGLE_GROUP_SWITCH) {
+    // Where the box is cheap enough to be exact, its complement beats the truncated series
+    // (absolute error about 1e-16, so relative 1e-12 even at the switch-over).
+    const complement = complementLogTail(side, total, live, { quick: true });
+    if (complement.method === 'complement-exact') return complement;
+  }
   if (live.length === 1 && s1 <= SINGLE_GROUP_SWITCH) {
     const g = live[0];
     const logS2 = logChoose(g.count, 2) + jointLogTail(side, total, [{ ...g, count: 2 }], options);

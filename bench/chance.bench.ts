@@ -1,0 +1,52 @@
+/**
+ * Speed of one full window summary (fullest and emptiest p-values, chance ceiling and floor,
+ * empty-shard test, spread) at the sizes MODEL.md sets: equal shares m = 1e5, N = 1e9
+ * (target < 10 ms) and weighted shares m = 1e5 (target < 50 ms).
+ * Run: npx tsx bench/chance.bench.ts   (not part of npm test)
+ */
+import { makePlacement } from '../src/chance/placement.js';
+import { summarizeWindow } from '../src/chance/window-summary.js';
+import { RandomDraws } from '../src/scenario/random-draws.js';
+
+function measure(name: string, build: () => { placement: ReturnType<typeof makePlacement>; counts: Float64Array }, runs: number): void {
+  const { placement, counts } = build();
+  for (let i = 0; i < 3; i++) summarizeWindow(placement, counts, 0.001);
+  const times: number[] = [];
+  for (let i = 0; i < runs; i++) {
+    const t = performance.now();
+    summarizeWindow(placement, counts, 0.001);
+    times.push(performance.now() - t);
+  }
+  times.sort((a, b) => a - b);
+  const median = times[Math.floor(times.length / 2)];
+  const p90 = times[Math.floor(times.length * 0.9)];
+  console.log(`| ${name} | ${runs} | ${median.toFixed(2)} | ${p90.toFixed(2)} |`);
+}
+
+function windowOf(m: number, n: number, weights: Float64Array | null, seed: number) {
+  const draws = new RandomDraws(seed);
+  const counts = new Float64Array(m);
+  let sumW = 0;
+  if (weights) for (const w of weights) sumW += w;
+  let total = 0;
+  for (let i = 0; i < m; i++) {
+    counts[i] = draws.poisson(weights ? (n * weights[i]) / sumW : n / m);
+    total += counts[i];
+  }
+  return { placement: makePlacement(total, m, weights ?? undefined), counts };
+}
+
+console.log('| window summary | runs | median ms | p90 ms |');
+console.log('| --- | --- | --- | --- |');
+measure('equal shares, m = 1e5, N = 1e9', () => windowOf(1e5, 1e9, null, 1), 50);
+measure('equal shares, m = 1e4, N = 1e6', () => windowOf(1e4, 1e6, null, 2), 50);
+measure('equal shares, m = 64, N = 1e5', () => windowOf(64, 1e5, null, 3), 50);
+const tokens = new RandomDraws(4);
+const weights = new Float64Array(1e5);
+// Hash-range sizes of a ring with 16 random tokens per shard: a gamma(16)-like spread (CV 1/4).
+for (let i = 0; i < weights.length; i++) {
+  let w = 0;
+  for (let t = 0; t < 16; t++) w -= Math.log(1 - tokens.uniform());
+  weights[i] = w;
+}
+measure('weighted shares (16 tokens per shard), m = 1e5, N = 1e9', () => windowOf(1e5, 1e9, weights, 5), 10);
