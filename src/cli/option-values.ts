@@ -11,8 +11,21 @@ export function parseOptions<T extends NonNullable<ParseArgsConfig['options']>>(
   argv: readonly string[],
   options: T,
 ): ReturnType<typeof parseArgs<{ args: string[]; options: T; strict: true; allowPositionals: false }>>['values'] {
+  // A negative number after a value option is that option's value ("--shards -3"), so that
+  // the error says what is wrong with it rather than that it looks like an option.
+  const args: string[] = [];
+  for (let i = 0; i < argv.length; i++) {
+    const name = argv[i].startsWith('--') ? argv[i].slice(2) : '';
+    const next = argv[i + 1];
+    if (name !== '' && options[name]?.type === 'string' && next !== undefined && /^-\d|^-\.\d/.test(next)) {
+      args.push(`${argv[i]}=${next}`);
+      i++;
+    } else {
+      args.push(argv[i]);
+    }
+  }
   try {
-    return parseArgs({ args: [...argv], options, strict: true, allowPositionals: false }).values;
+    return parseArgs({ args, options, strict: true, allowPositionals: false }).values;
   } catch (error) {
     const message = error instanceof Error ? error.message : String(error);
     const unknown = /Unknown option '([^']+)'/.exec(message);

@@ -6,6 +6,7 @@ import { readFileSync } from 'node:fs';
  * scipy.stats.binom 1.17.1); see that script's header for each method.
  */
 export interface ReferenceData {
+  chiSquare: { df: number; x: number; upper: number }[];
   tails: { law: 'binomial' | 'poisson'; n?: number; share?: number; mean?: number; k: number; atMost: number; atLeast: number }[];
   equalMax: { shards: number; requests: number; atLeast: number; p: number }[];
   equalMin: { shards: number; requests: number; atMost: number; p: number }[];

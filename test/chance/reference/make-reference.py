@@ -102,7 +102,7 @@ def floor_fraction(x):
     return x.numerator // x.denominator
 
 
-out = {"tails": [], "equalMax": [], "equalMin": [], "weightedMax": [], "weightedMin": [], "empty": [], "twoThree": []}
+out = {"chiSquare": [], "tails": [], "equalMax": [], "equalMin": [], "weightedMax": [], "weightedMin": [], "empty": [], "twoThree": []}
 
 EQUAL_CASES = [
     (365, 23), (365, 88), (10, 50), (64, 100), (64, 1000), (64, 6400), (1000, 1000),
@@ -256,5 +256,14 @@ for mean in [0.5, 30, 1e4, 1e8]:
             lower = poisson_run(k, mean, False)
             at_most, at_least = lower, 1 - lower + mp.exp(-mp.mpf(mean) + k * mp.log(mean) - mp.loggamma(k + 1))
         out["tails"].append({"law": "poisson", "mean": mean, "k": k, "atMost": float(at_most), "atLeast": float(at_least)})
+
+# Chi-square upper tails by mpmath.gammainc(df/2, x/2, inf, regularized=True) at 30 digits.
+for df in [1, 5, 63, 1023, 99999]:
+    for z in [-2, 0, 2, 5, 10, 40]:
+        x = df + z * math.sqrt(2 * df)
+        if x <= 0:
+            continue
+        value = mp.gammainc(mp.mpf(df) / 2, mp.mpf(x) / 2, mp.inf, regularized=True)
+        out["chiSquare"].append({"df": df, "x": x, "upper": float(value)})
 
 print(json.dumps(out, indent=1))
