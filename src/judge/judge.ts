@@ -1,0 +1,518 @@
+import { probabilityFromLog } from '../chance/log-space.js';
+import type { Placement } from '../chance/placement.js';
+import { spreadTest } from '../chance/spread.js';
+import { logBinomialAtLeast, logBinomialAtMost } from '../chance/tails.js';
+import type { ClosedWindow } from '../window/event-time-window.js';
+import type { ShardUniverse } from '../window/shard-universe.js';
+import { BaselineShares } from './baseline-shares.js';
+import { ChanceMemo } from './chance-memo.js';
+import { robustSpread, scaleCounts } from './dispersion-scaling.js';
+import { IncidentTracker, trackingKey, type TrackedIncident } from './incident-tracker.js';
+import { checkJudgeSettings, type JudgeSettings } from './judge-settings.js';
+import type {
+  BaselineStatus,
+  ExtremeShardVerdict,
+  Finding,
+  FlaggedShard,
+  Incident,
+  Judgement,
+  LoadLevel,
+} from './judgement.js';
+
+const dayMs = 86_400_000;
+/**
+ * Relative loads are compared with the ceiling and floor with this slack: both are
+ * quotients of whole counts by the fair share, computed in different orders, and a shard
+ * exactly at the ceiling must not be flagged by a rounding error.
+ */
+const comparisonSlack = 1e-9;
+/**
+ * Fewest shards for which auto turns robust. The robust spread is a median of squared
+ * residuals; with few shards the excess of one shard depresses all the others visibly
+ * (each by 1/m of it), so every residual is large and the median reads one hotspot as a
+ * general spread (with 2 shards both residuals are always equal). From 16 shards one
+ * shard's excess moves the others by at most 1/16 of it. Our choice, stated.
+ */
+const leastShardsForRobust = 16;
+
+/** The shares a window is judged against, and what they rest on. */
+interface NullShares {
+  /** Null: equal shares (the engine's fast path). */
+  readonly shares: Float64Array | null;
+  /** Changes whenever the shares do (cache key). */
+  readonly version: string;
+  /** 1 / (1 + N / S_eff) under a ready baseline, else 1. */
+  readonly uncertainty: number;
+  readonly baseline?: BaselineStatus;
+}
+
+/**
+ * Judges closed windows: null model, spread mode, findings, flagged shards and persistence
+ * (MODEL.md, "Verdicts"). Pure: no I/O, no clock; state is the persistence streaks, the
+ * learned baseline and a memo of chance answers. Settings are checked when it is built.
+ *
+ * Per window: one O(m) pass for the loads, the spread test and the robust spread (O(m)),
+ * the chance ceiling and floor (remembered per total), the fullest/emptiest/empty tails,
+ * and adjusted p-values for at most --max-flagged shards per side: only shards above the
+ * chance ceiling (below the floor) can have an adjusted p at or below alpha, by the
+ * definition of the ceiling as the (1 - alpha) quantile of the fullest shard's load.
+ *
+ * The false-incident rate is windows_per_day x alpha^confirm, an approximation: it treats
+ * windows as independent (sliding windows overlap, so it understates there) and counts any
+ * shard's k-in-a-row as one, while by chance the same shard must repeat, so for tumbling
+ * windows it is an upper estimate.
+ */
+export class Judge {
+  readonly settings: JudgeSettings;
+  private readonly universe: ShardUniverse;
+  private readonly tracker: IncidentTracker;
+  private readonly baseline: BaselineShares | null;
+  private readonly memo: ChanceMemo;
+  /** Memo keys: declared shares belong to a universe, learned ones to one judge. */
+  private readonly universeKey: number;
+  private readonly judgeKey: number;
+  private declaredCache: { size: number; shares: Float64Array | null } | null = null;
+  private scratch = new Float64Array(0);
+  private judgedScratch = new Float64Array(0);
+  private exactScratch = new Float64Array(0);
+
+  /**
+   * @param universe the shards the windows count (ids, declared shares, declared or growing)
+   * @param settings checked here; a bad value throws a UsageError naming its option
+   * @param options `memo`: chance answers shared with other judges (the same windows judged
+   *   under several settings, as a review or a calibration run does)
+   */
+  constructor(
+    universe: ShardUniverse,
+    settings: JudgeSettings,
+    options: { memo?: ChanceMemo } = {},
+  ) {
+    this.settings = checkJudgeSettings(settings);
+    this.universe = universe;
+    this.memo = options.memo ?? new ChanceMemo();
+    this.universeKey = universeKeyOf(universe);
+    this.judgeKey = nextJudgeKey++;
+    this.tracker = new IncidentTracker(settings.confirm, settings.clear);
+    this.baseline =
+      settings.null === 'baseline' ? new BaselineShares(settings.baselineWindows) : null;
+  }
+
+  /** The approximate false-incident rate per day under random placement (see the class note). */
+  get falseIncidentsPerDay(): number {
+    return (dayMs / this.settings.hopMs) * this.settings.alpha ** this.settings.confirm;
+  }
+
+  /** Judges one closed window; windows must come in start order. */
+  judge(window: ClosedWindow): Judgement {
+    const s = this.settings;
+    const counts = window.counts;
+    const m = counts.length;
+    const n = window.total;
+    const coldTests = this.universe.declared;
+    const notes: string[] = [];
+    if (!coldTests) {
+      notes.push(
+        'cold tests off: no declared shard universe (--shards or --shard-map), so a shard that never reports cannot be seen',
+      );
+    }
+    this.ensureScratch(m);
+    const nullShares = this.nullShares(m, n);
+    if (nullShares.baseline !== undefined && !nullShares.baseline.ready) {
+      notes.push(
+        `baseline learning (${nullShares.baseline.learnedWindows} of ${nullShares.baseline.neededWindows} windows): judged against the declared shares; what happens now is learned as usual load`,
+      );
+    }
+    if (m === 0 || n === 0) return this.quietWindow(window, m, coldTests, nullShares, notes);
+    const shares = nullShares.shares;
+
+    // The spread, against the null shares (counts scaled only for a learned baseline's own noise).
+    let exactCounts: ArrayLike<number> = counts;
+    let exactTotal = n;
+    if (nullShares.uncertainty < 1) {
+      exactTotal = scaleCounts(counts, nullShares.uncertainty, this.exactScratch);
+      exactCounts = this.exactScratch;
+    }
+    const spread = spreadTest(placementOf(exactTotal, m, shares), exactCounts);
+    const spreadP = probabilityFromLog(spread.logProbability);
+    const robustPhi = robustSpread(counts, n, shares, this.scratch);
+
+    // The spread mode: how many independent placements the counts are worth.
+    const spreadRejects = spreadP <= s.alpha;
+    const tooFewForRobust = m < leastShardsForRobust;
+    const robust =
+      s.spread === 'robust' || (s.spread === 'auto' && spreadRejects && !tooFewForRobust);
+    if (robust && tooFewForRobust) {
+      notes.push(
+        `robust spread with only ${m} shards: the median residual cannot tell a general spread from one shard standing out`,
+      );
+    }
+    // Under a learned baseline the counts already carry 1 / uncertainty of extra variance,
+    // so that is the least dispersion the robust mode may assume.
+    const leastDispersion = 1 / nullShares.uncertainty;
+    const dispersion = robust ? Math.max(robustPhi, leastDispersion) : leastDispersion;
+    let judgedCounts: ArrayLike<number> = counts;
+    let judgedTotal = n;
+    if (dispersion > 1) {
+      judgedTotal = scaleCounts(counts, 1 / dispersion, this.judgedScratch);
+      judgedCounts = this.judgedScratch;
+    }
+    const spreadReason = describeSpreadMode(
+      m,
+      s,
+      robust,
+      spreadRejects,
+      spreadP,
+      spread.dispersion,
+      robustPhi,
+      dispersion,
+    );
+    const placement = placementOf(judgedTotal, m, shares);
+    const version = `${nullShares.version}|${m}`;
+
+    const ceilingRelative = this.memo.ceiling(placement, version, s.alpha);
+    const floorRelative = coldTests ? this.memo.floor(placement, version, s.alpha) : null;
+
+    // One pass: extremes on the judged loads, practical size on the real ones, candidates.
+    let fullest = 0;
+    let emptiest = 0;
+    let fullestJudged = -Infinity;
+    let emptiestJudged = Infinity;
+    let empties = 0;
+    const hotCandidates: number[] = [];
+    const coldCandidates: number[] = [];
+    const hotLine = ceilingRelative * (1 + comparisonSlack);
+    const coldLine = floorRelative === null ? -Infinity : floorRelative * (1 - comparisonSlack);
+    const leastHot = 1 + s.minExcess;
+    for (let shard = 0; shard < m; shard++) {
+      const share = shares === null ? 1 / m : shares[shard];
+      const judged = judgedCounts[shard] / (judgedTotal * share);
+      const real = counts[shard] / (n * share);
+      if (
+        judged > fullestJudged ||
+        (judged === fullestJudged && real > counts[fullest] / (n * shareAt(shares, fullest, m)))
+      ) {
+        fullestJudged = judged;
+        fullest = shard;
+      }
+      if (judged < emptiestJudged) {
+        emptiestJudged = judged;
+        emptiest = shard;
+      }
+      if (counts[shard] === 0) empties++;
+      if (judged > hotLine && real >= leastHot) hotCandidates.push(shard);
+      if (judged < coldLine) coldCandidates.push(shard);
+    }
+
+    const fullestP = probabilityFromLog(
+      this.memo.fullestTail(placement, version, fullestJudged).logProbability,
+    );
+    const fullestReal = counts[fullest] / (n * shareAt(shares, fullest, m));
+    const emptiestP = coldTests
+      ? probabilityFromLog(
+          this.memo.emptiestTail(placement, version, emptiestJudged).logProbability,
+        )
+      : null;
+    const emptyP = coldTests
+      ? probabilityFromLog(this.memo.emptyTail(placement, version, empties).logProbability)
+      : null;
+    const emptyExpected = this.memo.emptyMean(placement, version);
+
+    const hotspot = fullestP <= s.alpha && fullestReal >= leastHot;
+    const cold = coldTests && ((emptiestP as number) <= s.alpha || (emptyP as number) <= s.alpha);
+    const uneven = spreadRejects && spread.dispersion > s.minDispersion && !hotspot;
+    const tooLittle = ceilingRelative > s.maxDetectable;
+    const findings: Finding[] = [];
+    if (hotspot) findings.push('hotspot');
+    if (cold) findings.push('cold');
+    if (uneven) findings.push('uneven');
+    if (!hotspot && !cold && !uneven && !tooLittle) findings.push('chance');
+    if (tooLittle) findings.push('too little traffic');
+
+    const update = this.tracker.update(window.start, hotCandidates, coldCandidates, tooLittle);
+    const flagged = this.flag(
+      hotCandidates,
+      coldCandidates,
+      placement,
+      version,
+      judgedCounts,
+      counts,
+      n,
+      shares,
+      update.streaks,
+    );
+
+    if (this.baseline !== null) {
+      const learnable =
+        !this.baseline.ready ||
+        (!this.tracker.anyOpen && hotCandidates.length === 0 && coldCandidates.length === 0);
+      if (learnable) this.baseline.learn(counts, n);
+    }
+
+    const equalShares = shares === null;
+    const fairShare = n / m;
+    return {
+      window: { start: iso(window.start), end: iso(window.end) },
+      requests: n,
+      shards: m,
+      null: s.null,
+      ...(nullShares.baseline === undefined ? {} : { baseline: nullShares.baseline }),
+      spreadMode: robust ? 'robust' : 'exact',
+      spreadReason,
+      findings,
+      pattern: hotspot && cold ? 'failover' : null,
+      fullest: this.extreme(fullest, counts, fullestReal, fullestP),
+      emptiest: this.extreme(
+        emptiest,
+        counts,
+        counts[emptiest] / (n * shareAt(shares, emptiest, m)),
+        emptiestP,
+      ),
+      empty: { observed: empties, expected: emptyExpected, p: emptyP },
+      spread: { phi: spread.dispersion, p: spreadP, robustPhi },
+      nEff: n / Math.max(spread.dispersion, 1),
+      judgedRequests: judgedTotal,
+      ceiling: level(ceilingRelative, equalShares, fairShare),
+      floor: floorRelative === null ? null : level(floorRelative, equalShares, fairShare),
+      detectableExcess: ceilingRelative,
+      flagged,
+      incidents: update.open.map((incident) => this.incident(incident, window.start)),
+      opened: update.opened.map((incident) => this.incident(incident, window.start)),
+      cleared: update.cleared.map((incident) => this.incident(incident, window.start)),
+      falseIncidentsPerDay: this.falseIncidentsPerDay,
+      late: window.late,
+      rejected: window.rejected,
+      coldTests,
+      alpha: s.alpha,
+      notes,
+    };
+  }
+
+  /** A window without requests (or without shards yet): nothing can be told from chance. */
+  private quietWindow(
+    window: ClosedWindow,
+    m: number,
+    coldTests: boolean,
+    nullShares: NullShares,
+    notes: string[],
+  ): Judgement {
+    const update = this.tracker.update(window.start, [], [], true);
+    notes.push(m === 0 ? 'no shard has reported yet' : 'no requests in this window');
+    return {
+      window: { start: iso(window.start), end: iso(window.end) },
+      requests: window.total,
+      shards: m,
+      null: this.settings.null,
+      ...(nullShares.baseline === undefined ? {} : { baseline: nullShares.baseline }),
+      spreadMode: this.settings.spread === 'robust' ? 'robust' : 'exact',
+      spreadReason: 'no requests: nothing to judge',
+      findings: ['too little traffic'],
+      pattern: null,
+      fullest: null,
+      emptiest: null,
+      empty: { observed: m, expected: m, p: coldTests ? 1 : null },
+      spread: { phi: 1, p: 1, robustPhi: 1 },
+      nEff: 0,
+      judgedRequests: 0,
+      ceiling: { relative: 0, requests: 0 },
+      floor: coldTests ? { relative: 0, requests: 0 } : null,
+      detectableExcess: null,
+      flagged: [],
+      incidents: update.open.map((incident) => this.incident(incident, window.start)),
+      opened: [],
+      cleared: [],
+      falseIncidentsPerDay: this.falseIncidentsPerDay,
+      late: window.late,
+      rejected: window.rejected,
+      coldTests,
+      alpha: this.settings.alpha,
+      notes,
+    };
+  }
+
+  /**
+   * The flagged list: adjusted p-values for the strongest candidates of each side (at most
+   * --max-flagged each, so the cost is bounded however many shards exceed the ceiling),
+   * most significant first, at most --max-flagged in all.
+   */
+  private flag(
+    hot: number[],
+    cold: number[],
+    placement: Placement,
+    version: string,
+    judgedCounts: ArrayLike<number>,
+    counts: ArrayLike<number>,
+    n: number,
+    shares: Float64Array | null,
+    streaks: ReadonlyMap<number, number>,
+  ): FlaggedShard[] {
+    const s = this.settings;
+    const m = counts.length;
+    const judgedTotal = placement.total;
+    const judgedLoad = (shard: number) =>
+      judgedCounts[shard] / (judgedTotal * shareAt(shares, shard, m));
+    const entries: (FlaggedShard & { logP: number })[] = [];
+    const strongestHot = [...hot]
+      .sort((a, b) => judgedLoad(b) - judgedLoad(a) || a - b)
+      .slice(0, s.maxFlagged);
+    for (const shard of strongestHot) {
+      const relative = judgedLoad(shard);
+      const logP = this.memo.fullestTail(placement, version, relative).logProbability;
+      const share = shareAt(shares, shard, m);
+      entries.push({
+        shard: this.universe.idAt(shard),
+        finding: 'hotspot',
+        count: counts[shard],
+        relative: counts[shard] / (n * share),
+        p: probabilityFromLog(logP),
+        binomialP: probabilityFromLog(logBinomialAtLeast(judgedCounts[shard], judgedTotal, share)),
+        streak: streaks.get(trackingKey(shard, 'hotspot')) ?? 0,
+        logP,
+      });
+    }
+    const strongestCold = [...cold]
+      .sort((a, b) => judgedLoad(a) - judgedLoad(b) || a - b)
+      .slice(0, s.maxFlagged);
+    for (const shard of strongestCold) {
+      const relative = judgedLoad(shard);
+      const logP = this.memo.emptiestTail(placement, version, relative).logProbability;
+      const share = shareAt(shares, shard, m);
+      entries.push({
+        shard: this.universe.idAt(shard),
+        finding: 'cold',
+        count: counts[shard],
+        relative: counts[shard] / (n * share),
+        p: probabilityFromLog(logP),
+        binomialP: probabilityFromLog(logBinomialAtMost(judgedCounts[shard], judgedTotal, share)),
+        streak: streaks.get(trackingKey(shard, 'cold')) ?? 0,
+        logP,
+      });
+    }
+    // Sorted on the log so that p-values below the 1e-300 reporting floor keep their order.
+    entries.sort((a, b) => a.logP - b.logP);
+    return entries.slice(0, s.maxFlagged).map(({ logP: _logP, ...entry }) => entry);
+  }
+
+  private extreme(
+    shard: number,
+    counts: ArrayLike<number>,
+    relative: number,
+    p: number | null,
+  ): ExtremeShardVerdict {
+    return { shard: this.universe.idAt(shard), count: counts[shard], relative, p };
+  }
+
+  private incident(incident: TrackedIncident, windowStart: number): Incident {
+    return {
+      shard: this.universe.idAt(incident.index),
+      finding: incident.finding,
+      since: iso(incident.since),
+      windows: Math.round((windowStart - incident.since) / this.settings.hopMs) + 1,
+    };
+  }
+
+  /** The null shares for this window's m shards and N requests. */
+  private nullShares(m: number, n: number): NullShares {
+    if (this.settings.null === 'uniform') return { shares: null, version: 'u', uncertainty: 1 };
+    const declared = this.declaredShares(m);
+    const declaredVersion = declared === null ? 'u' : `d${this.universeKey}`;
+    if (this.baseline === null)
+      return { shares: declared, version: declaredVersion, uncertainty: 1 };
+    const status: BaselineStatus = {
+      ready: this.baseline.ready,
+      learnedWindows: this.baseline.learnedWindows,
+      neededWindows: this.baseline.neededWindows,
+    };
+    if (!status.ready)
+      return { shares: declared, version: declaredVersion, uncertainty: 1, baseline: status };
+    return {
+      shares: this.baseline.shares(m, declared),
+      version: `b${this.judgeKey}.${this.baseline.sharesVersion}`,
+      uncertainty: this.baseline.uncertaintyScale(n, m),
+      baseline: status,
+    };
+  }
+
+  /** The universe's declared shares, or null when they are all equal. O(m) when m changes. */
+  private declaredShares(m: number): Float64Array | null {
+    if (this.declaredCache?.size === m) return this.declaredCache.shares;
+    const shares = this.universe.shares.subarray(0, m);
+    let equal = true;
+    for (let shard = 1; shard < m; shard++) if (shares[shard] !== shares[0]) equal = false;
+    // A growing universe may have grown past this window's m: renormalise the prefix.
+    let sum = 0;
+    for (let shard = 0; shard < m; shard++) sum += shares[shard];
+    const normalised = equal ? null : Float64Array.from(shares, (share) => share / sum);
+    this.declaredCache = { size: m, shares: normalised };
+    return normalised;
+  }
+
+  private ensureScratch(m: number): void {
+    if (this.scratch.length >= m) return;
+    this.scratch = new Float64Array(m);
+    this.judgedScratch = new Float64Array(m);
+    this.exactScratch = new Float64Array(m);
+  }
+}
+
+let nextJudgeKey = 0;
+let nextUniverseKey = 0;
+const universeKeys = new WeakMap<ShardUniverse, number>();
+
+function universeKeyOf(universe: ShardUniverse): number {
+  let key = universeKeys.get(universe);
+  if (key === undefined) {
+    key = nextUniverseKey++;
+    universeKeys.set(universe, key);
+  }
+  return key;
+}
+
+/**
+ * A placement built without copying the shares: they are already non-negative and sum to 1
+ * (the universe's or the baseline's), and makePlacement's O(m) copy per window is waste.
+ * The counts' length may be below the scratch arrays' length; only the first m are read.
+ */
+function placementOf(total: number, shardCount: number, shares: Float64Array | null): Placement {
+  return { total, shardCount, shares };
+}
+
+function shareAt(shares: Float64Array | null, shard: number, m: number): number {
+  return shares === null ? 1 / m : shares[shard];
+}
+
+function level(relative: number, equalShares: boolean, fairShare: number): LoadLevel {
+  return { relative, requests: equalShares ? Math.round(relative * fairShare * 1e6) / 1e6 : null };
+}
+
+function iso(ms: number): string {
+  return new Date(ms).toISOString();
+}
+
+function describeSpreadMode(
+  m: number,
+  s: JudgeSettings,
+  robust: boolean,
+  spreadRejects: boolean,
+  spreadP: number,
+  phi: number,
+  robustPhi: number,
+  dispersion: number,
+): string {
+  const scaled =
+    dispersion > 1
+      ? `counts divided by ${round(dispersion)}${robust ? ` (robust phi ${round(robustPhi)}, floored at 1)` : " for the learned baseline's own uncertainty"}`
+      : robust
+        ? `robust phi ${round(robustPhi)} is at most 1, so counts are judged as they are`
+        : 'counts judged as they are';
+  if (s.spread !== 'auto') return `--spread ${s.spread}: ${scaled}`;
+  if (spreadRejects && m < leastShardsForRobust) {
+    return `auto: the spread test rejects (p ${spreadP.toPrecision(3)} <= alpha ${s.alpha}, phi ${round(phi)}) but ${m} shards are too few for a robust spread (${leastShardsForRobust} needed); ${scaled}`;
+  }
+  return spreadRejects
+    ? `auto: the spread test rejects (p ${spreadP.toPrecision(3)} <= alpha ${s.alpha}, phi ${round(phi)}); ${scaled}`
+    : `auto: the spread test does not reject (p ${spreadP.toPrecision(3)} > alpha ${s.alpha}); ${scaled}`;
+}
+
+function round(value: number): string {
+  return value.toPrecision(3);
+}
