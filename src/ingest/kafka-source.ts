@@ -1,0 +1,1015 @@
+import { randomUUID } from 'node:crypto';
+import type { Admin, Consumer, EachBatchPayload, Kafka } from 'kafkajs';
+import type { CountRecord, RejectionReason } from '../window/count-record.js';
+import { UsageError } from '../window/errors.js';
+import type { RecordSink } from './decode.js';
+import type { SourceItem } from './file-source.js';
+import {
+  brokerText,
+  createKafkaClient,
+  type KafkaClientLog,
+  type KafkaConnectionOptions,
+} from './kafka-connection.js';
+import {
+  BrokersUnreachableError,
+  causeText,
+  isRetriable,
+  KafkaIngestError,
+  KafkaPartitionError,
+  KafkaTopicError,
+} from './kafka-errors.js';
+import type { KafkaSourceEvent, KafkaSourceListener, PartitionOffset } from './kafka-events.js';
+import { KafkaMessageDecoder, type ShardFrom } from './kafka-message-decoder.js';
+import { PartitionAlignment } from './kafka-partition-alignment.js';
+import {
+  commitMetadata,
+  judgedThroughFromMetadata,
+  OffsetLedger,
+  type WindowGeometry,
+} from './kafka-offset-ledger.js';
+import {
+  backoffDelay,
+  checkBackoffPolicy,
+  retryWithBackoff,
+  RetriesExhausted,
+  type BackoffPolicy,
+} from './kafka-retry.js';
+
+/** Where to start a partition the group has no committed position for (`--from`). */
+export type StartPosition =
+  | { readonly kind: 'latest' }
+  | { readonly kind: 'earliest' }
+  /** The first message whose Kafka timestamp is at or after `ms` (epoch ms). */
+  | { readonly kind: 'time'; readonly ms: number };
+
+/** Settings of a {@link KafkaSource}. */
+export interface KafkaSourceOptions extends KafkaConnectionOptions {
+  /** `--topic`. */
+  readonly topic: string;
+  /**
+   * `--group`: the consumer group whose committed positions a restart
+   * resumes from. Without one a fresh group is made per run and `from`
+   * decides everything.
+   */
+  readonly groupId?: string;
+  /** `--from`, for partitions without a committed position (default latest). */
+  readonly from?: StartPosition;
+  /** `--shard-from` (default: the record's `shard` field). */
+  readonly shardFrom?: ShardFrom;
+  /**
+   * The pipeline's windows, to know when a record is fully judged and may be
+   * committed past; their lateness also sets the default alignment.
+   */
+  readonly windows: WindowGeometry & { readonly latenessMs?: number };
+  /**
+   * While catching up, how far a partition may run ahead of the slowest one
+   * with a backlog, in Kafka message time, ms (default half the lateness;
+   * Infinity turns alignment off). See {@link PartitionAlignment}.
+   */
+  readonly alignmentMs?: number;
+  /**
+   * End once every partition reaches the end offset it had when the source
+   * connected (a bounded read: reviews, tests, benchmarks). Default false:
+   * read until closed.
+   */
+  readonly stopAtEnd?: boolean;
+  /** Connecting at start (default 8 attempts, 250 ms doubling to 8 s: about 30 s). */
+  readonly connectRetry?: BackoffPolicy;
+  /** Making a new consumer after a crash (default 10 attempts, 500 ms doubling to 15 s). */
+  readonly consumerRestart?: BackoffPolicy;
+  /** The client's own retries of a failed request before the consumer crashes (default 5). */
+  readonly consumerRetries?: number;
+  /** How often judged positions are committed, ms (default 1000); always on close. */
+  readonly commitIntervalMs?: number;
+  /** Longest wait of a fetch for new messages, ms (default 500). */
+  readonly maxWaitTimeMs?: number;
+  /** Fetch size per partition, bytes (default 4 MiB). */
+  readonly maxBytesPerPartition?: number;
+  /** Fetch size per request, bytes (default 16 MiB). */
+  readonly maxBytes?: number;
+  /** Group session timeout, ms (default 30000). */
+  readonly sessionTimeoutMs?: number;
+  /** Group heartbeat interval, ms (default 3000). */
+  readonly heartbeatIntervalMs?: number;
+  /** Receives the source's events from the start (see also {@link KafkaSource.on}). */
+  readonly onEvent?: KafkaSourceListener;
+}
+
+/** What {@link KafkaSource.connect} found. */
+export interface KafkaSourceInfo {
+  readonly topic: string;
+  readonly groupId: string;
+  /** The topic's partition count: the shard universe size for `--shard-from partition`. */
+  readonly partitions: number;
+  /**
+   * End of the last window a previous run on this group judged, or null. The
+   * pipeline must not emit windows ending at or before it again (see the
+   * module notes on sliding windows).
+   */
+  readonly judgedThrough: number | null;
+  /** Where each partition starts. */
+  readonly startOffsets: readonly PartitionOffset[];
+}
+
+/** Running counts of the source. */
+export interface KafkaSourceStats {
+  /** Messages decoded (each gives records or one rejection). */
+  readonly messages: number;
+  /** Redelivered messages dropped because they were already counted. */
+  readonly redeliveriesSkipped: number;
+  /** Replayed records dropped because a previous run judged all their windows. */
+  readonly alreadyJudgedSkipped: number;
+  /** New consumers made after crashes. */
+  readonly consumerRecreations: number;
+  /** Commits confirmed by the group coordinator. */
+  readonly commits: number;
+}
+
+const defaultConnectRetry: BackoffPolicy = { attempts: 8, initialDelayMs: 250, maxDelayMs: 8000 };
+const defaultConsumerRestart: BackoffPolicy = {
+  attempts: 10,
+  initialDelayMs: 500,
+  maxDelayMs: 15_000,
+};
+
+/**
+ * Records from a Kafka topic, the same shape as a file source: iterate items,
+ * iterate {@link batches} (one array per fetched partition batch), or
+ * {@link decodeInto} a sink (no object per record). Records that carry no
+ * `ts` take the message timestamp.
+ *
+ * Offsets. Kafka's auto-commit is off. The pipeline calls
+ * {@link markJudgedUpTo} with the end of each window it has closed and
+ * judged; the source commits, per partition, the lowest offset of a message
+ * still counted in an open window (see {@link OffsetLedger}), with the
+ * judged window end in the commit metadata. A restart on the same group
+ * thus replays exactly the open windows' records, and drops replayed records
+ * whose windows were all judged before. Redeliveries within a run (after a
+ * rebalance, a broker restart, a consumer crash) are dropped by (partition,
+ * offset). Counts are exact across restarts; rejection tallies of the
+ * replayed stretch may be counted again.
+ *
+ * Faults. Connecting retries with capped exponential backoff and jitter, then
+ * fails with {@link BrokersUnreachableError} naming the brokers. A consumer
+ * that crashes (the client gives up on a request, or hits a non-retriable
+ * error) is replaced by a new one on the same group, with the same backoff;
+ * the client's own restart is switched off so every crash comes here.
+ * Rebalances and crashes are reported as events.
+ *
+ * Sliding windows (hop < window): a record of a partly judged stretch is
+ * replayed to fill its open windows, so after a resume the pipeline must drop
+ * closed windows ending at or before {@link KafkaSourceInfo.judgedThrough}.
+ *
+ * One consumer per group is the intended use: the verdicts need the whole
+ * topic, and a second member would take some partitions away.
+ */
+export class KafkaSource implements AsyncIterable<SourceItem> {
+  /** The topic read. */
+  readonly topic: string;
+  /** The consumer group (given, or made for this run). */
+  readonly groupId: string;
+  /** Where shards come from. */
+  readonly shardFrom: ShardFrom;
+  private readonly options: KafkaSourceOptions;
+  private readonly kafka: Kafka;
+  private readonly ledger: OffsetLedger;
+  private readonly decoder: KafkaMessageDecoder;
+  private readonly tracker: ReleaseTracker;
+  private readonly alignment: PartitionAlignment;
+  private readonly listeners = new Set<KafkaSourceListener>();
+  private readonly stopping = new AbortController();
+  private readonly connectRetry: BackoffPolicy;
+  private readonly consumerRestart: BackoffPolicy;
+  private readonly finished = new Settled();
+  private connecting: Promise<KafkaSourceInfo> | null = null;
+  private consumer: Consumer | null = null;
+  private mode: 'sink' | 'batches' | null = null;
+  private handoff: BatchHandoff | null = null;
+  private collected: SourceItem[] = [];
+  private closed = false;
+  private ended = false;
+  private closing: Promise<void> | null = null;
+  private commitTimer: NodeJS.Timeout | null = null;
+  private committing: Promise<void> | null = null;
+  private readonly confirmed = new Map<number, string>();
+  private pendingEnd: Map<number, number> | null = null;
+  private failures = 0;
+  private scratchOffsets = new Float64Array(1024);
+  private scratchReleases = new Float64Array(1024);
+  private readonly counters = {
+    messages: 0,
+    redeliveriesSkipped: 0,
+    consumerRecreations: 0,
+    commits: 0,
+  };
+
+  /**
+   * @param options connection, topic, group, start position, shard source,
+   *   window geometry; checked here (UsageError naming the option)
+   */
+  constructor(options: KafkaSourceOptions) {
+    if (options.brokers.length === 0) {
+      throw new UsageError('--brokers', '', 'names no broker (give host:port[,host:port])');
+    }
+    if (options.topic === '') throw new UsageError('--topic', '', 'is empty');
+    try {
+      this.ledger = new OffsetLedger(options.windows);
+    } catch (error) {
+      throw new UsageError('--window', `${options.windows.windowMs}ms`, (error as Error).message);
+    }
+    this.options = options;
+    this.topic = options.topic;
+    this.groupId = options.groupId ?? `shardwise-${randomUUID()}`;
+    this.shardFrom = options.shardFrom ?? { kind: 'field' };
+    this.connectRetry = checkBackoffPolicy(
+      options.connectRetry ?? defaultConnectRetry,
+      'connectRetry',
+    );
+    this.consumerRestart = checkBackoffPolicy(
+      options.consumerRestart ?? defaultConsumerRestart,
+      'consumerRestart',
+    );
+    this.decoder = new KafkaMessageDecoder(this.shardFrom);
+    this.tracker = new ReleaseTracker(this.ledger);
+    this.alignment = new PartitionAlignment(
+      options.alignmentMs ?? Math.floor((options.windows.latenessMs ?? 0) / 2),
+    );
+    if (options.onEvent !== undefined) this.listeners.add(options.onEvent);
+    this.kafka = createKafkaClient(
+      options,
+      (entry: KafkaClientLog) => this.emit({ type: 'client-log', ...entry }),
+      options.consumerRetries ?? 5,
+    );
+  }
+
+  /** Subscribes to the source's events; returns the unsubscribe function. */
+  on(listener: KafkaSourceListener): () => void {
+    this.listeners.add(listener);
+    return () => this.listeners.delete(listener);
+  }
+
+  /** A snapshot of the running counts. */
+  get stats(): KafkaSourceStats {
+    return { ...this.counters, alreadyJudgedSkipped: this.tracker.alreadyJudged };
+  }
+
+  /** End of the last window judged (this run or, on resume, the previous one); -Infinity before any. */
+  get judgedThrough(): number {
+    return this.ledger.judgedThrough;
+  }
+
+  /**
+   * Tells the source that every window ending at or before `windowEnd` is
+   * closed and judged, so its records may be committed past. Call it after
+   * judging each closed window (with the window's `end`), also for windows
+   * closed by the wall clock. Never moves back; cheap (the commit itself runs
+   * on the commit interval).
+   */
+  markJudgedUpTo(windowEnd: number): void {
+    this.ledger.markJudgedUpTo(windowEnd);
+  }
+
+  /**
+   * Connects (retrying with backoff), reads the topic's partition count, the
+   * group's committed positions and the resume point, and finds the start
+   * position of partitions without one (`--from`). Called by the reading methods when
+   * needed; call it first to learn the partition count (the shard universe
+   * of `--shard-from partition`). Idempotent.
+   */
+  connect(): Promise<KafkaSourceInfo> {
+    this.connecting ??= this.establish();
+    return this.connecting;
+  }
+
+  /**
+   * Decodes every message into `sink` without building an object per
+   * record: the fastest way to count. Resolves when the source is closed (or,
+   * with `stopAtEnd`, caught up); rejects with a {@link KafkaIngestError}
+   * when it cannot go on.
+   */
+  async decodeInto(sink: RecordSink): Promise<void> {
+    this.claim('sink');
+    this.tracker.target = sink;
+    await this.begin();
+    return this.finished.promise;
+  }
+
+  /**
+   * Yields the records and rejections of each fetched partition batch as one
+   * array. The next batch is fetched once the previous array is taken, so a
+   * slow pipeline slows the fetching instead of piling up memory. Breaking
+   * out of the loop closes the source; a natural end (`stopAtEnd`) leaves it
+   * open for the last commit, so call {@link close} after judging.
+   */
+  async *batches(): AsyncGenerator<SourceItem[], void, undefined> {
+    this.claim('batches');
+    const handoff = new BatchHandoff();
+    this.handoff = handoff;
+    this.tracker.target = new ItemCollector(() => this.collected);
+    let endedNaturally = false;
+    try {
+      await this.begin();
+      for (;;) {
+        const items = await handoff.take();
+        if (items === null) {
+          endedNaturally = !this.closed;
+          return;
+        }
+        yield items;
+      }
+    } finally {
+      if (!endedNaturally) await this.close();
+    }
+  }
+
+  /** Yields every record and rejection (see {@link batches}). */
+  [Symbol.asyncIterator](): AsyncIterator<SourceItem> {
+    const batches = this.batches();
+    let batch: SourceItem[] = [];
+    let next = 0;
+    return {
+      next: async (): Promise<IteratorResult<SourceItem>> => {
+        while (next >= batch.length) {
+          const step = await batches.next();
+          if (step.done === true) return { value: undefined, done: true };
+          batch = step.value;
+          next = 0;
+        }
+        return { value: batch[next++], done: false };
+      },
+      return: async (): Promise<IteratorResult<SourceItem>> => {
+        await batches.return(undefined);
+        return { value: undefined, done: true };
+      },
+    };
+  }
+
+  /**
+   * Stops reading: commits the judged positions (never past a record of an
+   * open window), leaves the group and disconnects. Records decoded but not
+   * yet judged are replayed by the next run on the group. Idempotent.
+   */
+  close(): Promise<void> {
+    this.closing ??= this.shutDown();
+    return this.closing;
+  }
+
+  private claim(mode: 'sink' | 'batches'): void {
+    if (this.mode !== null) {
+      throw new Error(`this Kafka source is already being read (${this.mode}); make a new one`);
+    }
+    this.mode = mode;
+  }
+
+  /** Connects, then starts the consumer unless there is nothing to read. */
+  private async begin(): Promise<void> {
+    try {
+      await this.connect();
+    } catch (error) {
+      if (this.closed) return;
+      this.fail(error);
+      throw error;
+    }
+    if (this.closed) return;
+    if (this.pendingEnd !== null && this.pendingEnd.size === 0) {
+      this.reachEnd();
+      return;
+    }
+    this.commitTimer = setInterval(() => this.commitSoon(), this.options.commitIntervalMs ?? 1000);
+    this.commitTimer.unref();
+    try {
+      await retryWithBackoff(() => this.startConsumer(), this.consumerRestart, {
+        signal: this.stopping.signal,
+        onRetry: (failures, delayMs, error) =>
+          this.emit({
+            type: 'connect-retry',
+            brokers: brokerText(this.options),
+            failures,
+            delayMs,
+            error: causeText(error),
+          }),
+      });
+    } catch (error) {
+      if (this.closed) return;
+      const failure =
+        error instanceof RetriesExhausted
+          ? new BrokersUnreachableError(
+              this.options.brokers,
+              error.attempts,
+              error.elapsedMs,
+              error.cause,
+            )
+          : new KafkaIngestError(
+              `cannot start the Kafka consumer of --topic ${this.topic} (--group ${this.groupId}): ${causeText(error)}`,
+              { cause: error },
+            );
+      this.fail(failure);
+      throw failure;
+    }
+  }
+
+  private async establish(): Promise<KafkaSourceInfo> {
+    // A client of its own with no retries: the backoff here is the only one.
+    const admin = createKafkaClient(
+      this.options,
+      (entry: KafkaClientLog) => this.emit({ type: 'client-log', ...entry }),
+      0,
+    ).admin({ retry: { retries: 0 } });
+    const brokers = brokerText(this.options);
+    try {
+      const info = await retryWithBackoff(() => this.readStart(admin), this.connectRetry, {
+        signal: this.stopping.signal,
+        shouldRetry: (error) =>
+          error instanceof KafkaIngestError ? error.retriable : isRetriable(error),
+        onRetry: (failures, delayMs, error) =>
+          this.emit({ type: 'connect-retry', brokers, failures, delayMs, error: causeText(error) }),
+      });
+      if (info.judgedThrough !== null) {
+        this.ledger.markJudgedUpTo(info.judgedThrough);
+        this.tracker.resumeFloor = info.judgedThrough;
+      }
+      return info;
+    } catch (error) {
+      if (error instanceof RetriesExhausted) {
+        throw new BrokersUnreachableError(
+          this.options.brokers,
+          error.attempts,
+          error.elapsedMs,
+          error.cause,
+        );
+      }
+      if (error instanceof KafkaIngestError || this.stopping.signal.aborted) throw error;
+      throw new KafkaIngestError(
+        `cannot start reading --topic ${this.topic} from ${brokers}: ${causeText(error)}`,
+        { cause: error },
+      );
+    } finally {
+      await admin.disconnect().catch(() => undefined);
+    }
+  }
+
+  /** One connection attempt: metadata, committed positions, start positions, end offsets. */
+  private async readStart(admin: Admin): Promise<KafkaSourceInfo> {
+    const topic = this.topic;
+    const groupId = this.groupId;
+    await admin.connect();
+    const partitions = await this.partitionCount(admin);
+    this.emit({
+      type: 'connected',
+      brokers: brokerText(this.options),
+      topic,
+      partitions,
+      groupId,
+    });
+    const [committed] = await admin.fetchOffsets({ groupId, topics: [topic] });
+    const described = await admin.describeGroups([groupId]);
+    const members = described.groups[0]?.members.length ?? 0;
+    if (members > 0) this.emit({ type: 'group-busy', groupId, members });
+
+    const resumed: PartitionOffset[] = [];
+    const missing: number[] = [];
+    let judgedThrough = Number.NEGATIVE_INFINITY;
+    const committedByPartition = new Map<number, number>();
+    for (const entry of committed?.partitions ?? []) {
+      const offset = Number(entry.offset);
+      if (offset >= 0) {
+        resumed.push({ partition: entry.partition, offset });
+        committedByPartition.set(entry.partition, offset);
+        this.confirmed.set(entry.partition, `${offset}|${entry.metadata ?? null}`);
+        judgedThrough = Math.max(judgedThrough, judgedThroughFromMetadata(entry.metadata));
+      }
+    }
+    for (let partition = 0; partition < partitions; partition++) {
+      if (!committedByPartition.has(partition)) missing.push(partition);
+    }
+    const fromOption = await this.startOffsets(admin, missing);
+    const startOffsets = [...resumed, ...fromOption].sort((a, b) => a.partition - b.partition);
+    const ends = await admin.fetchTopicOffsets(topic);
+    const pending = new Map<number, number>();
+    for (const { partition, offset } of startOffsets) {
+      const end = Number(ends.find((entry) => entry.partition === partition)?.high ?? 0);
+      if (offset < end) pending.set(partition, end);
+    }
+    for (const partition of pending.keys()) this.alignment.expect(partition);
+    if (this.options.stopAtEnd === true) this.pendingEnd = pending;
+    // Everything below a partition's start counts as processed: a fetch that starts lower
+    // (a rebalance before the start position is committed) is skipped like a redelivery.
+    for (const { partition, offset } of startOffsets) {
+      this.ledger.partition(partition).startAt(offset);
+    }
+    const judged = Number.isFinite(judgedThrough) ? judgedThrough : null;
+    this.emit({ type: 'start-positions', groupId, resumed, fromOption, judgedThrough: judged });
+    return { topic, groupId, partitions, judgedThrough: judged, startOffsets };
+  }
+
+  private async partitionCount(admin: Admin): Promise<number> {
+    try {
+      const { topics } = await admin.fetchTopicMetadata({ topics: [this.topic] });
+      const count = topics[0]?.partitions.length ?? 0;
+      if (count === 0) {
+        throw new KafkaTopicError(this.topic, `--topic ${this.topic} has no partitions`);
+      }
+      return count;
+    } catch (error) {
+      const type = (error as { type?: string }).type;
+      if (type === 'UNKNOWN_TOPIC_OR_PARTITION') {
+        throw new KafkaTopicError(
+          this.topic,
+          `--topic ${this.topic} does not exist on ${brokerText(this.options)}`,
+          { cause: error },
+        );
+      }
+      if (type === 'TOPIC_AUTHORIZATION_FAILED') {
+        throw new KafkaTopicError(
+          this.topic,
+          `--topic ${this.topic} may not be described by this client on ${brokerText(this.options)}`,
+          { cause: error },
+        );
+      }
+      throw error;
+    }
+  }
+
+  /** Offsets of `--from` for the partitions without a committed position. */
+  private async startOffsets(admin: Admin, partitions: number[]): Promise<PartitionOffset[]> {
+    if (partitions.length === 0) return [];
+    const from = this.options.from ?? { kind: 'latest' };
+    const entries =
+      from.kind === 'time'
+        ? await admin.fetchTopicOffsetsByTimestamp(this.topic, from.ms)
+        : (await admin.fetchTopicOffsets(this.topic)).map((entry) => ({
+            partition: entry.partition,
+            offset: from.kind === 'earliest' ? entry.low : entry.high,
+          }));
+    return partitions.map((partition) => {
+      const entry = entries.find((candidate) => candidate.partition === partition);
+      const offset = Number(entry?.offset);
+      if (entry === undefined || !Number.isSafeInteger(offset) || offset < 0) {
+        throw new KafkaPartitionError(
+          this.topic,
+          partition,
+          `no start offset for partition ${partition} of --topic ${this.topic} (--from ${from.kind})`,
+        );
+      }
+      return { partition, offset };
+    });
+  }
+
+  /** Makes, connects and runs a consumer, retrying with backoff while the brokers are away. */
+  private async startConsumer(): Promise<void> {
+    const consumer = this.kafka.consumer({
+      groupId: this.groupId,
+      sessionTimeout: this.options.sessionTimeoutMs ?? 30_000,
+      heartbeatInterval: this.options.heartbeatIntervalMs ?? 3000,
+      maxWaitTimeInMs: this.options.maxWaitTimeMs ?? 500,
+      maxBytesPerPartition: this.options.maxBytesPerPartition ?? 4 << 20,
+      maxBytes: this.options.maxBytes ?? 16 << 20,
+      allowAutoTopicCreation: false,
+      retry: {
+        retries: this.options.consumerRetries ?? 5,
+        initialRetryTime: 300,
+        maxRetryTime: 10_000,
+        restartOnFailure: async () => false,
+      },
+    });
+    consumer.on(consumer.events.GROUP_JOIN, ({ payload }) => {
+      this.failures = 0;
+      const held = payload.memberAssignment[this.topic] ?? [];
+      this.alignment.reassigned(held);
+      if (held.length > 0) consumer.resume([{ topic: this.topic, partitions: [...held] }]);
+      this.seekUncommitted(consumer, held);
+      this.emit({
+        type: 'group-joined',
+        groupId: payload.groupId,
+        memberId: payload.memberId,
+        partitions: [...(payload.memberAssignment[this.topic] ?? [])].sort((a, b) => a - b),
+        durationMs: payload.duration,
+      });
+    });
+    consumer.on(consumer.events.REBALANCING, ({ payload }) => {
+      this.emit({ type: 'rebalancing', groupId: payload.groupId, memberId: payload.memberId });
+    });
+    consumer.on(consumer.events.COMMIT_OFFSETS, ({ payload }) => this.confirmCommit(payload));
+    consumer.on(consumer.events.CRASH, ({ payload }) => {
+      void this.recover(consumer, payload.error);
+    });
+    this.consumer = consumer;
+    try {
+      await consumer.connect();
+      await consumer.subscribe({ topics: [this.topic], fromBeginning: true });
+      if (this.closed) throw new KafkaIngestError('closed while starting');
+      await consumer.run({
+        autoCommit: false,
+        eachBatchAutoResolve: false,
+        partitionsConsumedConcurrently: 1,
+        eachBatch: (payload) => this.handleBatch(payload),
+      });
+    } catch (error) {
+      if (this.consumer === consumer) this.consumer = null;
+      await consumer.disconnect().catch(() => undefined);
+      throw error;
+    }
+  }
+
+  /**
+   * Points partitions the group has no commit for yet at the source's own
+   * position (the `--from` start, or the first record of an open window);
+   * the client would otherwise start them from the beginning. Runs on every
+   * join, before the first fetch; the first commit then makes it lasting.
+   */
+  private seekUncommitted(consumer: Consumer, partitions: readonly number[]): void {
+    for (const partition of partitions) {
+      if (this.confirmed.has(partition)) continue;
+      const offset = this.ledger.partition(partition).commitOffset(this.ledger.judgedThrough);
+      consumer.seek({ topic: this.topic, partition, offset: String(offset) });
+    }
+  }
+
+  /** Replaces a crashed consumer; fails the source after too many failures in a row. */
+  private async recover(crashed: Consumer, error: Error): Promise<void> {
+    if (this.closed || this.consumer !== crashed) return;
+    this.consumer = null;
+    for (;;) {
+      this.failures++;
+      if (this.failures >= this.consumerRestart.attempts) {
+        this.fail(
+          new KafkaIngestError(
+            `the Kafka consumer of --topic ${this.topic} (--brokers ${brokerText(this.options)}) ` +
+              `failed ${this.failures} times in a row; last error: ${causeText(error)}`,
+            { retriable: isRetriable(error), cause: error },
+          ),
+        );
+        return;
+      }
+      const delayMs = backoffDelay(this.failures, this.consumerRestart);
+      this.emit({
+        type: 'consumer-crashed',
+        error: causeText(error),
+        retriable: isRetriable(error),
+        failures: this.failures,
+        recreateInMs: delayMs,
+      });
+      await new Promise((resolve) => setTimeout(resolve, delayMs));
+      if (this.closed) return;
+      const failures = this.failures;
+      try {
+        await this.startConsumer();
+        this.counters.consumerRecreations++;
+        this.emit({ type: 'consumer-recreated', failures });
+        return;
+      } catch (startError) {
+        if (this.closed) return;
+        error = startError as Error;
+      }
+    }
+  }
+
+  /** Decodes one fetched batch, hands it on, and records its offsets in the ledger. */
+  private async handleBatch(payload: EachBatchPayload): Promise<void> {
+    if (this.closed || this.ended) return;
+    const { batch } = payload;
+    const partition = batch.partition;
+    const ledger = this.ledger.partition(partition);
+    const messages = batch.messages;
+    if (this.scratchOffsets.length < messages.length) {
+      this.scratchOffsets = new Float64Array(messages.length);
+      this.scratchReleases = new Float64Array(messages.length);
+    }
+    const offsets = this.scratchOffsets;
+    const releases = this.scratchReleases;
+    const tracker = this.tracker;
+    const decoder = this.decoder;
+    const alreadyCounted = ledger.highestProcessed;
+    const limit = this.alignment.limitFor(partition);
+    this.collected = [];
+    let held = 0;
+    let duplicates = 0;
+    let lastHandled = -1;
+    let newestTs = Number.NEGATIVE_INFINITY;
+    let stoppedAt = Number.NaN;
+    try {
+      for (let index = 0; index < messages.length; index++) {
+        if (this.closed) break;
+        const message = messages[index];
+        const offset = Number(message.offset);
+        if (offset <= alreadyCounted) {
+          duplicates++;
+          lastHandled = offset;
+          continue;
+        }
+        const messageTs = Number(message.timestamp);
+        if (messageTs > limit) {
+          stoppedAt = messageTs;
+          break;
+        }
+        if (messageTs > newestTs) newestTs = messageTs;
+        tracker.latestRelease = Number.NEGATIVE_INFINITY;
+        decoder.decode(message.value, message.key, partition, messageTs, tracker);
+        offsets[held] = offset;
+        releases[held] = tracker.latestRelease;
+        held++;
+        lastHandled = offset;
+      }
+    } catch (error) {
+      this.fail(
+        new KafkaIngestError(
+          `the record pipeline failed on partition ${partition} of --topic ${this.topic}: ${causeText(error)}`,
+          { cause: error },
+        ),
+      );
+      return;
+    }
+    this.failures = 0;
+    if (this.handoff !== null && this.collected.length > 0) {
+      const offsetsKept = offsets.slice(0, held);
+      const releasesKept = releases.slice(0, held);
+      if (!(await this.handoff.put(this.collected, payload))) return;
+      for (let index = 0; index < held; index++) {
+        ledger.hold(offsetsKept[index], releasesKept[index], this.ledger.judgedThrough);
+      }
+    } else {
+      for (let index = 0; index < held; index++) {
+        ledger.hold(offsets[index], releases[index], this.ledger.judgedThrough);
+      }
+    }
+    // The next fetch of this partition starts after the last message handled; the rest of
+    // the batch (stopped for alignment, or closing) is fetched again.
+    if (lastHandled >= 0) payload.resolveOffset(String(lastHandled));
+    this.counters.messages += held;
+    if (duplicates > 0) {
+      this.counters.redeliveriesSkipped += duplicates;
+      this.emit({ type: 'redelivery-skipped', partition, messages: duplicates });
+    }
+    if (this.closed) return;
+    this.align(partition, stoppedAt, newestTs, Math.max(lastHandled, alreadyCounted), batch);
+    if (this.pendingEnd !== null) {
+      const end = this.pendingEnd.get(partition);
+      if (end !== undefined && Math.max(lastHandled, alreadyCounted) + 1 >= end) {
+        this.pendingEnd.delete(partition);
+        if (this.pendingEnd.size === 0) this.reachEnd();
+      }
+    }
+  }
+
+  /** Pauses a partition that ran ahead in event time, and resumes those that may go on. */
+  private align(
+    partition: number,
+    stoppedAt: number,
+    newestTs: number,
+    highestHandled: number,
+    batch: EachBatchPayload['batch'],
+  ): void {
+    const consumer = this.consumer;
+    if (consumer === null) return;
+    if (Number.isNaN(stoppedAt)) {
+      this.alignment.advanced(
+        partition,
+        newestTs,
+        highestHandled + 1 < Number(batch.highWatermark),
+      );
+    } else {
+      this.alignment.pause(partition, stoppedAt);
+      consumer.pause([{ topic: this.topic, partitions: [partition] }]);
+    }
+    const resumable = this.alignment.takeResumable();
+    if (resumable.length > 0) consumer.resume([{ topic: this.topic, partitions: resumable }]);
+  }
+
+  private reachEnd(): void {
+    if (this.ended) return;
+    this.ended = true;
+    this.emit({ type: 'caught-up', messages: this.counters.messages });
+    this.handoff?.end();
+    this.finished.resolve();
+  }
+
+  private commitSoon(): void {
+    const consumer = this.consumer;
+    if (this.closed || consumer === null || this.committing !== null) return;
+    this.committing = this.commitNow(consumer).finally(() => {
+      this.committing = null;
+    });
+  }
+
+  /** Commits the judged positions that differ from the last confirmed commit. */
+  private async commitNow(consumer: Consumer): Promise<void> {
+    const metadata = commitMetadata(this.ledger.judgedThrough);
+    const changed = this.ledger
+      .commitOffsets()
+      .filter(({ partition, offset }) => this.confirmed.get(partition) !== `${offset}|${metadata}`);
+    if (changed.length === 0) return;
+    try {
+      await consumer.commitOffsets(
+        changed.map(({ partition, offset }) => ({
+          topic: this.topic,
+          partition,
+          offset: String(offset),
+          metadata,
+        })),
+      );
+    } catch (error) {
+      this.emit({ type: 'commit-failed', error: causeText(error) });
+    }
+  }
+
+  private confirmCommit(payload: {
+    topics: {
+      topic: string;
+      partitions: { partition: number; offset: unknown; metadata?: unknown }[];
+    }[];
+  }): void {
+    const offsets: PartitionOffset[] = [];
+    let judged: number | null = null;
+    for (const { topic, partitions } of payload.topics) {
+      if (topic !== this.topic) continue;
+      for (const { partition, offset, metadata } of partitions) {
+        const text = typeof metadata === 'string' ? metadata : null;
+        this.confirmed.set(partition, `${String(offset)}|${text}`);
+        offsets.push({ partition, offset: Number(String(offset)) });
+        const through = judgedThroughFromMetadata(text);
+        if (Number.isFinite(through)) judged = through;
+      }
+    }
+    if (offsets.length === 0) return;
+    this.counters.commits++;
+    this.emit({ type: 'committed', offsets, judgedThrough: judged });
+  }
+
+  private async shutDown(): Promise<void> {
+    this.closed = true;
+    this.stopping.abort(
+      new KafkaIngestError(`the Kafka source of --topic ${this.topic} was closed`),
+    );
+    if (this.commitTimer !== null) clearInterval(this.commitTimer);
+    this.handoff?.end();
+    await this.connecting?.catch(() => undefined);
+    await this.committing;
+    const consumer = this.consumer;
+    this.consumer = null;
+    if (consumer !== null) {
+      await this.commitNow(consumer);
+      await consumer.disconnect().catch(() => undefined);
+    }
+    this.finished.resolve();
+  }
+
+  private fail(error: unknown): void {
+    const failure =
+      error instanceof KafkaIngestError
+        ? error
+        : new KafkaIngestError(causeText(error), { cause: error });
+    this.finished.reject(failure);
+    this.handoff?.fail(failure);
+    void this.close();
+  }
+
+  private emit(event: KafkaSourceEvent): void {
+    for (const listener of this.listeners) {
+      try {
+        listener(event);
+      } catch {
+        // A listener's failure must not stop the source.
+      }
+    }
+  }
+}
+
+/**
+ * The sink between decoder and pipeline: passes records on, notes the latest
+ * window end each message's records need judged, and drops replayed records
+ * whose windows a previous run judged. Plain fields, no closure per message.
+ */
+class ReleaseTracker implements RecordSink {
+  target: RecordSink = { record() {}, reject() {} };
+  latestRelease = Number.NEGATIVE_INFINITY;
+  resumeFloor = Number.NEGATIVE_INFINITY;
+  alreadyJudged = 0;
+  private readonly hopMs: number;
+  private readonly windowMs: number;
+
+  constructor(ledger: OffsetLedger) {
+    this.hopMs = ledger.hopMs;
+    this.windowMs = ledger.windowMs;
+  }
+
+  record(ts: number, shard: string, count: number, key: string | undefined): void {
+    const release = Math.floor(ts / this.hopMs) * this.hopMs + this.windowMs;
+    if (release <= this.resumeFloor) {
+      this.alreadyJudged++;
+      return;
+    }
+    if (release > this.latestRelease) this.latestRelease = release;
+    this.target.record(ts, shard, count, key);
+  }
+
+  reject(reason: RejectionReason): void {
+    this.target.reject(reason);
+  }
+}
+
+/** Builds items into the array `current()` returns. */
+class ItemCollector implements RecordSink {
+  private readonly current: () => SourceItem[];
+
+  constructor(current: () => SourceItem[]) {
+    this.current = current;
+  }
+
+  record(ts: number, shard: string, count: number, key: string | undefined): void {
+    const record: CountRecord =
+      key === undefined ? { ts, shard, count } : { ts, shard, count, key };
+    this.current().push(record);
+  }
+
+  reject(reason: RejectionReason): void {
+    this.current().push({ reason });
+  }
+}
+
+/**
+ * A one-slot hand-over from the consumer's batch callback to an iterating
+ * reader: `put` waits (heartbeating, so the group keeps the member) until the
+ * reader takes the batch, and answers false if the source ended first.
+ */
+class BatchHandoff {
+  private offered: { items: SourceItem[]; taken: (accepted: boolean) => void } | null = null;
+  private waiting: {
+    resolve: (items: SourceItem[] | null) => void;
+    reject: (error: unknown) => void;
+  } | null = null;
+  private done = false;
+  private failure: unknown = null;
+
+  async put(items: SourceItem[], payload: EachBatchPayload): Promise<boolean> {
+    if (this.done) return false;
+    if (this.waiting !== null) {
+      const reader = this.waiting;
+      this.waiting = null;
+      reader.resolve(items);
+      return true;
+    }
+    const accepted = new Promise<boolean>((resolve) => {
+      this.offered = { items, taken: resolve };
+    });
+    const beat = setInterval(() => {
+      payload.heartbeat().catch(() => undefined);
+    }, 2000);
+    try {
+      return await accepted;
+    } finally {
+      clearInterval(beat);
+    }
+  }
+
+  take(): Promise<SourceItem[] | null> {
+    if (this.failure !== null) return Promise.reject(this.failure);
+    if (this.offered !== null) {
+      const { items, taken } = this.offered;
+      this.offered = null;
+      taken(true);
+      return Promise.resolve(items);
+    }
+    if (this.done) return Promise.resolve(null);
+    return new Promise((resolve, reject) => {
+      this.waiting = { resolve, reject };
+    });
+  }
+
+  end(): void {
+    this.done = true;
+    this.offered?.taken(false);
+    this.offered = null;
+    this.waiting?.resolve(null);
+    this.waiting = null;
+  }
+
+  fail(error: unknown): void {
+    this.failure = error;
+    this.offered?.taken(false);
+    this.offered = null;
+    this.waiting?.reject(error);
+    this.waiting = null;
+    this.done = true;
+  }
+}
+
+/** A promise settled once, from outside; an unobserved rejection is not reported as unhandled. */
+class Settled {
+  readonly promise: Promise<void>;
+  private settle!: { resolve: () => void; reject: (error: unknown) => void };
+
+  constructor() {
+    this.promise = new Promise<void>((resolve, reject) => {
+      this.settle = { resolve, reject };
+    });
+    this.promise.catch(() => undefined);
+  }
+
+  resolve(): void {
+    this.settle.resolve();
+  }
+
+  reject(error: unknown): void {
+    this.settle.reject(error);
+  }
+}
