@@ -3,13 +3,15 @@ import { UsageError } from '../window/errors.js';
 import type { Command, CommandIO } from './command.js';
 import { oddsCommand } from './odds.js';
 import { planCommand } from './plan.js';
+import { simulateCommand } from './simulate.js';
+import { watchCommand } from './watch.js';
 
 /**
  * Entry point: picks the subcommand, runs it, and is the only place that decides the exit
  * code (0 success, 2 bad usage with a one-line reason, 1 runtime failure).
  */
 
-const COMMANDS: readonly Command[] = [oddsCommand, planCommand];
+const COMMANDS: readonly Command[] = [watchCommand, oddsCommand, planCommand, simulateCommand];
 
 function topHelp(): string {
   const width = Math.max(...COMMANDS.map((c) => c.name.length));

@@ -1,0 +1,536 @@
+import { closeSync, openSync, writeSync } from 'node:fs';
+import { access, constants } from 'node:fs/promises';
+import type { Readable } from 'node:stream';
+import { FileSource } from '../ingest/file-source.js';
+import { ScenarioSource } from '../ingest/scenario-source.js';
+import { readShardMapFile } from '../ingest/shard-map-file.js';
+import { Judge } from '../judge/judge.js';
+import { defaultJudgeSettings, type JudgeSettings } from '../judge/judge-settings.js';
+import { JudgingPipeline } from '../judge/judging-pipeline.js';
+import type { Incident, NullModelName, SpreadModeName } from '../judge/judgement.js';
+import { runScenario, type ScenarioRun } from '../scenario/scenario-run.js';
+import { isRejection, rejectionReasons, type RejectionReason } from '../window/count-record.js';
+import { UsageError } from '../window/errors.js';
+import { ShardUniverse } from '../window/shard-universe.js';
+import type { Command, CommandIO } from './command.js';
+import { duration, finiteNumber, parseOptions, probability, wholeNumber } from './option-values.js';
+import { durationOption, scenarioNamed, seedOption, startOption } from './scenario-options.js';
+
+const help = `Usage: shardwise watch (--input FILE|- | --scenario NAME) [options]
+
+Judges every closed window of per-shard request counts against random placement
+and prints one verdict per window as a JSON object on its own line (stdout); a
+summary goes to stderr at the end. Verdicts are statistical evidence under the
+null model they name, not certainty.
+
+Source (exactly one):
+  --input FILE|-          JSON Lines or CSV records (count reports, count batches,
+                          request events; CSV needs a ts,shard[,count] header).
+                          - reads standard input, which counts as live: while it
+                          is quiet, windows close as event time is taken to move
+                          on with the wall clock.
+  --scenario NAME         a built-in simulated cluster: demo, chance, hotspot,
+                          dead-shard, failover, zipf-keys, weighted, diurnal
+    --seed S              its seed, 0..4294967295 (default 1)
+    --duration D          its length, e.g. 10m (default: with --pace fast the
+                          scenario's suggested length, in real time until
+                          interrupted)
+    --start TIME          its first instant, ISO-8601 with a zone or epoch ms
+                          (default: now, rounded down to a window boundary)
+    --pace real-time|fast real-time releases each second of traffic once it
+                          has passed (default); fast replays at full speed
+  A Kafka source is not wired into watch yet.
+
+Shard universe:
+  --shards N|A..B|a,b,c   declare the shards, equal shares: a count (ids 0..N-1),
+                          a range with a prefix (s-0..s-63) or a list
+  --shard-map FILE        declare the shards with relative weights (hash-range
+                          sizes, capacities): CSV shard,weight or JSON {"s-0": 1}
+  --max-shards N          most shards accepted (default 100000)
+  Without either the universe grows as shards report; a shard that never
+  reports is then invisible, so the cold tests are off and the output says so.
+  A scenario declares its own shards and shares.
+
+Windows:
+  --window D              window length (default 10s)
+  --hop D                 distance between window starts; must divide --window
+                          (default: --window, tumbling windows)
+  --lateness D            how long to wait for late records (default 2s)
+
+Judging:
+  --alpha A               significance level of every test (default 0.001)
+  --min-excess X          a hotspot must also carry at least (1 + X) times its
+                          fair share (default 0.2): at huge N a tiny excess is
+                          significant and irrelevant
+  --min-dispersion F      "uneven" needs the dispersion index phi above F
+                          (default 1.5)
+  --max-detectable F      "too little traffic" when the smallest detectable
+                          hotspot is above F times the fair share (default 3)
+  --null uniform|map|baseline
+                          shares expected under random placement: equal, from
+                          the shard map (or the scenario), or learned from the
+                          trailing windows; default map with --shard-map or
+                          --scenario, else uniform. With unequal hash ranges
+                          only map (or baseline) is honest.
+  --baseline N            baseline span in windows (default 60): exponentially
+                          weighted counts, shrunk toward the declared shares by
+                          a prior worth 100 requests per shard; the declared
+                          shares are used until N/4 windows are learned; windows
+                          with an open incident or a flagged shard are not
+                          learned
+  --spread exact|robust|auto
+                          exact: multinomial tests as they are; robust: counts
+                          divided by the robust dispersion (median squared
+                          Pearson residual / 0.4549, floored at 1), so only
+                          shards that stand out from the general spread are
+                          flagged; auto (default): exact unless the spread test
+                          rejects at alpha, then robust
+  --confirm K             consecutive flagged windows that open an incident
+                          (default 3)
+  --clear J               consecutive clean windows that clear it (default 5)
+  --max-flagged N         most shards listed per window (default 10)
+
+Output:
+  --no-ui                 JSON Lines on stdout (the live screen is not built
+                          yet, so this is also what runs without it, after a
+                          notice on stderr)
+  --record FILE           also write each verdict with the window's full count
+                          vector and the settings, one JSON line per window,
+                          written through per window
+
+Findings per window: hotspot, cold, uneven, chance, too little traffic; cold and
+hotspot together are named pattern "failover". Exit status: 0 when the input
+was read to its end (or the run was interrupted), 2 for bad usage, 1 for a
+failure while running.
+`;
+
+/** The options parseArgs accepts; exported so a test can hold --help to naming every one. */
+export const watchOptions = {
+  input: { type: 'string' },
+  scenario: { type: 'string' },
+  seed: { type: 'string' },
+  duration: { type: 'string' },
+  start: { type: 'string' },
+  pace: { type: 'string' },
+  shards: { type: 'string' },
+  'shard-map': { type: 'string' },
+  'max-shards': { type: 'string' },
+  window: { type: 'string' },
+  hop: { type: 'string' },
+  lateness: { type: 'string' },
+  alpha: { type: 'string' },
+  'min-excess': { type: 'string' },
+  'min-dispersion': { type: 'string' },
+  'max-detectable': { type: 'string' },
+  null: { type: 'string' },
+  baseline: { type: 'string' },
+  spread: { type: 'string' },
+  confirm: { type: 'string' },
+  clear: { type: 'string' },
+  'max-flagged': { type: 'string' },
+  record: { type: 'string' },
+  'no-ui': { type: 'boolean' },
+} as const;
+
+type Values = ReturnType<typeof parseOptions<typeof watchOptions>>;
+
+/** Where the records come from, once the options are read. */
+type SourcePlan =
+  | { readonly kind: 'file'; readonly path: string }
+  | {
+      readonly kind: 'scenario';
+      readonly name: string;
+      readonly seed: number;
+      readonly startMs: number;
+      readonly durationMs: number;
+      readonly pace: 'real-time' | 'fast';
+      /** The seeded run: its universe is the one windows count under. */
+      readonly run: ScenarioRun;
+    };
+
+/** Everything `watch` needs, validated before any record is read. */
+interface WatchPlan {
+  readonly source: SourcePlan;
+  readonly universe: ShardUniverse;
+  readonly windowMs: number;
+  readonly hopMs: number;
+  readonly latenessMs: number;
+  readonly judge: JudgeSettings;
+  readonly recordPath: string | undefined;
+  readonly noUi: boolean;
+}
+
+/** How often a live source's windows are checked against the wall clock. */
+const livePollMs = 250;
+
+export const watchCommand: Command = {
+  name: 'watch',
+  summary: 'judge each window of per-shard counts from a file, stdin or a simulated cluster',
+  help,
+  async run(argv, io) {
+    return watch(await readPlan(parseOptions(argv, watchOptions)), io);
+  },
+};
+
+async function readPlan(values: Values): Promise<WatchPlan> {
+  if (values.input !== undefined && values.scenario !== undefined) {
+    throw new UsageError(
+      '--input',
+      values.input,
+      'cannot be combined with --scenario (one source at a time)',
+    );
+  }
+  if (values.input === undefined && values.scenario === undefined) {
+    throw new UsageError(
+      '--input',
+      '',
+      'is missing: give --input FILE|- or --scenario NAME (see --help)',
+    );
+  }
+  const windowMs = values.window === undefined ? 10_000 : duration('--window', values.window);
+  const hopMs = values.hop === undefined ? windowMs : duration('--hop', values.hop);
+  if (hopMs > windowMs || windowMs % hopMs !== 0) {
+    throw new UsageError(
+      '--hop',
+      values.hop as string,
+      `does not divide --window ${values.window ?? '10s'}`,
+    );
+  }
+  const latenessMs =
+    values.lateness === undefined
+      ? 2_000
+      : duration('--lateness', values.lateness, { allowZero: true });
+  const maxShards =
+    values['max-shards'] === undefined
+      ? undefined
+      : wholeNumber('--max-shards', values['max-shards'], 1);
+
+  let source: SourcePlan;
+  let universe: ShardUniverse;
+  let sharesDeclared: boolean;
+  if (values.scenario !== undefined) {
+    for (const name of ['shards', 'shard-map'] as const) {
+      if (values[name] !== undefined) {
+        throw new UsageError(
+          `--${name}`,
+          values[name],
+          'cannot be combined with --scenario (the scenario declares its shards)',
+        );
+      }
+    }
+    const definition = scenarioNamed(values.scenario);
+    const pace = values.pace ?? 'real-time';
+    if (pace !== 'real-time' && pace !== 'fast') {
+      throw new UsageError('--pace', pace, 'is not real-time or fast');
+    }
+    const startMs = startOption(values.start, Math.floor(Date.now() / windowMs) * windowMs);
+    const durationMs = durationOption(
+      values.duration,
+      pace === 'fast' ? definition.suggestedDurationMs : Number.POSITIVE_INFINITY,
+    );
+    const seed = seedOption(values.seed);
+    const run = runScenario(definition, { seed, startMs, durationMs });
+    source = { kind: 'scenario', name: definition.name, seed, startMs, durationMs, pace, run };
+    universe = run.universe;
+    sharesDeclared = true;
+  } else {
+    for (const name of ['seed', 'duration', 'start', 'pace'] as const) {
+      if (values[name] !== undefined) {
+        throw new UsageError(`--${name}`, values[name], 'applies only to --scenario');
+      }
+    }
+    const path = values.input as string;
+    if (path !== '-') await checkReadable(path);
+    source = { kind: 'file', path };
+    if (values.shards !== undefined && values['shard-map'] !== undefined) {
+      throw new UsageError(
+        '--shards',
+        values.shards,
+        'cannot be combined with --shard-map (one universe at a time)',
+      );
+    }
+    if (values['shard-map'] !== undefined) {
+      universe = await readShardMapFile(values['shard-map'], { maxShards });
+      sharesDeclared = true;
+    } else if (values.shards !== undefined) {
+      universe = ShardUniverse.fromShardsOption(values.shards, { maxShards });
+      sharesDeclared = false;
+    } else {
+      universe = ShardUniverse.growing({ maxShards });
+      sharesDeclared = false;
+    }
+  }
+
+  const nullModel = (values.null ?? (sharesDeclared ? 'map' : 'uniform')) as NullModelName;
+  if (nullModel === 'map' && !sharesDeclared) {
+    throw new UsageError(
+      '--null',
+      'map',
+      'needs --shard-map FILE (or a --scenario) to take the shares from; use uniform for equal shares',
+    );
+  }
+  const judge: JudgeSettings = {
+    ...defaultJudgeSettings,
+    null: nullModel,
+    spread: (values.spread ?? defaultJudgeSettings.spread) as SpreadModeName,
+    alpha:
+      values.alpha === undefined
+        ? defaultJudgeSettings.alpha
+        : probability('--alpha', values.alpha),
+    minExcess:
+      values['min-excess'] === undefined
+        ? defaultJudgeSettings.minExcess
+        : finiteNumber('--min-excess', values['min-excess'], { min: 0 }),
+    minDispersion:
+      values['min-dispersion'] === undefined
+        ? defaultJudgeSettings.minDispersion
+        : finiteNumber('--min-dispersion', values['min-dispersion'], { min: 1 }),
+    maxDetectable:
+      values['max-detectable'] === undefined
+        ? defaultJudgeSettings.maxDetectable
+        : finiteNumber('--max-detectable', values['max-detectable'], {
+            min: 1,
+            minExclusive: true,
+          }),
+    confirm:
+      values.confirm === undefined
+        ? defaultJudgeSettings.confirm
+        : wholeNumber('--confirm', values.confirm, 1),
+    clear:
+      values.clear === undefined
+        ? defaultJudgeSettings.clear
+        : wholeNumber('--clear', values.clear, 1),
+    maxFlagged:
+      values['max-flagged'] === undefined
+        ? defaultJudgeSettings.maxFlagged
+        : wholeNumber('--max-flagged', values['max-flagged'], 1),
+    baselineWindows:
+      values.baseline === undefined
+        ? defaultJudgeSettings.baselineWindows
+        : wholeNumber('--baseline', values.baseline, 1),
+    hopMs,
+  };
+  return {
+    source,
+    universe,
+    windowMs,
+    hopMs,
+    latenessMs,
+    judge,
+    recordPath: values.record,
+    noUi: values['no-ui'] === true,
+  };
+}
+
+async function checkReadable(path: string): Promise<void> {
+  try {
+    await access(path, constants.R_OK);
+  } catch (error) {
+    throw new UsageError('--input', path, `cannot be read (${(error as Error).message})`, {
+      cause: error,
+    });
+  }
+}
+
+/** Runs the pipeline over the source; resolves to the exit code. */
+async function watch(plan: WatchPlan, io: CommandIO): Promise<number> {
+  // Built before the record file is opened, so a bad setting leaves no file behind.
+  const judge = new Judge(plan.universe, plan.judge);
+  const pipeline = new JudgingPipeline(
+    plan.universe,
+    { windowMs: plan.windowMs, hopMs: plan.hopMs, latenessMs: plan.latenessMs },
+    judge,
+  );
+  const recorder = plan.recordPath === undefined ? null : openRecording(plan.recordPath);
+  if (!plan.noUi) {
+    io.stderr.write(
+      'shardwise watch: the live screen is not built yet; printing verdicts as JSON Lines, as with --no-ui\n',
+    );
+  }
+  const output = new LineOutput(io.stdout);
+  const incidents: { opened: Incident[]; cleared: number; openAtEnd: readonly Incident[] } = {
+    opened: [],
+    cleared: 0,
+    openAtEnd: [],
+  };
+  let windows = 0;
+  const settings = recordedSettings(plan);
+  let recordedIds = -1;
+  pipeline.events.on('window judged', ({ window, judgement }) => {
+    windows++;
+    incidents.openAtEnd = judgement.incidents;
+    output.write(JSON.stringify(judgement));
+    if (recorder !== null) {
+      // The ids go with the first line and again whenever a growing universe has grown.
+      const withIds = window.counts.length !== recordedIds;
+      recordedIds = window.counts.length;
+      const line = {
+        ...judgement,
+        counts: Array.from(window.counts),
+        settings,
+        ...(withIds ? { shardIds: plan.universe.ids.slice(0, window.counts.length) } : {}),
+      };
+      writeSync(recorder.fd, JSON.stringify(line) + '\n');
+    }
+  });
+  pipeline.events.on('incident opened', (incident) => incidents.opened.push(incident));
+  pipeline.events.on('incident cleared', () => incidents.cleared++);
+  pipeline.events.on('source stalled', ({ quietMs }) => {
+    io.stderr.write(
+      `shardwise watch: no records for ${Math.round(quietMs / 1000)} s; windows now close on the wall clock\n`,
+    );
+  });
+
+  const live =
+    plan.source.kind === 'scenario' ? plan.source.pace === 'real-time' : plan.source.path === '-';
+  const source =
+    plan.source.kind === 'file'
+      ? new FileSource(
+          plan.source.path,
+          plan.source.path === '-' ? { stream: io.stdin as unknown as Readable } : {},
+        )
+      : new ScenarioSource(plan.source.run, { pace: plan.source.pace });
+  let interrupted = false;
+  const interrupt = () => {
+    interrupted = true;
+    void source.close();
+  };
+  process.once('SIGINT', interrupt);
+  process.once('SIGTERM', interrupt);
+  output.onFailure(interrupt);
+  const poll = live ? setInterval(() => pipeline.tick(), livePollMs) : null;
+  try {
+    for await (const batch of source.batches()) {
+      for (const item of batch) {
+        if (isRejection(item)) pipeline.reject(item.reason, item.line);
+        else pipeline.record(item.ts, item.shard, item.count);
+      }
+      await output.drained();
+      if (interrupted) break;
+    }
+    // An interrupted run keeps the windows already due and drops the partial ones: a
+    // half-filled window would read as a lull.
+    if (interrupted) pipeline.tick();
+    else pipeline.finish();
+  } finally {
+    if (poll !== null) clearInterval(poll);
+    process.removeListener('SIGINT', interrupt);
+    process.removeListener('SIGTERM', interrupt);
+    if (recorder !== null) closeSync(recorder.fd);
+  }
+  await output.drained();
+  output.check();
+  io.stderr.write(summary(windows, pipeline, incidents, interrupted));
+  return 0;
+}
+
+function openRecording(path: string): { fd: number } {
+  try {
+    return { fd: openSync(path, 'w') };
+  } catch (error) {
+    throw new UsageError('--record', path, `cannot be written (${(error as Error).message})`, {
+      cause: error,
+    });
+  }
+}
+
+/** The settings a recording carries, so `review` can say what each verdict rested on. */
+function recordedSettings(plan: WatchPlan): Record<string, unknown> {
+  return {
+    source:
+      plan.source.kind === 'file'
+        ? { input: plan.source.path }
+        : {
+            scenario: plan.source.name,
+            seed: plan.source.seed,
+            start: new Date(plan.source.startMs).toISOString(),
+            durationMs: Number.isFinite(plan.source.durationMs) ? plan.source.durationMs : null,
+            pace: plan.source.pace,
+          },
+    windowMs: plan.windowMs,
+    latenessMs: plan.latenessMs,
+    declaredUniverse: plan.universe.declared,
+    ...plan.judge,
+  };
+}
+
+function summary(
+  windows: number,
+  pipeline: JudgingPipeline,
+  incidents: { opened: Incident[]; cleared: number; openAtEnd: readonly Incident[] },
+  interrupted: boolean,
+): string {
+  const totals = pipeline.totals;
+  const rejected = rejectionReasons
+    .filter((reason) => (totals.rejected[reason] ?? 0) > 0)
+    .map((reason: RejectionReason) => `${reason} ${totals.rejected[reason]}`);
+  const rejectedCount = Object.values(totals.rejected).reduce(
+    (sum, count) => sum + (count ?? 0),
+    0,
+  );
+  const lines = [
+    `shardwise watch: ${windows} windows judged, ${totals.recordsSeen} records read, ${totals.load} requests counted`,
+    `  rejected: ${rejectedCount}${rejected.length > 0 ? ` (${rejected.join(', ')})` : ''}; late: ${totals.late} requests in ${totals.lateRecords} records`,
+    `  incidents: ${incidents.opened.length} opened, ${incidents.cleared} cleared, ${incidents.openAtEnd.length} open at the end`,
+    ...incidents.opened.map(
+      (incident) => `    ${incident.finding} on ${incident.shard} since ${incident.since}`,
+    ),
+  ];
+  if (totals.quietWindowsSkipped > 0) {
+    lines.push(`  ${totals.quietWindowsSkipped} empty windows in one long gap were not judged`);
+  }
+  if (interrupted && pipeline.openWindows > 0) {
+    lines.push(`  interrupted: ${pipeline.openWindows} partial windows not judged`);
+  }
+  return lines.join('\n') + '\n';
+}
+
+/**
+ * Lines to a stream with backpressure: writes never wait, and the caller awaits
+ * {@link drained} between batches so a slow reader (a pipe into a pager) holds the source
+ * back instead of filling memory. A reader that goes away (EPIPE) ends the run quietly;
+ * any other write error is kept and rethrown by {@link check}.
+ */
+class LineOutput {
+  private readonly stream: NodeJS.WritableStream;
+  private full = false;
+  private failed: NodeJS.ErrnoException | null = null;
+
+  constructor(stream: NodeJS.WritableStream) {
+    this.stream = stream;
+  }
+
+  write(line: string): void {
+    if (this.failed !== null) return;
+    if (!this.stream.write(line + '\n')) this.full = true;
+  }
+
+  /** Calls `handler` once if writing fails; later writes are dropped. */
+  onFailure(handler: () => void): void {
+    this.stream.once('error', (error: NodeJS.ErrnoException) => {
+      this.failed = error;
+      handler();
+    });
+  }
+
+  async drained(): Promise<void> {
+    if (!this.full || this.failed !== null) return;
+    this.full = false;
+    await new Promise<void>((resolve) => {
+      const done = () => {
+        this.stream.removeListener('drain', done);
+        this.stream.removeListener('error', done);
+        resolve();
+      };
+      this.stream.once('drain', done);
+      this.stream.once('error', done);
+    });
+  }
+
+  /** Throws the write error, if any, unless it was only the reader going away. */
+  check(): void {
+    if (this.failed !== null && this.failed.code !== 'EPIPE') {
+      throw new Error(`cannot write the verdicts (${this.failed.message})`, { cause: this.failed });
+    }
+  }
+}

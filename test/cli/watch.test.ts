@@ -1,0 +1,314 @@
+import { mkdtempSync, readFileSync, writeFileSync } from 'node:fs';
+import { tmpdir } from 'node:os';
+import { join } from 'node:path';
+import { PassThrough, Readable } from 'node:stream';
+import { describe, expect, it } from 'vitest';
+import { main } from '../../src/cli/main.js';
+import { simulateCommand, simulateOptions } from '../../src/cli/simulate.js';
+import { watchCommand, watchOptions } from '../../src/cli/watch.js';
+import type { Judgement } from '../../src/judge/judgement.js';
+import { runScenario } from '../../src/scenario/scenario-run.js';
+
+async function run(
+  args: string[],
+  stdinText = '',
+): Promise<{ code: number; out: string; err: string }> {
+  const stdout = new PassThrough();
+  const stderr = new PassThrough();
+  let out = '';
+  let err = '';
+  stdout.on('data', (d) => (out += d));
+  stderr.on('data', (d) => (err += d));
+  const stdin = Readable.from([stdinText]);
+  const code = await main(args, { stdout, stderr, stdin, env: {} });
+  return { code, out, err };
+}
+
+function verdicts(out: string): Judgement[] {
+  return out
+    .trim()
+    .split('\n')
+    .map((line) => JSON.parse(line) as Judgement);
+}
+
+const start = '2025-12-01T00:00:00Z';
+const startMs = Date.parse(start);
+const dir = mkdtempSync(join(tmpdir(), 'shardwise-watch-'));
+
+describe('shardwise simulate', () => {
+  it('writes the seeded scenario records and says what was planted', async () => {
+    const file = join(dir, 'hotspot.jsonl');
+    const { code, err } = await run([
+      'simulate',
+      '--scenario',
+      'hotspot',
+      '--to',
+      file,
+      '--start',
+      start,
+      '--seed',
+      '7',
+    ]);
+    expect(code).toBe(0);
+    const lines = readFileSync(file, 'utf8').trim().split('\n');
+    // Ground truth of the scenario: 64 count reports per second for its suggested 4 minutes.
+    expect(lines).toHaveLength(64 * 240);
+    expect(JSON.parse(lines[0])).toMatchObject({ ts: startMs, shard: 'seat-00' });
+    const run7 = runScenario('hotspot', { seed: 7, startMs, durationMs: 240_000 });
+    const first = run7.records().next().value;
+    expect(lines[0]).toBe(`{"ts":${first?.ts},"shard":"seat-00","count":${first?.count}}`);
+    expect(err).toMatch(/15360 records of scenario hotspot \(seed 7\)/);
+    expect(err).toMatch(
+      /planted: hotspot on seat-17, 1.5x its fair share, 2025-12-01T00:01:00.000Z to 2025-12-01T00:03:00.000Z/,
+    );
+  });
+
+  it('writes CSV to stdout with --format csv', async () => {
+    const { code, out } = await run([
+      'simulate',
+      '--scenario',
+      'chance',
+      '--to',
+      '-',
+      '--format',
+      'csv',
+      '--duration',
+      '2s',
+      '--start',
+      start,
+    ]);
+    expect(code).toBe(0);
+    const lines = out.trim().split('\n');
+    expect(lines[0]).toBe('ts,shard,count,key');
+    expect(lines).toHaveLength(1 + 64 * 2);
+  });
+});
+
+describe('shardwise watch on a file', () => {
+  it('prints one verdict per closed window that finds the planted hotspot (exit 0)', async () => {
+    const file = join(dir, 'watch-hotspot.jsonl');
+    await run(['simulate', '--scenario', 'hotspot', '--to', file, '--start', start, '--seed', '7']);
+    const { code, out, err } = await run([
+      'watch',
+      '--input',
+      file,
+      '--shards',
+      'seat-00..seat-63',
+      '--no-ui',
+    ]);
+    expect(code).toBe(0);
+    const windows = verdicts(out);
+    // 4 minutes of 10 s windows.
+    expect(windows).toHaveLength(24);
+    // Ground truth: seat-17 at 1.5x from 1:00 to 3:00, i.e. windows 6..17.
+    windows.forEach((verdict, index) => {
+      const planted = index >= 6 && index < 18;
+      expect(verdict.findings.includes('hotspot')).toBe(planted);
+      if (planted) expect(verdict.fullest?.shard).toBe('seat-17');
+    });
+    expect(windows[8].incidents).toEqual([
+      { shard: 'seat-17', finding: 'hotspot', since: '2025-12-01T00:01:00.000Z', windows: 3 },
+    ]);
+    expect(windows[0].null).toBe('uniform');
+    expect(err).toMatch(/^shardwise watch: 24 windows judged, 15360 records read/m);
+    expect(err).toMatch(/incidents: 1 opened, 1 cleared, 0 open at the end/);
+    expect(err).toMatch(/hotspot on seat-17 since 2025-12-01T00:01:00.000Z/);
+  });
+
+  it('counts rejected records by reason and keeps going', async () => {
+    const file = join(dir, 'bad.jsonl');
+    writeFileSync(
+      file,
+      [
+        '{"ts":1764547200000,"shard":"a","count":5}',
+        'not json',
+        '{"ts":1764547200000,"shard":"z","count":5}',
+        '{"ts":1764547200000,"shard":"b","count":-1}',
+        '{"ts":1764547201000,"shard":"b","count":5}',
+      ].join('\n'),
+    );
+    const { code, out, err } = await run(['watch', '--input', file, '--shards', 'a,b', '--no-ui']);
+    expect(code).toBe(0);
+    const [verdict] = verdicts(out);
+    expect(verdict.requests).toBe(10);
+    expect(verdict.rejected).toEqual({ 'not JSON': 1, 'outside universe': 1, 'negative count': 1 });
+    expect(err).toMatch(/rejected: 3 \(not JSON 1, negative count 1, outside universe 1\)/);
+  });
+
+  it('reads standard input with -, with the cold tests off for an undeclared universe', async () => {
+    const lines = [
+      '{"ts":1764547200000,"shard":"a","count":5}',
+      '{"ts":1764547201000,"shard":"b","count":5}',
+    ];
+    const { code, out } = await run(['watch', '--input', '-', '--no-ui'], lines.join('\n') + '\n');
+    expect(code).toBe(0);
+    const [verdict] = verdicts(out);
+    expect(verdict).toMatchObject({ shards: 2, requests: 10, coldTests: false });
+  });
+
+  it('writes a recording with the full count vector and the settings', async () => {
+    const file = join(dir, 'rec-source.jsonl');
+    await run([
+      'simulate',
+      '--scenario',
+      'dead-shard',
+      '--to',
+      file,
+      '--start',
+      start,
+      '--duration',
+      '20s',
+    ]);
+    const recording = join(dir, 'recording.jsonl');
+    const { code } = await run([
+      'watch',
+      '--input',
+      file,
+      '--shards',
+      'seat-00..seat-63',
+      '--no-ui',
+      '--record',
+      recording,
+      '--alpha',
+      '0.01',
+    ]);
+    expect(code).toBe(0);
+    const lines = readFileSync(recording, 'utf8')
+      .trim()
+      .split('\n')
+      .map((line) => JSON.parse(line));
+    expect(lines).toHaveLength(2);
+    expect(lines[0].counts).toHaveLength(64);
+    expect(lines[0].counts.reduce((sum: number, count: number) => sum + count, 0)).toBe(
+      lines[0].requests,
+    );
+    expect(lines[0].shardIds[17]).toBe('seat-17');
+    expect(lines[1].shardIds).toBeUndefined();
+    expect(lines[0].settings).toMatchObject({
+      alpha: 0.01,
+      null: 'uniform',
+      spread: 'auto',
+      windowMs: 10_000,
+      hopMs: 10_000,
+      source: { input: file },
+    });
+  });
+
+  it('prints a notice and falls back to JSON Lines without --no-ui', async () => {
+    const { code, out, err } = await run([
+      'watch',
+      '--scenario',
+      'chance',
+      '--pace',
+      'fast',
+      '--duration',
+      '10s',
+      '--start',
+      start,
+    ]);
+    expect(code).toBe(0);
+    expect(err.split('\n')[0]).toBe(
+      'shardwise watch: the live screen is not built yet; printing verdicts as JSON Lines, as with --no-ui',
+    );
+    expect(verdicts(out)).toHaveLength(1);
+  });
+});
+
+describe('shardwise watch: bad usage exits 2 with one line naming the option and the value', () => {
+  it.each([
+    [
+      ['watch', '--scenario', 'chance', '--alpha', '2'],
+      'shardwise watch: --alpha: "2" must be below 1',
+    ],
+    [
+      ['watch', '--scenario', 'chance', '--window', '0s'],
+      'shardwise watch: --window: "0s" must be a duration above zero',
+    ],
+    [
+      ['watch', '--scenario', 'chance', '--hop', '3s'],
+      'shardwise watch: --hop: "3s" does not divide --window 10s',
+    ],
+    [
+      ['watch', '--scenario', 'nope'],
+      'shardwise watch: --scenario: "nope" is not a built-in scenario (demo, chance, hotspot, dead-shard, failover, zipf-keys, weighted, diurnal)',
+    ],
+    [
+      ['watch', '--scenario', 'chance', '--pace', 'slow'],
+      'shardwise watch: --pace: "slow" is not real-time or fast',
+    ],
+    [
+      ['watch', '--scenario', 'chance', '--spread', 'wide'],
+      'shardwise watch: --spread: "wide" is not one of exact, robust, auto',
+    ],
+    [
+      ['watch', '--scenario', 'chance', '--confirm', '0'],
+      'shardwise watch: --confirm: "0" must be at least 1',
+    ],
+    [
+      ['watch', '--scenario', 'chance', '--seed', '-1'],
+      'shardwise watch: --seed: "-1" is not a whole number',
+    ],
+    [
+      ['watch', '--scenario', 'chance', '--shards', '64'],
+      'shardwise watch: --shards: "64" cannot be combined with --scenario (the scenario declares its shards)',
+    ],
+    [
+      ['watch', '--input', '-', '--null', 'map'],
+      'shardwise watch: --null: "map" needs --shard-map FILE (or a --scenario) to take the shares from; use uniform for equal shares',
+    ],
+    [
+      ['watch', '--input', '/no/such/file.jsonl'],
+      'shardwise watch: --input: "/no/such/file.jsonl" cannot be read',
+    ],
+    [
+      ['watch', '--input', '-', '--seed', '3'],
+      'shardwise watch: --seed: "3" applies only to --scenario',
+    ],
+    [
+      ['watch'],
+      'shardwise watch: --input: "" is missing: give --input FILE|- or --scenario NAME (see --help)',
+    ],
+    [
+      ['watch', '--frobnicate'],
+      'shardwise watch: --frobnicate: "--frobnicate" is not an option of this command (see --help)',
+    ],
+    [
+      ['simulate', '--scenario', 'chance'],
+      'shardwise simulate: --to: "" is missing: give a file or - for stdout',
+    ],
+    [
+      ['simulate', '--scenario', 'chance', '--to', '-', '--format', 'xml'],
+      'shardwise simulate: --format: "xml" is not jsonl or csv',
+    ],
+  ])('%j', async (args, message) => {
+    const { code, out, err } = await run(args);
+    expect(code).toBe(2);
+    expect(out).toBe('');
+    expect(err.trim().split('\n')).toHaveLength(1);
+    expect(err.trim().startsWith(message)).toBe(true);
+  });
+});
+
+describe('--help', () => {
+  it.each([
+    ['watch', watchCommand.help, watchOptions],
+    ['simulate', simulateCommand.help, simulateOptions],
+  ] as const)(
+    '%s --help exits 0 and names every option it accepts',
+    async (name, help, options) => {
+      const { code, out } = await run([name, '--help']);
+      expect(code).toBe(0);
+      expect(out).toBe(help);
+      for (const option of Object.keys(options)) expect(help).toMatch(new RegExp(`--${option}\\b`));
+      // And no option it does not accept (metrics and Kafka are not wired into these commands).
+      // Example command lines (indented "shardwise ...") name another command's options.
+      const own = help
+        .split('\n')
+        .filter((line) => !line.trimStart().startsWith('shardwise '))
+        .join('\n');
+      const named = new Set([...own.matchAll(/--([a-z][a-z-]*)/g)].map((match) => match[1]));
+      named.delete('help');
+      for (const option of named) expect(Object.keys(options)).toContain(option);
+    },
+  );
+});
