@@ -7,6 +7,7 @@ import {
   fullestQuantile,
   fullestTail,
 } from '../chance/shard-extremes.js';
+import { warmCeiling, warmFloor } from './warm-quantiles.js';
 
 /**
  * The chance engine's answers for a window, remembered across windows. With equal or fixed
@@ -20,6 +21,8 @@ import {
  */
 export class ChanceMemo {
   private readonly entries = new Map<string, unknown>();
+  /** The last ceiling and floor per shares and alpha, in counts, as search guesses. */
+  private readonly lastLevels = new Map<string, { fair: number; count: number }>();
   private readonly capacity: number;
 
   /** @param capacity most answers kept (default 4096) */
@@ -41,18 +44,31 @@ export class ChanceMemo {
     );
   }
 
-  /** The chance ceiling at `alpha`: fullestQuantile(placement, 1 - alpha). */
+  /**
+   * The chance ceiling at `alpha`: fullestQuantile(placement, 1 - alpha). For equal shares
+   * the search starts from the last ceiling asked for (see warm-quantiles.ts).
+   */
   ceiling(placement: Placement, version: string, alpha: number): number {
-    return this.remember(`C${version}|${placement.total}|${alpha}`, () =>
-      fullestQuantile(placement, 1 - alpha),
-    );
+    return this.remember(`C${version}|${placement.total}|${alpha}`, () => {
+      if (placement.shares === null && placement.total > 0) {
+        return this.warm(`C${version}|${alpha}`, placement, (guess) =>
+          warmCeiling(placement, alpha, guess),
+        );
+      }
+      return fullestQuantile(placement, 1 - alpha);
+    });
   }
 
-  /** The chance floor at `alpha`: emptiestQuantile(placement, alpha). */
+  /** The chance floor at `alpha`: emptiestQuantile(placement, alpha), warm-started likewise. */
   floor(placement: Placement, version: string, alpha: number): number {
-    return this.remember(`L${version}|${placement.total}|${alpha}`, () =>
-      emptiestQuantile(placement, alpha),
-    );
+    return this.remember(`L${version}|${placement.total}|${alpha}`, () => {
+      if (placement.shares === null && placement.total > 0) {
+        return this.warm(`L${version}|${alpha}`, placement, (guess) =>
+          warmFloor(placement, alpha, guess),
+        );
+      }
+      return emptiestQuantile(placement, alpha);
+    });
   }
 
   /** P(at least `observed` empty shards), emptyShardsTail. */
@@ -65,6 +81,18 @@ export class ChanceMemo {
   /** Mean of the empty-shard count, emptyShardMoments. */
   emptyMean(placement: Placement, version: string): number {
     return this.remember(`M${version}|${placement.total}`, () => emptyShardMoments(placement).mean);
+  }
+
+  /**
+   * Runs a warm-started search with a guess from the last answer under `key`: that count
+   * moved by the change in fair share. Keeps the new answer as the next guess.
+   */
+  private warm(key: string, placement: Placement, search: (guess: number) => number): number {
+    const fair = placement.total / placement.shardCount;
+    const last = this.lastLevels.get(key);
+    const relative = search(last === undefined ? Number.NaN : last.count + (fair - last.fair));
+    this.lastLevels.set(key, { fair, count: relative * fair });
+    return relative;
   }
 
   private remember<T>(key: string, compute: () => T): T {

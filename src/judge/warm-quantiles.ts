@@ -1,0 +1,110 @@
+import type { Placement } from '../chance/placement.js';
+import { emptiestTail, fullestTail } from '../chance/shard-extremes.js';
+
+/**
+ * The chance ceiling and floor for equal shares, searched from a guess. The chance
+ * engine's fullestQuantile and emptiestQuantile search whole counts from the fair share
+ * outward (about log2 of the range in tail evaluations, each up to a millisecond at
+ * m = 1e4); consecutive windows have nearly the same total, so the previous window's answer
+ * shifted by the change in fair share is usually within a count or two, and two or three
+ * evaluations settle it. Same predicate, same answer: the result equals the engine's to the
+ * last bit (tested), only the search path differs. Equal shares only; the judge asks the
+ * engine directly for weighted shares.
+ */
+
+/**
+ * The chance ceiling as a whole count: the smallest k with P(max >= k + 1) <= alpha, in
+ * relative load k / fair share, as fullestQuantile(placement, 1 - alpha) returns it.
+ * `guess` is a count near the answer (NaN: none). O(log |answer - guess|) tails.
+ * @example warmCeiling(makePlacement(64_000, 64), 0.001, 1130) // 1133 / 1000
+ */
+export function warmCeiling(placement: Placement, alpha: number, guess: number): number {
+  const total = placement.total;
+  const fair = total / placement.shardCount;
+  const level = 1 - alpha;
+  // The engine's predicate, written the same way so that rounding agrees.
+  const exceeds = (count: number) =>
+    Math.exp(fullestTail(placement, (count + 1) / fair).logProbability) > 1 - level;
+  // Below the mean no count can be the ceiling: the fullest shard always reaches it.
+  const least = Math.ceil(fair) - 1;
+  const start = Number.isFinite(guess)
+    ? Math.max(least + 1, Math.min(total, Math.round(guess)))
+    : least + 1;
+  let low: number;
+  let high: number;
+  if (exceeds(start)) {
+    low = start;
+    for (let width = 1; ; width *= 2) {
+      const next = Math.min(total, low + width);
+      if (!exceeds(next)) {
+        high = next;
+        break;
+      }
+      low = next;
+      if (low === total) return total / fair;
+    }
+  } else {
+    high = start;
+    low = least;
+    for (let width = 1; high - width > least; width *= 2) {
+      const next = high - width;
+      if (exceeds(next)) {
+        low = next;
+        break;
+      }
+      high = next;
+    }
+  }
+  while (high - low > 1) {
+    const mid = Math.floor((low + high) / 2);
+    if (exceeds(mid)) low = mid;
+    else high = mid;
+  }
+  return high / fair;
+}
+
+/**
+ * The chance floor as a whole count: the smallest k with P(min <= k) >= alpha, in relative
+ * load k / fair share, as emptiestQuantile(placement, alpha) returns it (0 when even an
+ * empty shard is that likely). `guess` is a count near the answer (NaN: none).
+ * @example warmFloor(makePlacement(64_000, 64), 0.001, 870) // 872 / 1000
+ */
+export function warmFloor(placement: Placement, alpha: number, guess: number): number {
+  const fair = placement.total / placement.shardCount;
+  const below = (count: number) =>
+    Math.exp(emptiestTail(placement, count / fair).logProbability) < alpha;
+  if (!below(0)) return 0;
+  // The emptiest shard never holds more than the fair share: the engine takes floor(fair)
+  // as the upper end without testing it, and so does this search.
+  const most = Math.floor(fair);
+  const start = Number.isFinite(guess) ? Math.max(1, Math.min(most, Math.round(guess))) : most;
+  let low = 0;
+  let high = most;
+  if (start < most && below(start)) {
+    low = start;
+    for (let width = 1; low + width < most; width *= 2) {
+      const next = low + width;
+      if (!below(next)) {
+        high = next;
+        break;
+      }
+      low = next;
+    }
+  } else if (start < most) {
+    high = start;
+    for (let width = 1; high - width > 0; width *= 2) {
+      const next = high - width;
+      if (below(next)) {
+        low = next;
+        break;
+      }
+      high = next;
+    }
+  }
+  while (high - low > 1) {
+    const mid = Math.floor((low + high) / 2);
+    if (below(mid)) low = mid;
+    else high = mid;
+  }
+  return high / fair;
+}
