@@ -9,100 +9,180 @@
  * and the slow one's records all come too late. Catching up happens exactly
  * when it hurts: at start from `earliest`, and after every restart or outage.
  *
- * The cure here: a partition may not process a message whose timestamp is
- * more than `alignmentMs` ahead of the slowest partition that still has a
- * backlog; it stops there (the rest of its batch is fetched again later) and
- * is paused until the slow ones catch up. With an alignment of at most the
- * lateness, and records in time order within each partition, no record is
- * late because of the catch-up. The clock is the Kafka message timestamp,
- * known without decoding; the project's producer sets it to the record's
- * `ts`, and for other producers the time of writing is a fair stand-in.
+ * The cure here is a merge: each fetched batch is buffered per partition,
+ * and messages are handed on in (nearly) timestamp order across the
+ * buffers. A message may go once it is at most `alignmentMs` ahead of every
+ * other partition still behind: the head of its buffer, or, for a partition
+ * with a backlog but nothing buffered (not fetched yet), its last timestamp
+ * handed on. A partition with something buffered is not fetched again until
+ * its buffer is empty, so memory stays at about one fetch per partition. A
+ * partition that has caught up holds nobody back, so idle partitions never
+ * stall the others. With an alignment of at most the lateness, and records
+ * in time order within each partition, no record is late because of the
+ * catch-up.
  *
- * A partition counts as behind ("lagging") while its highest processed
- * offset is below its high watermark; one that is caught up holds nobody
- * back, so idle partitions never stall the others. Partitions known to have
- * a backlog but not yet fetched hold everyone back until their first batch,
- * which the same fetch round brings. The paused partition with the lowest
- * next timestamp is always allowed on, so the set can never deadlock.
+ * The clock is the Kafka message timestamp, known without decoding; the
+ * project's producer sets it to the record's `ts`, and for other producers
+ * the time of writing is a fair stand-in. A message without a usable one
+ * goes at once.
  *
- * Plain numbers, no Kafka client: O(partitions) per batch.
+ * No Kafka client here; O(partitions) per run of messages handed on.
  */
-export class PartitionAlignment {
-  /** How far ahead of the slowest lagging partition a message may be, ms. */
+export class PartitionAlignment<M> {
+  /** How far ahead of the slowest partition behind a message may be, ms. */
   readonly alignmentMs: number;
-  /** Per lagging partition: last timestamp processed, or for a paused one its next message's. */
-  private readonly frontier = new Map<number, number>();
-  private readonly paused = new Set<number>();
+  private readonly timestampOf: (message: M) => number;
+  private readonly partitions = new Map<number, PartitionQueue<M>>();
 
-  /** @param alignmentMs the allowed lead, ms, at least 0 */
-  constructor(alignmentMs: number) {
+  /**
+   * @param alignmentMs the allowed lead, ms, at least 0 (Infinity: hand batches on as they come)
+   * @param timestampOf a message's timestamp, epoch ms
+   */
+  constructor(alignmentMs: number, timestampOf: (message: M) => number) {
     if (!(alignmentMs >= 0)) throw new RangeError(`alignment ${alignmentMs} ms is not 0 or more`);
     this.alignmentMs = alignmentMs;
+    this.timestampOf = timestampOf;
   }
 
-  /** Partitions now paused. */
-  get pausedPartitions(): readonly number[] {
-    return [...this.paused].sort((a, b) => a - b);
-  }
-
-  /** A partition has a backlog not yet fetched: it holds the others back until it reports. */
+  /** A partition has a backlog not yet fetched: it holds the others back until its first batch. */
   expect(partition: number): void {
-    if (!this.frontier.has(partition)) this.frontier.set(partition, Number.NEGATIVE_INFINITY);
+    this.queue(partition).lagging = true;
   }
 
   /**
-   * The latest message timestamp `partition` may process now: the slowest
-   * other lagging partition's frontier plus the alignment; Infinity when no
-   * other partition lags.
+   * Buffers a fetched batch (messages in offset order, none seen before);
+   * `caughtUp` says whether the partition has no more after them.
    */
-  limitFor(partition: number): number {
-    let slowest = Number.POSITIVE_INFINITY;
-    for (const [other, at] of this.frontier) {
-      if (other !== partition && at < slowest) slowest = at;
+  append(partition: number, messages: readonly M[], caughtUp: boolean): void {
+    const queue = this.queue(partition);
+    if (queue.next < queue.messages.length) {
+      queue.messages = queue.messages.slice(queue.next).concat(messages);
+    } else {
+      queue.messages = messages.slice();
     }
-    return slowest + this.alignmentMs;
+    queue.next = 0;
+    queue.lagging = !caughtUp;
   }
 
   /**
-   * After a batch was processed without stopping: the partition's newest
-   * processed timestamp, and whether it still has a backlog.
+   * Stops counting a partition as behind though its last batch said more
+   * was coming: for a partition that has delivered nothing for a long time
+   * (its last offsets were transaction markers, or retention removed them),
+   * so it cannot hold the others back for ever.
    */
-  advanced(partition: number, newestTs: number, lagging: boolean): void {
-    if (!lagging) {
-      this.frontier.delete(partition);
-      return;
+  markCaughtUp(partition: number): void {
+    const queue = this.partitions.get(partition);
+    if (queue !== undefined) queue.lagging = false;
+  }
+
+  /** True while a partition has buffered messages (and so should not be fetched). */
+  hasBuffered(partition: number): boolean {
+    const queue = this.partitions.get(partition);
+    return queue !== undefined && queue.next < queue.messages.length;
+  }
+
+  /** Partitions with buffered messages. */
+  get buffered(): number[] {
+    const result: number[] = [];
+    for (const [partition, queue] of this.partitions) {
+      if (queue.next < queue.messages.length) result.push(partition);
     }
-    const previous = this.frontier.get(partition) ?? Number.NEGATIVE_INFINITY;
-    this.frontier.set(partition, Math.max(previous, newestTs));
+    return result.sort((a, b) => a - b);
   }
 
-  /** The partition stopped before a message stamped `nextTs`; it is paused. */
-  pause(partition: number, nextTs: number): void {
-    this.frontier.set(partition, nextTs);
-    this.paused.add(partition);
-  }
-
-  /** Paused partitions that may go on now; they count as running again. */
-  takeResumable(): number[] {
-    const resumable: number[] = [];
-    for (const partition of [...this.paused].sort((a, b) => a - b)) {
-      if ((this.frontier.get(partition) as number) <= this.limitFor(partition)) {
-        this.paused.delete(partition);
-        resumable.push(partition);
+  /**
+   * Hands on every message the alignment allows now, run by run, always from
+   * the partition with the earliest head; `handle` returns false to stop
+   * (the source is closing). O(partitions) per run.
+   */
+  drain(handle: (partition: number, message: M) => boolean): void {
+    for (;;) {
+      let best: PartitionQueue<M> | null = null;
+      let bestPartition = -1;
+      let bestHead = Number.POSITIVE_INFINITY;
+      for (const [partition, queue] of this.partitions) {
+        if (queue.next >= queue.messages.length) continue;
+        const head = this.stamp(queue.messages[queue.next]);
+        if (best === null || head < bestHead) {
+          best = queue;
+          bestPartition = partition;
+          bestHead = head;
+        }
+      }
+      if (best === null) return;
+      const limit = this.slowestOther(bestPartition) + this.alignmentMs;
+      if (bestHead > limit) return;
+      const messages = best.messages;
+      let at = best.next;
+      while (at < messages.length) {
+        const ts = this.stamp(messages[at]);
+        if (ts > limit) break;
+        if (ts > best.lastTs) best.lastTs = ts;
+        best.next = ++at;
+        if (!handle(bestPartition, messages[at - 1])) return;
+      }
+      if (best.next >= messages.length) {
+        best.messages = [];
+        best.next = 0;
       }
     }
-    return resumable;
   }
 
   /**
-   * After a rebalance: partitions not held any more are forgotten and every
-   * pause is lifted (a new consumer has none); frontiers are kept.
+   * After a rebalance: every buffer is dropped (the client fetches those
+   * messages again from the commit) and partitions not held are forgotten.
    */
   reassigned(held: readonly number[]): void {
     const keep = new Set(held);
-    for (const partition of [...this.frontier.keys()]) {
-      if (!keep.has(partition)) this.frontier.delete(partition);
+    for (const [partition, queue] of [...this.partitions]) {
+      if (!keep.has(partition)) this.partitions.delete(partition);
+      else {
+        queue.messages = [];
+        queue.next = 0;
+      }
     }
-    this.paused.clear();
   }
+
+  /** Drops every buffer (the source stops). */
+  clear(): void {
+    this.partitions.clear();
+  }
+
+  /** The earliest position of the other partitions still behind; Infinity when none is. */
+  private slowestOther(partition: number): number {
+    let slowest = Number.POSITIVE_INFINITY;
+    for (const [other, queue] of this.partitions) {
+      if (other === partition) continue;
+      if (queue.next < queue.messages.length) {
+        const head = this.stamp(queue.messages[queue.next]);
+        if (head < slowest) slowest = head;
+      } else if (queue.lagging && queue.lastTs < slowest) {
+        slowest = queue.lastTs;
+      }
+    }
+    return slowest;
+  }
+
+  private stamp(message: M): number {
+    const ts = this.timestampOf(message);
+    return Number.isFinite(ts) ? ts : Number.NEGATIVE_INFINITY;
+  }
+
+  private queue(partition: number): PartitionQueue<M> {
+    let queue = this.partitions.get(partition);
+    if (queue === undefined) {
+      queue = { messages: [], next: 0, lagging: false, lastTs: Number.NEGATIVE_INFINITY };
+      this.partitions.set(partition, queue);
+    }
+    return queue;
+  }
+}
+
+interface PartitionQueue<M> {
+  messages: M[];
+  next: number;
+  /** More messages wait in Kafka beyond the buffer. */
+  lagging: boolean;
+  /** Latest timestamp handed on. */
+  lastTs: number;
 }

@@ -1,5 +1,5 @@
 import { randomUUID } from 'node:crypto';
-import type { Admin, Consumer, EachBatchPayload, Kafka } from 'kafkajs';
+import type { Admin, Consumer, EachBatchPayload, Kafka, KafkaMessage } from 'kafkajs';
 import type { CountRecord, RejectionReason } from '../window/count-record.js';
 import { UsageError } from '../window/errors.js';
 import type { RecordSink } from './decode.js';
@@ -175,7 +175,7 @@ export class KafkaSource implements AsyncIterable<SourceItem> {
   private readonly ledger: OffsetLedger;
   private readonly decoder: KafkaMessageDecoder;
   private readonly tracker: ReleaseTracker;
-  private readonly alignment: PartitionAlignment;
+  private readonly alignment: PartitionAlignment<KafkaMessage>;
   private readonly listeners = new Set<KafkaSourceListener>();
   private readonly stopping = new AbortController();
   private readonly connectRetry: BackoffPolicy;
@@ -194,8 +194,14 @@ export class KafkaSource implements AsyncIterable<SourceItem> {
   private readonly confirmed = new Map<number, string>();
   private pendingEnd: Map<number, number> | null = null;
   private failures = 0;
+  private scratchPartitions = new Int32Array(1024);
   private scratchOffsets = new Float64Array(1024);
   private scratchReleases = new Float64Array(1024);
+  private handedOn = 0;
+  private delivering = false;
+  private paused = new Set<number>();
+  private readonly bufferedThrough = new Map<number, number>();
+  private readonly lastFetched = new Map<number, number>();
   private readonly counters = {
     messages: 0,
     redeliveriesSkipped: 0,
@@ -231,8 +237,9 @@ export class KafkaSource implements AsyncIterable<SourceItem> {
     );
     this.decoder = new KafkaMessageDecoder(this.shardFrom);
     this.tracker = new ReleaseTracker(this.ledger);
-    this.alignment = new PartitionAlignment(
+    this.alignment = new PartitionAlignment<KafkaMessage>(
       options.alignmentMs ?? Math.floor((options.windows.latenessMs ?? 0) / 2),
+      (message) => Number(message.timestamp),
     );
     if (options.onEvent !== undefined) this.listeners.add(options.onEvent);
     this.kafka = createKafkaClient(
@@ -375,7 +382,10 @@ export class KafkaSource implements AsyncIterable<SourceItem> {
       this.reachEnd();
       return;
     }
-    this.commitTimer = setInterval(() => this.commitSoon(), this.options.commitIntervalMs ?? 1000);
+    this.commitTimer = setInterval(() => {
+      this.commitSoon();
+      this.tickAlignment();
+    }, this.options.commitIntervalMs ?? 1000);
     this.commitTimer.unref();
     try {
       await retryWithBackoff(() => this.startConsumer(), this.consumerRestart, {
@@ -574,8 +584,15 @@ export class KafkaSource implements AsyncIterable<SourceItem> {
     });
     consumer.on(consumer.events.GROUP_JOIN, ({ payload }) => {
       this.failures = 0;
+      // Buffers are dropped: the client fetches from the commit again, and what was
+      // already handed on is skipped as a redelivery.
       const held = payload.memberAssignment[this.topic] ?? [];
       this.alignment.reassigned(held);
+      this.bufferedThrough.clear();
+      this.paused.clear();
+      const now = Date.now();
+      this.lastFetched.clear();
+      for (const partition of held) this.lastFetched.set(partition, now);
       if (held.length > 0) consumer.resume([{ topic: this.topic, partitions: [...held] }]);
       this.seekUncommitted(consumer, held);
       this.emit({
@@ -600,7 +617,7 @@ export class KafkaSource implements AsyncIterable<SourceItem> {
       if (this.closed) throw new KafkaIngestError('closed while starting');
       await consumer.run({
         autoCommit: false,
-        eachBatchAutoResolve: false,
+        eachBatchAutoResolve: true,
         partitionsConsumedConcurrently: 1,
         eachBatch: (payload) => this.handleBatch(payload),
       });
@@ -664,115 +681,155 @@ export class KafkaSource implements AsyncIterable<SourceItem> {
     }
   }
 
-  /** Decodes one fetched batch, hands it on, and records its offsets in the ledger. */
+  /**
+   * Takes one fetched batch: drops redeliveries, buffers the rest for the
+   * partition alignment, and hands on whatever the alignment lets through.
+   */
   private async handleBatch(payload: EachBatchPayload): Promise<void> {
     if (this.closed || this.ended) return;
     const { batch } = payload;
     const partition = batch.partition;
-    const ledger = this.ledger.partition(partition);
-    const messages = batch.messages;
-    if (this.scratchOffsets.length < messages.length) {
-      this.scratchOffsets = new Float64Array(messages.length);
-      this.scratchReleases = new Float64Array(messages.length);
-    }
-    const offsets = this.scratchOffsets;
-    const releases = this.scratchReleases;
-    const tracker = this.tracker;
-    const decoder = this.decoder;
-    const alreadyCounted = ledger.highestProcessed;
-    const limit = this.alignment.limitFor(partition);
-    this.collected = [];
-    let held = 0;
+    const seen = Math.max(
+      this.bufferedThrough.get(partition) ?? -1,
+      this.ledger.partition(partition).highestProcessed,
+    );
+    const fresh: KafkaMessage[] = [];
     let duplicates = 0;
-    let lastHandled = -1;
-    let newestTs = Number.NEGATIVE_INFINITY;
-    let stoppedAt = Number.NaN;
-    try {
-      for (let index = 0; index < messages.length; index++) {
-        if (this.closed) break;
-        const message = messages[index];
-        const offset = Number(message.offset);
-        if (offset <= alreadyCounted) {
-          duplicates++;
-          lastHandled = offset;
-          continue;
-        }
-        const messageTs = Number(message.timestamp);
-        if (messageTs > limit) {
-          stoppedAt = messageTs;
-          break;
-        }
-        if (messageTs > newestTs) newestTs = messageTs;
-        tracker.latestRelease = Number.NEGATIVE_INFINITY;
-        decoder.decode(message.value, message.key, partition, messageTs, tracker);
-        offsets[held] = offset;
-        releases[held] = tracker.latestRelease;
-        held++;
-        lastHandled = offset;
-      }
-    } catch (error) {
-      this.fail(
-        new KafkaIngestError(
-          `the record pipeline failed on partition ${partition} of --topic ${this.topic}: ${causeText(error)}`,
-          { cause: error },
-        ),
-      );
-      return;
+    for (const message of batch.messages) {
+      if (Number(message.offset) <= seen) duplicates++;
+      else fresh.push(message);
     }
-    this.failures = 0;
-    if (this.handoff !== null && this.collected.length > 0) {
-      const offsetsKept = offsets.slice(0, held);
-      const releasesKept = releases.slice(0, held);
-      if (!(await this.handoff.put(this.collected, payload))) return;
-      for (let index = 0; index < held; index++) {
-        ledger.hold(offsetsKept[index], releasesKept[index], this.ledger.judgedThrough);
-      }
-    } else {
-      for (let index = 0; index < held; index++) {
-        ledger.hold(offsets[index], releases[index], this.ledger.judgedThrough);
-      }
+    if (fresh.length > 0) {
+      this.bufferedThrough.set(partition, Number(fresh[fresh.length - 1].offset));
     }
-    // The next fetch of this partition starts after the last message handled; the rest of
-    // the batch (stopped for alignment, or closing) is fetched again.
-    if (lastHandled >= 0) payload.resolveOffset(String(lastHandled));
-    this.counters.messages += held;
     if (duplicates > 0) {
       this.counters.redeliveriesSkipped += duplicates;
       this.emit({ type: 'redelivery-skipped', partition, messages: duplicates });
     }
-    if (this.closed) return;
-    this.align(partition, stoppedAt, newestTs, Math.max(lastHandled, alreadyCounted), batch);
-    if (this.pendingEnd !== null) {
-      const end = this.pendingEnd.get(partition);
-      if (end !== undefined && Math.max(lastHandled, alreadyCounted) + 1 >= end) {
-        this.pendingEnd.delete(partition);
+    this.lastFetched.set(partition, Date.now());
+    this.alignment.append(
+      partition,
+      fresh,
+      Number(batch.lastOffset()) + 1 >= Number(batch.highWatermark),
+    );
+    await this.deliver(payload);
+  }
+
+  /**
+   * Drains the alignment into the pipeline (directly, or as one array for an
+   * iterating reader), then records the offsets handed on in the ledger,
+   * pauses the partitions that still have buffered messages and resumes the
+   * others. `payload` keeps the group membership alive while a reader is slow.
+   */
+  private async deliver(payload: EachBatchPayload | null): Promise<void> {
+    if (this.delivering) return;
+    this.delivering = true;
+    try {
+      this.collected = [];
+      this.handedOn = 0;
+      try {
+        this.alignment.drain(this.handOn);
+      } catch (error) {
+        this.fail(
+          new KafkaIngestError(
+            `the record pipeline failed reading --topic ${this.topic}: ${causeText(error)}`,
+            { cause: error },
+          ),
+        );
+        return;
+      }
+      const count = this.handedOn;
+      let partitions = this.scratchPartitions;
+      let offsets = this.scratchOffsets;
+      let releases = this.scratchReleases;
+      if (this.handoff !== null && this.collected.length > 0) {
+        // The scratch arrays are reused by the next delivery; keep this one's.
+        partitions = partitions.slice(0, count);
+        offsets = offsets.slice(0, count);
+        releases = releases.slice(0, count);
+        if (!(await this.handoff.put(this.collected, payload))) return;
+      }
+      const judged = this.ledger.judgedThrough;
+      for (let index = 0; index < count; index++) {
+        this.ledger.partition(partitions[index]).hold(offsets[index], releases[index], judged);
+      }
+      this.counters.messages += count;
+      this.failures = 0;
+      if (this.closed) return;
+      this.pauseBuffered();
+      if (this.pendingEnd !== null) {
+        for (const [partition, end] of this.pendingEnd) {
+          if (this.ledger.partition(partition).highestProcessed + 1 >= end) {
+            this.pendingEnd.delete(partition);
+          }
+        }
         if (this.pendingEnd.size === 0) this.reachEnd();
       }
+    } finally {
+      this.delivering = false;
     }
   }
 
-  /** Pauses a partition that ran ahead in event time, and resumes those that may go on. */
-  private align(
-    partition: number,
-    stoppedAt: number,
-    newestTs: number,
-    highestHandled: number,
-    batch: EachBatchPayload['batch'],
-  ): void {
+  /** Decodes one message the alignment lets through; false stops the drain. */
+  private readonly handOn = (partition: number, message: KafkaMessage): boolean => {
+    if (this.closed) return false;
+    const tracker = this.tracker;
+    tracker.latestRelease = Number.NEGATIVE_INFINITY;
+    this.decoder.decode(message.value, message.key, partition, Number(message.timestamp), tracker);
+    const at = this.handedOn++;
+    if (at >= this.scratchOffsets.length) this.growScratch();
+    this.scratchPartitions[at] = partition;
+    this.scratchOffsets[at] = Number(message.offset);
+    this.scratchReleases[at] = tracker.latestRelease;
+    return true;
+  };
+
+  private growScratch(): void {
+    const size = this.scratchOffsets.length * 2;
+    const partitions = new Int32Array(size);
+    partitions.set(this.scratchPartitions);
+    const offsets = new Float64Array(size);
+    offsets.set(this.scratchOffsets);
+    const releases = new Float64Array(size);
+    releases.set(this.scratchReleases);
+    this.scratchPartitions = partitions;
+    this.scratchOffsets = offsets;
+    this.scratchReleases = releases;
+  }
+
+  /** A partition with buffered messages is not fetched until its buffer is empty. */
+  private pauseBuffered(): void {
     const consumer = this.consumer;
     if (consumer === null) return;
-    if (Number.isNaN(stoppedAt)) {
-      this.alignment.advanced(
-        partition,
-        newestTs,
-        highestHandled + 1 < Number(batch.highWatermark),
-      );
-    } else {
-      this.alignment.pause(partition, stoppedAt);
-      consumer.pause([{ topic: this.topic, partitions: [partition] }]);
+    const buffered = new Set(this.alignment.buffered);
+    const pause = [...buffered].filter((partition) => !this.paused.has(partition));
+    const resume = [...this.paused].filter((partition) => !buffered.has(partition));
+    if (pause.length > 0) consumer.pause([{ topic: this.topic, partitions: pause }]);
+    if (resume.length > 0) consumer.resume([{ topic: this.topic, partitions: resume }]);
+    this.paused = buffered;
+  }
+
+  /**
+   * Run on the commit interval: a partition that said it had more but has
+   * delivered nothing for a long while stops holding the others back (see
+   * {@link PartitionAlignment.markCaughtUp}), and whatever that frees is
+   * handed on.
+   */
+  private tickAlignment(): void {
+    const now = Date.now();
+    const staleAfter = Math.max(5000, 10 * (this.options.maxWaitTimeMs ?? 500));
+    let released = false;
+    for (const [partition, fetchedAt] of this.lastFetched) {
+      if (now - fetchedAt > staleAfter && !this.alignment.hasBuffered(partition)) {
+        this.alignment.markCaughtUp(partition);
+        this.lastFetched.delete(partition);
+        released = true;
+      }
     }
-    const resumable = this.alignment.takeResumable();
-    if (resumable.length > 0) consumer.resume([{ topic: this.topic, partitions: resumable }]);
+    // Also hands on what a skipped delivery left buffered.
+    if ((released || this.alignment.buffered.length > 0) && !this.closed && !this.ended) {
+      void this.deliver(null);
+    }
   }
 
   private reachEnd(): void {
@@ -842,6 +899,7 @@ export class KafkaSource implements AsyncIterable<SourceItem> {
     );
     if (this.commitTimer !== null) clearInterval(this.commitTimer);
     this.handoff?.end();
+    this.alignment.clear();
     await this.connecting?.catch(() => undefined);
     await this.committing;
     const consumer = this.consumer;
@@ -940,7 +998,7 @@ class BatchHandoff {
   private done = false;
   private failure: unknown = null;
 
-  async put(items: SourceItem[], payload: EachBatchPayload): Promise<boolean> {
+  async put(items: SourceItem[], payload: EachBatchPayload | null): Promise<boolean> {
     if (this.done) return false;
     if (this.waiting !== null) {
       const reader = this.waiting;
@@ -952,7 +1010,7 @@ class BatchHandoff {
       this.offered = { items, taken: resolve };
     });
     const beat = setInterval(() => {
-      payload.heartbeat().catch(() => undefined);
+      payload?.heartbeat().catch(() => undefined);
     }, 2000);
     try {
       return await accepted;

@@ -1,107 +1,151 @@
-// Partition alignment without a broker: limits worked by hand from "the slowest other
-// lagging partition's frontier plus the alignment", and a simulation of a catch-up over
-// partitions of unequal rates checking the two promises: no deadlock, and no partition
-// more than the alignment ahead of a lagging one.
+// Partition alignment without a broker. The expected hand-over orders are worked by hand
+// from the rule "a message goes when it is at most the alignment ahead of every other
+// partition still behind"; a simulated catch-up over partitions of unequal rates checks
+// the two promises: every message handed on, and none more than the alignment ahead of a
+// partition still behind.
 import { describe, expect, it } from 'vitest';
 import { PartitionAlignment } from '../../src/ingest/kafka-partition-alignment.js';
 
+/** Messages are their own timestamps here. */
+function alignment(ms: number): PartitionAlignment<number> {
+  return new PartitionAlignment<number>(ms, (ts) => ts);
+}
+
+function drained(merge: PartitionAlignment<number>): [number, number][] {
+  const out: [number, number][] = [];
+  merge.drain((partition, ts) => {
+    out.push([partition, ts]);
+    return true;
+  });
+  return out;
+}
+
 describe('PartitionAlignment', () => {
-  it('limits a partition to the slowest other lagging partition plus the alignment', () => {
-    const alignment = new PartitionAlignment(1000);
-    expect(alignment.limitFor(0)).toBe(Infinity);
-    alignment.advanced(0, 5000, true);
-    alignment.advanced(1, 8000, true);
-    expect(alignment.limitFor(0)).toBe(9000);
-    expect(alignment.limitFor(1)).toBe(6000);
-    // Partition 0 catches up: it holds nobody back any more.
-    alignment.advanced(0, 5200, false);
-    expect(alignment.limitFor(1)).toBe(Infinity);
+  it('hands on buffered batches merged by time within the alignment', () => {
+    const merge = alignment(0);
+    merge.append(0, [1, 2, 5, 6], true);
+    merge.append(1, [3, 4, 7], true);
+    expect(drained(merge)).toEqual([
+      [0, 1],
+      [0, 2],
+      [1, 3],
+      [1, 4],
+      [0, 5],
+      [0, 6],
+      [1, 7],
+    ]);
+    expect(merge.buffered).toEqual([]);
   });
 
-  it('holds everyone back for a partition with a backlog that has not reported yet', () => {
-    const alignment = new PartitionAlignment(1000);
-    alignment.expect(2);
-    expect(alignment.limitFor(0)).toBe(-Infinity);
-    expect(alignment.limitFor(2)).toBe(Infinity);
+  it('lets a partition run ahead by at most the alignment', () => {
+    const merge = alignment(10);
+    merge.append(0, [0, 5, 10, 15, 20], true);
+    merge.append(1, [12], true);
+    // The earliest head goes first, in a run up to 12 + 10 = 22: all of partition 0 (20 is
+    // 8 ahead of partition 1's 12, within the 10 allowed), then 12.
+    expect(drained(merge).map(([, ts]) => ts)).toEqual([0, 5, 10, 15, 20, 12]);
+    merge.append(0, [40], true);
+    merge.append(1, [25], true);
+    // 40 is 15 ahead of 25: 25 must go first.
+    expect(drained(merge).map(([, ts]) => ts)).toEqual([25, 40]);
   });
 
-  it('resumes a paused partition once the slow ones come within the alignment', () => {
-    const alignment = new PartitionAlignment(1000);
-    alignment.advanced(0, 1000, true);
-    alignment.pause(1, 5000);
-    expect(alignment.takeResumable()).toEqual([]);
-    alignment.advanced(0, 3999, true);
-    expect(alignment.takeResumable()).toEqual([]);
-    alignment.advanced(0, 4000, true);
-    expect(alignment.takeResumable()).toEqual([1]);
-    expect(alignment.pausedPartitions).toEqual([]);
+  it('waits for a partition with a backlog that has nothing buffered, then goes on', () => {
+    const merge = alignment(1000);
+    merge.expect(1);
+    merge.append(0, [0, 500, 3000], true);
+    // Partition 1 has not reported: nothing may go.
+    expect(drained(merge)).toEqual([]);
+    expect(merge.hasBuffered(0)).toBe(true);
+    merge.append(1, [100, 200], false);
+    // Partition 0 goes first up to 100 + 1000 (0 and 500), then partition 1's two; partition
+    // 1 has more to come, so partition 0's 3000 waits (its last was 200, 3000 > 1200).
+    expect(drained(merge)).toEqual([
+      [0, 0],
+      [0, 500],
+      [1, 100],
+      [1, 200],
+    ]);
+    expect(merge.buffered).toEqual([0]);
+    merge.append(1, [2500], true);
+    expect(drained(merge)).toEqual([
+      [1, 2500],
+      [0, 3000],
+    ]);
   });
 
-  it('never leaves every partition paused: the one with the earliest next message goes on', () => {
-    const alignment = new PartitionAlignment(0);
-    alignment.pause(0, 7000);
-    alignment.pause(1, 3000);
-    alignment.pause(2, 9000);
-    expect(alignment.takeResumable()).toEqual([1]);
+  it('lets caught-up and stalled partitions hold nobody back', () => {
+    const merge = alignment(0);
+    merge.append(1, [5], false);
+    expect(drained(merge)).toEqual([[1, 5]]);
+    merge.append(0, [100], true);
+    // Partition 1 is behind at 5 with nothing buffered: 100 waits.
+    expect(drained(merge)).toEqual([]);
+    merge.markCaughtUp(1);
+    expect(drained(merge)).toEqual([[0, 100]]);
   });
 
-  it('forgets partitions given away in a rebalance and lifts every pause', () => {
-    const alignment = new PartitionAlignment(1000);
-    alignment.expect(3);
-    alignment.pause(1, 5000);
-    alignment.reassigned([0, 1]);
-    expect(alignment.pausedPartitions).toEqual([]);
-    expect(alignment.limitFor(0)).toBe(6000);
+  it('stops when the handler says so and keeps the rest buffered', () => {
+    const merge = alignment(Infinity);
+    merge.append(0, [1, 2, 3], true);
+    let taken = 0;
+    merge.drain(() => ++taken < 2);
+    expect(taken).toBe(2);
+    expect(drained(merge)).toEqual([[0, 3]]);
   });
 
-  it('keeps a simulated catch-up within the alignment and always finishes', () => {
+  it('drops buffers on a rebalance and forgets partitions given away', () => {
+    const merge = alignment(0);
+    merge.expect(2);
+    merge.append(0, [1, 2], true);
+    merge.reassigned([0, 1]);
+    expect(merge.buffered).toEqual([]);
+    merge.append(0, [3], true);
+    // Partition 2, no longer held, does not block.
+    expect(drained(merge)).toEqual([[0, 3]]);
+  });
+
+  it('hands on a whole simulated catch-up within the alignment', () => {
     // Three partitions with a backlog of 10, 80 and 300 messages over the same 60 s, read
-    // in fetches of up to 50 messages per partition per round, as a consumer would.
+    // in fetches of up to 50 messages of a partition, the next fetch of a partition only
+    // once its buffer is empty, as the source does.
     const alignmentMs = 2000;
     const partitions = [10, 80, 300].map((count) =>
       Array.from({ length: count }, (_, i) => Math.floor((i * 60_000) / count)),
     );
-    const next = partitions.map(() => 0);
-    const paused = new Set<number>();
-    const alignment = new PartitionAlignment(alignmentMs);
-    partitions.forEach((_, p) => alignment.expect(p));
-    const processed: { partition: number; ts: number }[] = [];
-    for (let round = 0; round < 1000 && next.some((n, p) => n < partitions[p].length); round++) {
+    const fetched = partitions.map(() => 0);
+    const merge = alignment(alignmentMs);
+    partitions.forEach((_, p) => merge.expect(p));
+    const out: [number, number][] = [];
+    for (let round = 0; round < 1000 && out.length < 390; round++) {
       for (let p = 0; p < partitions.length; p++) {
-        if (paused.has(p) || next[p] >= partitions[p].length) continue;
-        const limit = alignment.limitFor(p);
-        const batch = partitions[p].slice(next[p], next[p] + 50);
-        let newest = -Infinity;
-        let stopped = Number.NaN;
-        for (const ts of batch) {
-          if (ts > limit) {
-            stopped = ts;
-            break;
-          }
-          processed.push({ partition: p, ts });
-          newest = ts;
-          next[p]++;
-        }
-        if (Number.isNaN(stopped)) alignment.advanced(p, newest, next[p] < partitions[p].length);
-        else {
-          alignment.pause(p, stopped);
-          paused.add(p);
-        }
-        for (const resumed of alignment.takeResumable()) paused.delete(resumed);
+        if (merge.hasBuffered(p) || fetched[p] >= partitions[p].length) continue;
+        const batch = partitions[p].slice(fetched[p], fetched[p] + 50);
+        fetched[p] += batch.length;
+        merge.append(p, batch, fetched[p] >= partitions[p].length);
+        merge.drain((partition, ts) => {
+          out.push([partition, ts]);
+          return true;
+        });
       }
     }
-    expect(processed).toHaveLength(390);
-    // Every record processed is at most the alignment ahead of the next record of every
-    // other partition with a backlog, so with this much lateness none of those is late.
-    const position = partitions.map(() => -1);
-    for (const { partition, ts } of processed) {
-      position[partition]++;
+    expect(out).toHaveLength(390);
+    // Every message is at most the alignment ahead of the next message of every other
+    // partition still behind, so with this much lateness none of those is late.
+    const handed = partitions.map(() => 0);
+    for (const [partition, ts] of out) {
+      handed[partition]++;
       for (let other = 0; other < partitions.length; other++) {
-        const lagging = position[other] + 1 < partitions[other].length;
-        if (other !== partition && lagging) {
-          expect(ts - partitions[other][position[other] + 1]).toBeLessThanOrEqual(alignmentMs);
+        if (other !== partition && handed[other] < partitions[other].length) {
+          expect(ts - partitions[other][handed[other]]).toBeLessThanOrEqual(alignmentMs);
         }
       }
+    }
+    // Each partition's messages come in their own order.
+    for (let p = 0; p < partitions.length; p++) {
+      expect(out.filter(([partition]) => partition === p).map(([, ts]) => ts)).toEqual(
+        partitions[p],
+      );
     }
   });
 });
