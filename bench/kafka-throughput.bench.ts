@@ -1,0 +1,198 @@
+// Kafka ingest throughput on the real test broker: records per second through our source
+// (fetch, decode, dedupe and offset ledger, partition alignment) feeding EventTimeWindows,
+// beside a raw kafkajs consumer that only counts messages, on the same topic in the same run.
+// Each measurement runs in a fresh process with a fresh consumer group, alternating raw and
+// ours, so neither inherits the other's JIT or page-cache warmth.
+//
+// Run: npx tsx bench/kafka-throughput.bench.ts [records, default 1000000] [rounds, default 3]
+// Needs the test broker: bash scripts/kafka-broker.sh start
+import { spawnSync } from 'node:child_process';
+import { randomUUID } from 'node:crypto';
+import { fileURLToPath } from 'node:url';
+import { Kafka, logLevel } from 'kafkajs';
+import { encodeJsonLine } from '../src/ingest/encode.js';
+import { produceToKafka } from '../src/ingest/kafka-sink.js';
+import { KafkaSource } from '../src/ingest/kafka-source.js';
+import { runScenario } from '../src/scenario/scenario-run.js';
+import { EventTimeWindows } from '../src/window/event-time-window.js';
+import { ShardUniverse } from '../src/window/shard-universe.js';
+import { brokerList } from '../test/e2e/kafka-env.js';
+
+const partitions = 4;
+/** The fetch settings both consumers use (our source's defaults). */
+const fetch = { maxBytesPerPartition: 4 << 20, maxBytes: 16 << 20, maxWaitTimeInMs: 500 };
+
+interface Measurement {
+  mode: 'raw' | 'ours';
+  records: number;
+  /** From the first message handed over to the last, s. */
+  seconds: number;
+  /** From consumer start (connect, join) to the last message, s. */
+  totalSeconds: number;
+  windows: number;
+}
+
+function scenarioRecords(count: number) {
+  // The `chance` scenario: 64 shards, one count report per shard per second.
+  const run = runScenario('chance', {
+    seed: 1,
+    startMs: Date.UTC(2025, 11, 1),
+    durationMs: Math.ceil(count / 64) * 1000,
+  });
+  const records = [];
+  for (const record of run.records()) {
+    if (records.length === count) break;
+    records.push(record);
+  }
+  return records;
+}
+
+async function measureRaw(topic: string, expected: number): Promise<Measurement> {
+  const kafka = new Kafka({ brokers: brokerList(), logLevel: logLevel.NOTHING });
+  const consumer = kafka.consumer({ groupId: `bench-raw-${randomUUID()}`, ...fetch });
+  const started = performance.now();
+  let first = Number.NaN;
+  let last = Number.NaN;
+  let count = 0;
+  let done: () => void = () => undefined;
+  const finished = new Promise<void>((resolve) => (done = resolve));
+  await consumer.connect();
+  await consumer.subscribe({ topics: [topic], fromBeginning: true });
+  await consumer.run({
+    autoCommit: false,
+    eachBatch: async ({ batch }) => {
+      if (Number.isNaN(first)) first = performance.now();
+      count += batch.messages.length;
+      if (count >= expected) {
+        last = performance.now();
+        done();
+      }
+    },
+  });
+  await finished;
+  await consumer.disconnect();
+  return {
+    mode: 'raw',
+    records: count,
+    seconds: (last - first) / 1000,
+    totalSeconds: (last - started) / 1000,
+    windows: 0,
+  };
+}
+
+async function measureOurs(topic: string): Promise<Measurement> {
+  const universe = ShardUniverse.fromShardsOption('seat-00..seat-63');
+  let windows = 0;
+  const source: KafkaSource = new KafkaSource({
+    brokers: brokerList(),
+    topic,
+    from: { kind: 'earliest' },
+    windows: { windowMs: 10_000, latenessMs: 2000 },
+    stopAtEnd: true,
+    maxBytesPerPartition: fetch.maxBytesPerPartition,
+    maxBytes: fetch.maxBytes,
+    maxWaitTimeMs: fetch.maxWaitTimeInMs,
+  });
+  const counter = new EventTimeWindows(universe, { windowMs: 10_000, latenessMs: 2000 }, (w) => {
+    windows++;
+    source.markJudgedUpTo(w.end);
+  });
+  const started = performance.now();
+  let first = Number.NaN;
+  await source.decodeInto({
+    record(ts, shard, count) {
+      if (first !== first) first = performance.now();
+      counter.add(ts, shard, count);
+    },
+    reject(reason) {
+      counter.reject(reason);
+    },
+  });
+  const last = performance.now();
+  counter.closeAll();
+  await source.close();
+  const totals = counter.totals;
+  if (totals.lateRecords !== 0) throw new Error(`${totals.lateRecords} records came late`);
+  return {
+    mode: 'ours',
+    records: totals.records,
+    seconds: (last - first) / 1000,
+    totalSeconds: (last - started) / 1000,
+    windows,
+  };
+}
+
+const [, , first, second, third] = process.argv;
+if (first === '--measure') {
+  const [mode, topic, expected] = [second, third, Number(process.argv[5])];
+  const result = mode === 'raw' ? await measureRaw(topic, expected) : await measureOurs(topic);
+  console.log(JSON.stringify(result));
+} else {
+  const count = first === undefined ? 1_000_000 : Number(first);
+  const rounds = second === undefined ? 3 : Number(second);
+  const kafka = new Kafka({ brokers: brokerList(), logLevel: logLevel.NOTHING });
+  const admin = kafka.admin();
+  await admin.connect();
+  const topic = `shardwise-bench-${randomUUID().slice(0, 8)}`;
+  await admin.createTopics({
+    topics: [{ topic, numPartitions: partitions, replicationFactor: 1 }],
+    waitForLeaders: true,
+  });
+  try {
+    const records = scenarioRecords(count);
+    const bytes = records.reduce((sum, record) => sum + encodeJsonLine(record).length, 0);
+    const produceStarted = performance.now();
+    const sent = await produceToKafka(records, { brokers: brokerList(), topic, batchSize: 10_000 });
+    const produceSeconds = (performance.now() - produceStarted) / 1000;
+    console.log(
+      `${sent.records} count reports (JSON, ${(bytes / count).toFixed(1)} bytes a value, key = shard id), ` +
+        `${partitions} partitions, node ${process.version}; produced in ${produceSeconds.toFixed(1)} s ` +
+        `(${(sent.records / produceSeconds / 1000).toFixed(0)} k/s, idempotent, 10000 a request)`,
+    );
+    console.log(
+      `fetch: maxBytesPerPartition ${fetch.maxBytesPerPartition >> 20} MiB, maxBytes ${fetch.maxBytes >> 20} MiB, ` +
+        `maxWait ${fetch.maxWaitTimeInMs} ms; ours: 10 s windows, 2 s lateness (1 s alignment), 64 declared shards`,
+    );
+    const results: Measurement[] = [];
+    for (let round = 0; round < rounds; round++) {
+      for (const mode of ['raw', 'ours'] as const) {
+        const child = spawnSync(
+          process.execPath,
+          [
+            ...process.execArgv,
+            fileURLToPath(import.meta.url),
+            '--measure',
+            mode,
+            topic,
+            String(count),
+          ],
+          { encoding: 'utf8', timeout: 300_000 },
+        );
+        if (child.status !== 0) throw new Error(`${mode}: ${child.stderr}`);
+        const result = JSON.parse(child.stdout.trim().split('\n').pop() as string) as Measurement;
+        results.push(result);
+        console.log(
+          `round ${round + 1} ${mode.padEnd(4)} ${(result.records / result.seconds / 1000).toFixed(0).padStart(5)} k records/s ` +
+            `(${result.seconds.toFixed(2)} s first to last, ${result.totalSeconds.toFixed(2)} s with connect and join)` +
+            (mode === 'ours' ? `, ${result.windows} windows` : ''),
+        );
+      }
+    }
+    const median = (mode: 'raw' | 'ours'): number => {
+      const rates = results
+        .filter((result) => result.mode === mode)
+        .map((result) => result.records / result.seconds)
+        .sort((a, b) => a - b);
+      return rates[Math.floor(rates.length / 2)];
+    };
+    const raw = median('raw');
+    const ours = median('ours');
+    console.log(
+      `median: raw ${(raw / 1000).toFixed(0)} k/s, ours ${(ours / 1000).toFixed(0)} k/s = ${((ours / raw) * 100).toFixed(0)}% of raw ` +
+        `(targets: >= 70% and >= 100 k/s)`,
+    );
+  } finally {
+    await admin.deleteTopics({ topics: [topic] }).catch(() => undefined);
+    await admin.disconnect();
+  }
+}
