@@ -84,7 +84,8 @@ Judging:
                           Pearson residual / 0.4549, floored at 1), so only
                           shards that stand out from the general spread are
                           flagged; auto (default): exact unless the spread test
-                          rejects at alpha, then robust
+                          rejects at alpha, then robust (with 16 shards or more:
+                          with fewer, one hot shard moves every residual)
   --confirm K             consecutive flagged windows that open an incident
                           (default 3)
   --clear J               consecutive clean windows that clear it (default 5)

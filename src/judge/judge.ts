@@ -480,6 +480,12 @@ function shareAt(shares: Float64Array | null, shard: number, m: number): number 
   return shares === null ? 1 / m : shares[shard];
 }
 
+/**
+ * A chance level in both units. In requests it is relative x the real fair share: a whole
+ * count in exact mode (the engine's quantile is count / fair share, so the product is that
+ * count up to rounding, hence the rounding to 1e-6), a fraction of one in robust mode,
+ * where the level was found on the scaled counts.
+ */
 function level(relative: number, equalShares: boolean, fairShare: number): LoadLevel {
   return { relative, requests: equalShares ? Math.round(relative * fairShare * 1e6) / 1e6 : null };
 }
