@@ -8,9 +8,13 @@ import { makePlacement } from '../src/chance/placement.js';
 import { summarizeWindow } from '../src/chance/window-summary.js';
 import { RandomDraws } from '../src/scenario/random-draws.js';
 
-function measure(name: string, build: () => { placement: ReturnType<typeof makePlacement>; counts: Float64Array }, runs: number): void {
+function measure(
+  name: string,
+  build: () => { placement: ReturnType<typeof makePlacement>; counts: Float64Array },
+  runs: number,
+): void {
   const { placement, counts } = build();
-  for (let i = 0; i < 3; i++) summarizeWindow(placement, counts, 0.001);
+  for (let i = 0; i < Math.min(3, runs); i++) summarizeWindow(placement, counts, 0.001);
   const times: number[] = [];
   for (let i = 0; i < runs; i++) {
     const t = performance.now();
@@ -41,12 +45,24 @@ console.log('| --- | --- | --- | --- |');
 measure('equal shares, m = 1e5, N = 1e9', () => windowOf(1e5, 1e9, null, 1), 50);
 measure('equal shares, m = 1e4, N = 1e6', () => windowOf(1e4, 1e6, null, 2), 50);
 measure('equal shares, m = 64, N = 1e5', () => windowOf(64, 1e5, null, 3), 50);
-const tokens = new RandomDraws(4);
-const weights = new Float64Array(1e5);
-// Hash-range sizes of a ring with 16 random tokens per shard: a gamma(16)-like spread (CV 1/4).
-for (let i = 0; i < weights.length; i++) {
-  let w = 0;
-  for (let t = 0; t < 16; t++) w -= Math.log(1 - tokens.uniform());
-  weights[i] = w;
+// Hash-range sizes of a ring with 16 random tokens per shard: a gamma(16) spread (CV 1/4).
+function ringWeights(m: number, seed: number): Float64Array {
+  const tokens = new RandomDraws(seed);
+  const weights = new Float64Array(m);
+  for (let i = 0; i < m; i++) {
+    let w = 0;
+    for (let t = 0; t < 16; t++) w -= Math.log(1 - tokens.uniform());
+    weights[i] = w;
+  }
+  return weights;
 }
-measure('weighted shares (16 tokens per shard), m = 1e5, N = 1e9', () => windowOf(1e5, 1e9, weights, 5), 10);
+measure(
+  'weighted shares (16 tokens per shard), m = 1024, N = 1e7',
+  () => windowOf(1024, 1e7, ringWeights(1024, 4), 5),
+  10,
+);
+measure(
+  'weighted shares (16 tokens per shard), m = 1e5, N = 1e9',
+  () => windowOf(1e5, 1e9, ringWeights(1e5, 4), 5),
+  2,
+);

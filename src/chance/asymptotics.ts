@@ -16,7 +16,8 @@ export interface AsymptoticMaximum {
   readonly source: string;
 }
 
-const RAAB_STEGER = 'Raab and Steger (1998), "Balls into bins: a simple and tight analysis", RANDOM 98';
+const RAAB_STEGER =
+  'Raab and Steger (1998), "Balls into bins: a simple and tight analysis", RANDOM 98';
 
 /**
  * The fullest shard's load with high probability, by regime of N relative to m log m.
@@ -28,7 +29,8 @@ const RAAB_STEGER = 'Raab and Steger (1998), "Balls into bins: a simple and tigh
  * O(1) (a root search for the middle regime). Example: m = 1e5, N = 1e9 gives about 10 430.
  */
 export function raabStegerMaximum(total: number, shards: number): AsymptoticMaximum {
-  if (shards < 3 || total < 1) return { count: null, regime: 'outside the published regimes', source: RAAB_STEGER };
+  if (shards < 3 || total < 1)
+    return { count: null, regime: 'outside the published regimes', source: RAAB_STEGER };
   const logM = Math.log(shards);
   const c = total / (shards * logM);
   if (total < shards / logM ** 3) {
@@ -56,7 +58,11 @@ export function raabStegerMaximum(total: number, shards: number): AsymptoticMaxi
   }
   const fair = total / shards;
   if (total <= shards * logM ** 3) {
-    return { count: fair + Math.sqrt((2 * total * logM) / shards), regime: 'm log m << N <= m polylog(m)', source: RAAB_STEGER };
+    return {
+      count: fair + Math.sqrt((2 * total * logM) / shards),
+      regime: 'm log m << N <= m polylog(m)',
+      source: RAAB_STEGER,
+    };
   }
   const correction = 1 - Math.log(logM) / (2 * logM);
   return {

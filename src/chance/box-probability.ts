@@ -2,7 +2,12 @@ import { logFactorial, logPoissonDensity } from './discrete-densities.js';
 import { fftConvolve } from './fft-convolution.js';
 import { log1mExp, logAddExp, logDifference } from './log-space.js';
 import { logBinomialAtLeast, logBinomialAtMost } from './tails.js';
-import { cutCumulants, cutLogMass, cutMassFunction, type OneSidedCut } from './truncated-poisson.js';
+import {
+  cutCumulants,
+  cutLogMass,
+  cutMassFunction,
+  type OneSidedCut,
+} from './truncated-poisson.js';
 
 /**
  * Probability that every shard's count lies in its box, under random placement
@@ -108,7 +113,12 @@ function solveRate(groups: readonly ShardGroup[], total: number): TiltedGroup[] 
     if (next > logRate + limit) next = logRate + limit;
     if (next < logRate - limit) next = logRate - limit;
     if (!(next > lo && next < hi)) {
-      next = Number.isFinite(lo) && Number.isFinite(hi) ? (lo + hi) / 2 : gap > 0 ? logRate + 1 : logRate - 1;
+      next =
+        Number.isFinite(lo) && Number.isFinite(hi)
+          ? (lo + hi) / 2
+          : gap > 0
+            ? logRate + 1
+            : logRate - 1;
     }
     if (next === logRate) return best;
     logRate = next;
@@ -181,7 +191,10 @@ function convolve(a: Lattice, b: Lattice, maxValue: number): Lattice {
   const bv = b.values;
   if (av.length > FFT_FROM && bv.length > FFT_FROM) {
     const full = fftConvolve(av, bv);
-    return prune({ offset, values: full.length > length ? full.slice(0, length) : full }, FFT_FLOOR);
+    return prune(
+      { offset, values: full.length > length ? full.slice(0, length) : full },
+      FFT_FLOOR,
+    );
   }
   const out = new Float64Array(length);
   for (let i = 0; i < av.length && i < length; i++) {
@@ -244,7 +257,9 @@ function exactWork(tilted: readonly TiltedGroup[], at: number): number {
       Math.ceil(28 * Math.sqrt(t.group.count) * sd) + pieceWidth,
     );
     // Repeated squaring up to the group's width, then one product with the running result.
-    work += 2 * Math.log2(t.group.count + 1) * productCost(groupWidth, groupWidth) + productCost(width, groupWidth);
+    work +=
+      2 * Math.log2(t.group.count + 1) * productCost(groupWidth, groupWidth) +
+      productCost(width, groupWidth);
     width = Math.min(at + 1, width + groupWidth);
   }
   return work;
@@ -266,9 +281,15 @@ function twoShardBox(total: number, live: readonly ShardGroup[]): BoxProbability
   const mean = total * share;
   let inside: number;
   if (low > mean) {
-    inside = logDifference(logBinomialAtLeast(low, total, share), logBinomialAtLeast(high + 1, total, share));
+    inside = logDifference(
+      logBinomialAtLeast(low, total, share),
+      logBinomialAtLeast(high + 1, total, share),
+    );
   } else if (high < mean) {
-    inside = logDifference(logBinomialAtMost(high, total, share), logBinomialAtMost(low - 1, total, share));
+    inside = logDifference(
+      logBinomialAtMost(high, total, share),
+      logBinomialAtMost(low - 1, total, share),
+    );
   } else {
     const outside = logAddExp(
       logBinomialAtMost(low - 1, total, share),
@@ -304,7 +325,8 @@ export function boxLogProbability(
       if (g.lower > 0) return { logProbability: -Infinity, method: 'impossible', relativeError: 0 };
       continue;
     }
-    if (g.upper < g.lower) return { logProbability: -Infinity, method: 'impossible', relativeError: 0 };
+    if (g.upper < g.lower)
+      return { logProbability: -Infinity, method: 'impossible', relativeError: 0 };
     floorSum += g.count * g.lower;
     ceilingSum += g.count * g.upper;
     live.push(g);

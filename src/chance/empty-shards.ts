@@ -49,7 +49,8 @@ export function emptyShardMoments(placement: Placement): { mean: number; varianc
     for (let a = 0; a < classes.length; a++) {
       const ca = classes[a].count;
       if (ca >= 2) variance += ca * (ca - 1) * pairTerm(a, a);
-      for (let b = a + 1; b < classes.length; b++) variance += 2 * ca * classes[b].count * pairTerm(a, b);
+      for (let b = a + 1; b < classes.length; b++)
+        variance += 2 * ca * classes[b].count * pairTerm(a, b);
     }
   } else {
     // expm1(N log(1 - x)) = sum_r a_r x^r with a_1 = -N, a_2 = N(N-1)/2 ... (binomial series
@@ -80,7 +81,9 @@ function logEmptyExactly(total: number, shards: number, empty: number): number {
   const occupied = shards - empty;
   if (occupied === 0) return total === 0 ? 0 : -Infinity;
   if (occupied > total) return -Infinity;
-  const allHit = boxLogProbability(total, [{ share: 1 / occupied, count: occupied, lower: 1, upper: Infinity }]);
+  const allHit = boxLogProbability(total, [
+    { share: 1 / occupied, count: occupied, lower: 1, upper: Infinity },
+  ]);
   return logChoose(shards, empty) + total * Math.log1p(-empty / shards) + allHit.logProbability;
 }
 
@@ -152,7 +155,14 @@ export function emptyShardsTail(placement: Placement, observed: number): EmptySh
   if (observed > m - (n > 0 ? 1 : 0)) return { logProbability: -Infinity, method: 'exact' };
   if (placement.shares !== null) {
     if (observed === 1) {
-      return { logProbability: anyShardTail('low', n, shareClasses(placement).map((c) => ({ ...c, threshold: 0 }))).logProbability, method: 'exact' };
+      return {
+        logProbability: anyShardTail(
+          'low',
+          n,
+          shareClasses(placement).map((c) => ({ ...c, threshold: 0 })),
+        ).logProbability,
+        method: 'exact',
+      };
     }
     const { mean, variance } = emptyShardMoments(placement);
     const z = (observed - 0.5 - mean) / Math.sqrt(Math.max(variance, 1e-300));
@@ -172,8 +182,12 @@ export function emptyShardsTail(placement: Placement, observed: number): EmptySh
     }
     return logSum;
   };
-  if (observed >= mean) return { logProbability: sumFrom(observed, maxEmpty, 1), method: 'exact-terms' };
-  return { logProbability: log1mExp(Math.min(0, sumFrom(observed - 1, minEmpty, -1))), method: 'exact-terms' };
+  if (observed >= mean)
+    return { logProbability: sumFrom(observed, maxEmpty, 1), method: 'exact-terms' };
+  return {
+    logProbability: log1mExp(Math.min(0, sumFrom(observed - 1, minEmpty, -1))),
+    method: 'exact-terms',
+  };
 }
 
 /** log P(Z >= z) for a standard normal Z: lib-r-math.js pnorm(z, 0, 1, false, true) (R's pnorm). */

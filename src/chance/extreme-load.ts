@@ -93,7 +93,8 @@ function complementLogTail(
       : { share: g.share, count: g.count, lower: g.threshold + 1, upper: Infinity },
   );
   const none = boxLogProbability(total, box, options);
-  if (none.method === 'impossible') return { logProbability: 0, method: 'certain', relativeError: 0 };
+  if (none.method === 'impossible')
+    return { logProbability: 0, method: 'certain', relativeError: 0 };
   const logP = log1mExp(none.logProbability);
   // The complement magnifies the box's relative error by Q / (1 - Q).
   const magnification = Math.exp(none.logProbability - logP);
@@ -123,7 +124,8 @@ export function anyShardTail(
 ): TailProbability {
   const live = groups.filter((g) => g.count > 0 && g.share > 0);
   // Shards with no share always hold 0 load, so a threshold at or past 0 is always reached.
-  const zeroShareReaches = (g: ThresholdGroup) => (side === 'low' ? g.threshold >= 0 : g.threshold <= 0);
+  const zeroShareReaches = (g: ThresholdGroup) =>
+    side === 'low' ? g.threshold >= 0 : g.threshold <= 0;
   if (groups.some((g) => g.count > 0 && g.share === 0 && zeroShareReaches(g))) {
     return { logProbability: 0, method: 'certain', relativeError: 0 };
   }
@@ -135,10 +137,12 @@ export function anyShardTail(
     if (t === 0) return { logProbability: 0, method: 'certain', relativeError: 0 };
     logS1 = logAddExp(logS1, Math.log(g.count) + t);
   }
-  if (logS1 === -Infinity) return { logProbability: -Infinity, method: 'impossible', relativeError: 0 };
+  if (logS1 === -Infinity)
+    return { logProbability: -Infinity, method: 'impossible', relativeError: 0 };
   const s1 = Math.exp(logS1);
   const shardCount = live.reduce((n, g) => n + g.count, 0);
-  if (shardCount === 1) return { logProbability: logS1, method: 'single-shard', relativeError: 1e-13 };
+  if (shardCount === 1)
+    return { logProbability: logS1, method: 'single-shard', relativeError: 1e-13 };
 
   if (s1 >= EXACT_COMPLEMENT_FROM && s1 <= SINGLE_GROUP_SWITCH) {
     // Where the box is cheap enough to be exact, its complement beats the truncated series
@@ -150,7 +154,9 @@ export function anyShardTail(
     const g = live[0];
     const logS2 = logChoose(g.count, 2) + jointLogTail(side, total, [{ ...g, count: 2 }], options);
     const logS3 =
-      g.count >= 3 ? logChoose(g.count, 3) + jointLogTail(side, total, [{ ...g, count: 3 }], options) : -Infinity;
+      g.count >= 3
+        ? logChoose(g.count, 3) + jointLogTail(side, total, [{ ...g, count: 3 }], options)
+        : -Infinity;
     // S1 - S2 + S3: an upper Bonferroni bound whose error is at most S4 <= S1 * S3 / 4.
     const value = logDifference(logAddExp(logS1, logS3), logS2);
     return {
@@ -165,19 +171,29 @@ export function anyShardTail(
       if (live[a].count >= 2) {
         logS2 = logAddExp(
           logS2,
-          logChoose(live[a].count, 2) + jointLogTail(side, total, [{ ...live[a], count: 2 }], options),
+          logChoose(live[a].count, 2) +
+            jointLogTail(side, total, [{ ...live[a], count: 2 }], options),
         );
       }
       for (let b = a + 1; b < live.length; b++) {
-        const pair = jointLogTail(side, total, [
-          { ...live[a], count: 1 },
-          { ...live[b], count: 1 },
-        ], options);
+        const pair = jointLogTail(
+          side,
+          total,
+          [
+            { ...live[a], count: 1 },
+            { ...live[b], count: 1 },
+          ],
+          options,
+        );
         logS2 = logAddExp(logS2, Math.log(live[a].count) + Math.log(live[b].count) + pair);
       }
     }
     const value = logDifference(logS1, logS2);
-    return { logProbability: value, method: 'inclusion-exclusion', relativeError: Math.max(1e-12, (s1 * s1) / 6) };
+    return {
+      logProbability: value,
+      method: 'inclusion-exclusion',
+      relativeError: Math.max(1e-12, (s1 * s1) / 6),
+    };
   }
   if (live.length > FEW_GROUPS && s1 <= MANY_GROUPS_SWITCH) {
     // S2 under independence is sum_{i<j} t_i t_j = (S1^2 - sum t_i^2) / 2; multinomial cells
@@ -203,11 +219,15 @@ export function anyShardTail(
             { ...live[top], count: 1 },
             { ...live[second], count: 1 },
           ];
-    const logPairProduct = live[top].count >= 2 ? 2 * logTails[top] : logTails[top] + logTails[second];
+    const logPairProduct =
+      live[top].count >= 2 ? 2 * logTails[top] : logTails[top] + logTails[second];
     const logRatio = Math.min(0, jointLogTail(side, total, pairGroups, options) - logPairProduct);
     const value = logDifference(logS1, logIndependent + logRatio);
-    return { logProbability: value, method: 'inclusion-exclusion', relativeError: Math.max(1e-9, s1 / 2) };
+    return {
+      logProbability: value,
+      method: 'inclusion-exclusion',
+      relativeError: Math.max(1e-9, s1 / 2),
+    };
   }
   return complementLogTail(side, total, live, options);
 }
-

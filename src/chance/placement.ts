@@ -24,7 +24,11 @@ export interface ShareClass {
  * zero, of length shardCount (they are normalised to sum to 1).
  * O(m). Example: makePlacement(23, 365) is the birthday problem.
  */
-export function makePlacement(total: number, shardCount: number, weights?: ArrayLike<number>): Placement {
+export function makePlacement(
+  total: number,
+  shardCount: number,
+  weights?: ArrayLike<number>,
+): Placement {
   if (!Number.isSafeInteger(total) || total < 0) {
     throw new RangeError(`requests must be a whole number from 0 to 2^53-1, got ${total}`);
   }
@@ -38,7 +42,8 @@ export function makePlacement(total: number, shardCount: number, weights?: Array
   let sum = 0;
   for (let i = 0; i < weights.length; i++) {
     const w = weights[i];
-    if (!Number.isFinite(w) || w < 0) throw new RangeError(`weight ${i} must be a finite number >= 0, got ${w}`);
+    if (!Number.isFinite(w) || w < 0)
+      throw new RangeError(`weight ${i} must be a finite number >= 0, got ${w}`);
     sum += w;
   }
   if (!(sum > 0)) throw new RangeError('weights are all zero');
@@ -60,8 +65,12 @@ export function shareOf(placement: Placement, index: number): number {
  * The distinct shares and how many shards hold each (one class for equal shares).
  * O(m log m) for weighted shares. Example: shares [0.5, 0.25, 0.25] give two classes.
  */
-export function shareClasses(placement: Placement): ShareClass[] {
-  if (placement.shares === null) return [{ share: 1 / placement.shardCount, count: placement.shardCount }];
+export function shareClasses(placement: Placement): readonly ShareClass[] {
+  if (placement.shares === null)
+    return [{ share: 1 / placement.shardCount, count: placement.shardCount }];
+  // Quantile searches ask for the classes dozens of times per window; the shares do not change.
+  const cached = classCache.get(placement.shares);
+  if (cached) return cached;
   const sorted = Float64Array.from(placement.shares).sort();
   const classes: ShareClass[] = [];
   let start = 0;
@@ -71,5 +80,8 @@ export function shareClasses(placement: Placement): ShareClass[] {
       start = i;
     }
   }
+  classCache.set(placement.shares, classes);
   return classes;
 }
+
+const classCache = new WeakMap<Float64Array, ShareClass[]>();

@@ -33,8 +33,13 @@ function groups(placement: Placement, relative: number, side: 'high' | 'low'): T
  * Cost: O(distinct shares) tails and box probabilities. Error: relative <= 1e-3 on [1e-15, 1].
  * Example: fullestTail(makePlacement(23, 365), 2 * 365 / 23) = 0.5072972343239857.
  */
-export function fullestTail(placement: Placement, relative: number, options: BoxOptions = {}): TailProbability {
-  if (placement.total === 0 || relative <= 0) return { logProbability: 0, method: 'certain', relativeError: 0 };
+export function fullestTail(
+  placement: Placement,
+  relative: number,
+  options: BoxOptions = {},
+): TailProbability {
+  if (placement.total === 0 || relative <= 0)
+    return { logProbability: 0, method: 'certain', relativeError: 0 };
   return anyShardTail('high', placement.total, groups(placement, relative, 'high'), options);
 }
 
@@ -43,7 +48,11 @@ export function fullestTail(placement: Placement, relative: number, options: Box
  * observed minimum. Cost and error as fullestTail.
  * Example: emptiestTail(makePlacement(2, 2), 0) = 0.5 (both requests on one shard).
  */
-export function emptiestTail(placement: Placement, relative: number, options: BoxOptions = {}): TailProbability {
+export function emptiestTail(
+  placement: Placement,
+  relative: number,
+  options: BoxOptions = {},
+): TailProbability {
   if (relative < 0) return { logProbability: -Infinity, method: 'impossible', relativeError: 0 };
   if (placement.total === 0) return { logProbability: 0, method: 'certain', relativeError: 0 };
   return anyShardTail('low', placement.total, groups(placement, relative, 'low'), options);
@@ -144,7 +153,8 @@ function searchRelative(
     if (before(mid)) lo = mid;
     else hi = mid;
   }
-  while (lo > (side === 'high' ? 1 : 0) && !accurate(lo)) lo = Math.max(side === 'high' ? 1 : 0, lo - 2 * (hi - lo));
+  while (lo > (side === 'high' ? 1 : 0) && !accurate(lo))
+    lo = Math.max(side === 'high' ? 1 : 0, lo - 2 * (hi - lo));
   while (accurate(hi)) hi += 2 * (hi - lo);
   for (let i = 0; i < 200 && hi - lo > 1e-9 * hi; i++) {
     const mid = (lo + hi) / 2;

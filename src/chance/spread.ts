@@ -46,7 +46,14 @@ export function spreadTest(placement: Placement, counts: ArrayLike<number>): Spr
   }
   const df = m - 1;
   if (df === 0 || n === 0) {
-    return { chiSquare: 0, degreesOfFreedom: df, dispersion: 1, logProbability: 0, nullVariance: 0, effectiveTotal: n };
+    return {
+      chiSquare: 0,
+      degreesOfFreedom: df,
+      dispersion: 1,
+      logProbability: 0,
+      nullVariance: 0,
+      effectiveTotal: n,
+    };
   }
   const nullVariance = Math.max(1e-12, 2 * df + (inverseShares - m * m - 2 * m + 2) / n);
   const scale = nullVariance / (2 * df);

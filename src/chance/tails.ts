@@ -77,7 +77,7 @@ function logBinomialRun(k: number, trials: number, share: number, upward: boolea
     }
   } else {
     for (let j = k; j > 0; j--) {
-      term *= (j / (trials - j + 1)) / odds;
+      term *= j / (trials - j + 1) / odds;
       sum += term;
       if (term < sum * 1e-17) break;
     }

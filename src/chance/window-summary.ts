@@ -29,7 +29,14 @@ export interface WindowSummary {
   readonly shardCount: number;
   readonly fullest: ExtremeShard;
   readonly emptiest: ExtremeShard;
-  readonly empty: { observed: number; expected: number; variance: number; p: number; logP: number; method: string };
+  readonly empty: {
+    observed: number;
+    expected: number;
+    variance: number;
+    p: number;
+    logP: number;
+    method: string;
+  };
   readonly spread: Spread & { p: number };
   /** Chance ceiling: the (1 - alpha) quantile of the fullest shard's relative load. */
   readonly ceiling: number;
@@ -80,7 +87,9 @@ export function summarizeWindow(
     logP: fullestP.logProbability,
     method: fullestP.method,
   };
-  const emptiestP = withEmptyTests ? emptiestTail(placement, loRel) : { logProbability: 0, method: 'off' };
+  const emptiestP = withEmptyTests
+    ? emptiestTail(placement, loRel)
+    : { logProbability: 0, method: 'off' };
   const emptiest: ExtremeShard = {
     index: lo,
     count: counts[lo],
@@ -90,7 +99,9 @@ export function summarizeWindow(
     method: emptiestP.method,
   };
   const moments = emptyShardMoments(placement);
-  const emptyTail = withEmptyTests ? emptyShardsTail(placement, empties) : { logProbability: 0, method: 'off' };
+  const emptyTail = withEmptyTests
+    ? emptyShardsTail(placement, empties)
+    : { logProbability: 0, method: 'off' };
   const spread = spreadTest(placement, counts);
   const ceiling = fullestQuantile(placement, 1 - alpha);
   const floor = withEmptyTests ? emptiestQuantile(placement, alpha) : 0;
