@@ -91,6 +91,13 @@ export class KafkaPartitionError extends KafkaTopicError {
 }
 
 /**
+ * Client errors flagged non-retriable that are transient all the same: a
+ * new cluster creates its offsets topic on the first coordinator lookup, and
+ * a restarted broker loads it before it answers for a group.
+ */
+const transientClientErrors = new Set(['KafkaJSGroupCoordinatorNotFound']);
+
+/**
  * Whether an error from the Kafka client is worth retrying: the innermost
  * error of its `cause` chain decides, because the client wraps a retriable
  * connection error in a non-retriable "retries exceeded" one once its own
@@ -100,6 +107,7 @@ export class KafkaPartitionError extends KafkaTopicError {
 export function isRetriable(error: unknown): boolean {
   let innermost: unknown = error;
   for (let depth = 0; depth < 10; depth++) {
+    if (transientClientErrors.has((innermost as { name?: string } | null)?.name ?? '')) return true;
     const cause = (innermost as { cause?: unknown } | null)?.cause;
     if (cause === undefined || cause === null || cause === innermost) break;
     innermost = cause;

@@ -3,6 +3,7 @@
 // half the capped exponential ceiling fixed, half uniform.
 import {
   KafkaJSConnectionError,
+  KafkaJSGroupCoordinatorNotFound,
   KafkaJSNumberOfRetriesExceeded,
   KafkaJSNonRetriableError,
 } from 'kafkajs';
@@ -113,6 +114,12 @@ describe('Kafka errors', () => {
     expect(isRetriable(exhausted)).toBe(true);
     expect(isRetriable(new KafkaJSNonRetriableError('bad password'))).toBe(false);
     expect(isRetriable(new TypeError('x is undefined'))).toBe(false);
+    // Flagged non-retriable by the client, but a new cluster's offsets topic is on its way.
+    // (the client's type declarations give this class no constructor arguments)
+    const CoordinatorNotFound = KafkaJSGroupCoordinatorNotFound as unknown as new (
+      message: string,
+    ) => Error;
+    expect(isRetriable(new CoordinatorNotFound('Failed to find group coordinator'))).toBe(true);
     expect(causeText(exhausted)).toBe('refused');
   });
 
