@@ -55,11 +55,11 @@ export class PartitionAlignment<M> {
    */
   append(partition: number, messages: readonly M[], caughtUp: boolean): void {
     const queue = this.queue(partition);
-    if (queue.next < queue.messages.length) {
-      queue.messages = queue.messages.slice(queue.next).concat(messages);
-    } else {
-      queue.messages = messages.slice();
-    }
+    // The batch array is kept as it is (never written here), not copied.
+    queue.messages =
+      queue.next < queue.messages.length
+        ? queue.messages.slice(queue.next).concat(messages)
+        : messages;
     queue.next = 0;
     queue.lagging = !caughtUp;
   }
@@ -92,10 +92,11 @@ export class PartitionAlignment<M> {
 
   /**
    * Hands on every message the alignment allows now, run by run, always from
-   * the partition with the earliest head; `handle` returns false to stop
-   * (the source is closing). O(partitions) per run.
+   * the partition with the earliest head, with its timestamp (-Infinity when
+   * it has none); `handle` returns false to stop (the source is closing).
+   * O(partitions) per run.
    */
-  drain(handle: (partition: number, message: M) => boolean): void {
+  drain(handle: (partition: number, message: M, ts: number) => boolean): void {
     for (;;) {
       let best: PartitionQueue<M> | null = null;
       let bestPartition = -1;
@@ -119,7 +120,7 @@ export class PartitionAlignment<M> {
         if (ts > limit) break;
         if (ts > best.lastTs) best.lastTs = ts;
         best.next = ++at;
-        if (!handle(bestPartition, messages[at - 1])) return;
+        if (!handle(bestPartition, messages[at - 1], ts)) return;
       }
       if (best.next >= messages.length) {
         best.messages = [];
@@ -179,7 +180,7 @@ export class PartitionAlignment<M> {
 }
 
 interface PartitionQueue<M> {
-  messages: M[];
+  messages: readonly M[];
   next: number;
   /** More messages wait in Kafka beyond the buffer. */
   lagging: boolean;

@@ -693,11 +693,13 @@ export class KafkaSource implements AsyncIterable<SourceItem> {
       this.bufferedThrough.get(partition) ?? -1,
       this.ledger.partition(partition).highestProcessed,
     );
-    const fresh: KafkaMessage[] = [];
+    const messages = batch.messages;
+    let fresh: KafkaMessage[] = messages;
     let duplicates = 0;
-    for (const message of batch.messages) {
-      if (Number(message.offset) <= seen) duplicates++;
-      else fresh.push(message);
+    // Offsets rise within a batch: only a batch starting at or below `seen` holds redeliveries.
+    if (messages.length > 0 && Number(messages[0].offset) <= seen) {
+      fresh = messages.filter((message) => Number(message.offset) > seen);
+      duplicates = messages.length - fresh.length;
     }
     if (fresh.length > 0) {
       this.bufferedThrough.set(partition, Number(fresh[fresh.length - 1].offset));
@@ -771,11 +773,11 @@ export class KafkaSource implements AsyncIterable<SourceItem> {
   }
 
   /** Decodes one message the alignment lets through; false stops the drain. */
-  private readonly handOn = (partition: number, message: KafkaMessage): boolean => {
+  private readonly handOn = (partition: number, message: KafkaMessage, ts: number): boolean => {
     if (this.closed) return false;
     const tracker = this.tracker;
     tracker.latestRelease = Number.NEGATIVE_INFINITY;
-    this.decoder.decode(message.value, message.key, partition, Number(message.timestamp), tracker);
+    this.decoder.decode(message.value, message.key, partition, ts, tracker);
     const at = this.handedOn++;
     if (at >= this.scratchOffsets.length) this.growScratch();
     this.scratchPartitions[at] = partition;
