@@ -58,6 +58,11 @@ export interface BoxOptions {
    * error instead (used while bracketing a quantile; the final answer is re-checked).
    */
   readonly quick?: boolean;
+  /**
+   * For tail questions: return the first Bonferroni bound S1 (the sum of single-shard
+   * tails, an upper bound of the answer) and nothing else; O(shards) and cheap.
+   */
+  readonly firstOrder?: boolean;
 }
 
 /** Work above which the exact convolution gives way to the Edgeworth expansion. */
@@ -65,7 +70,7 @@ const EXACT_BUDGET = 3e6;
 /** Work we accept for an exact answer when the Edgeworth expansion would be inaccurate. */
 const EXACT_BUDGET_WHEN_NEEDED = 4e8;
 /** Third-order Edgeworth size above which we prefer the exact convolution. */
-const EDGEWORTH_TOLERANCE = 1e-6;
+const EDGEWORTH_TOLERANCE = 1e-5;
 
 interface TiltedGroup {
   readonly group: ShardGroup;
@@ -306,7 +311,7 @@ function twoShardBox(total: number, live: readonly ShardGroup[]): BoxProbability
  *
  * Cost: O(groups) per saddle-point step; the exact branch is limited to about 4e8
  * operations (about a second; only few shards with very many requests need it). Accuracy: the exact branch is limited by rounding (about 1e-13 relative);
- * the Edgeworth branch reports its third-order remainder, below 1e-6 in the regimes where
+ * the Edgeworth branch reports its third-order remainder, below 1e-5 in the regimes where
  * it is chosen over an affordable exact answer.
  * Example: boxLogProbability(23, [{share: 1/365, count: 365, lower: 0, upper: 1}]) is
  * log(0.4927027656760144), the chance that 23 people have 23 different birthdays.

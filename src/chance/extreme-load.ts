@@ -45,7 +45,7 @@ const SINGLE_GROUP_SWITCH = 0.1;
 /** Switch-over when every pair of groups gets an exact joint tail. */
 const FEW_GROUPS_SWITCH = 0.03;
 /** Switch-over for many groups, where S2 is estimated from the leading pair. */
-const MANY_GROUPS_SWITCH = 2e-3;
+const MANY_GROUPS_SWITCH = 0.03;
 /** From this S1 on, an exact box complement is preferred to inclusion-exclusion. */
 const EXACT_COMPLEMENT_FROM = 1e-4;
 /** Up to this many groups, all pairwise joint tails are computed. */
@@ -139,6 +139,12 @@ export function anyShardTail(
   }
   if (logS1 === -Infinity)
     return { logProbability: -Infinity, method: 'impossible', relativeError: 0 };
+  if (options.firstOrder)
+    return {
+      logProbability: Math.min(0, logS1),
+      method: 'first-order-bound',
+      relativeError: Infinity,
+    };
   const s1 = Math.exp(logS1);
   const shardCount = live.reduce((n, g) => n + g.count, 0);
   if (shardCount === 1)

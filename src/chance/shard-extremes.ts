@@ -11,6 +11,9 @@ import { shareClasses, type Placement } from './placement.js';
  * "some x_i >= ceil(t N p_i)", and "some r_i <= u" is "some x_i <= floor(u N p_i)".
  */
 
+/** Tail levels up to this are bracketed with the first Bonferroni bound (weighted shares). */
+const FIRST_ORDER_LEVEL = 0.03;
+
 /** Tolerance for turning a relative load back into a count (rounding of t N p). */
 const ROUNDING = 1e-9;
 
@@ -73,8 +76,12 @@ function unit(placement: Placement): number {
  */
 export function fullestQuantile(placement: Placement, level: number): number {
   if (placement.total === 0) return 0;
+  // While bracketing an extreme level, the first Bonferroni bound S1 (>= the tail, and
+  // within S1^2/2 of it) is close enough and costs one pass over the shards.
+  const firstOrder = placement.shares !== null && 1 - level <= FIRST_ORDER_LEVEL;
   const exceeds = (quick: boolean) => (t: number) =>
-    Math.exp(fullestTail(placement, t, { quick }).logProbability) > 1 - level;
+    Math.exp(fullestTail(placement, t, { quick, firstOrder: quick && firstOrder }).logProbability) >
+    1 - level;
   return searchRelative(placement, exceeds, 'high');
 }
 
@@ -86,15 +93,18 @@ export function fullestQuantile(placement: Placement, level: number): number {
 export function emptiestQuantile(placement: Placement, level: number): number {
   if (placement.total === 0) return 0;
   // "u is below the quantile" <=> P(min r <= u) < level.
+  const firstOrder = placement.shares !== null && level <= FIRST_ORDER_LEVEL;
   const below = (quick: boolean) => (u: number) =>
-    Math.exp(emptiestTail(placement, u, { quick }).logProbability) < level;
+    Math.exp(
+      emptiestTail(placement, u, { quick, firstOrder: quick && firstOrder }).logProbability,
+    ) < level;
   return searchRelative(placement, below, 'low');
 }
 
 /**
  * Smallest relative load t for which `before(t)` turns false, where before is monotone
  * (true below the answer). For equal shares the answer is a whole count; for weighted
- * shares it is located to a relative 1e-9.
+ * shares it is located to a relative 1e-7.
  */
 function searchRelative(
   placement: Placement,
@@ -146,17 +156,42 @@ function searchRelative(
   } else if (!before(0)) {
     return 0;
   }
-  // Quick bisection to a relative 1e-4, then full accuracy to 1e-9 (widening if the quick
-  // bracket was off).
-  for (let i = 0; i < 200 && hi - lo > 1e-4 * hi; i++) {
+  // Quick bisection to a relative 1e-7, then full accuracy from a narrow bracket (widened if
+  // the quick answer was off). The tail only changes where some t N p_i is a whole count,
+  // so the accurate search stops once both ends give every shard the same threshold.
+  for (let i = 0; i < 200 && hi - lo > 1e-7 * hi; i++) {
     const mid = (lo + hi) / 2;
     if (before(mid)) lo = mid;
     else hi = mid;
   }
-  while (lo > (side === 'high' ? 1 : 0) && !accurate(lo))
-    lo = Math.max(side === 'high' ? 1 : 0, lo - 2 * (hi - lo));
-  while (accurate(hi)) hi += 2 * (hi - lo);
-  for (let i = 0; i < 200 && hi - lo > 1e-9 * hi; i++) {
+  const floorT = side === 'high' ? 1 : 0;
+  let width = Math.max(2e-3 * hi, hi - lo);
+  lo = Math.max(floorT, hi - width);
+  while (lo > floorT && !accurate(lo)) {
+    width *= 4;
+    lo = Math.max(floorT, hi - width);
+  }
+  while (accurate(hi)) hi += width;
+  // Bisect until exactly one share class changes its threshold between the ends: the
+  // answer is then that class's breakpoint (for equal shares this is the whole count).
+  for (let i = 0; i < 200 && hi - lo > 1e-12 * hi; i++) {
+    const low = groups(placement, lo, side);
+    const high = groups(placement, hi, side);
+    let changed = -1;
+    let changes = 0;
+    for (let g = 0; g < low.length; g++) {
+      if (low[g].threshold !== high[g].threshold) {
+        changes++;
+        changed = g;
+      }
+    }
+    if (changes === 1 && Math.abs(high[changed].threshold - low[changed].threshold) === 1) {
+      const expected = placement.total * high[changed].share;
+      return side === 'high'
+        ? (high[changed].threshold - 1) / expected
+        : high[changed].threshold / expected;
+    }
+    if (changes === 0) break;
     const mid = (lo + hi) / 2;
     if (accurate(mid)) lo = mid;
     else hi = mid;
