@@ -3,6 +3,7 @@ import { boxLogProbability } from './box-probability.js';
 import { logChoose } from './discrete-densities.js';
 import { anyShardTail } from './extreme-load.js';
 import { log1mExp, logAddExp } from './log-space.js';
+import { logBinomialAtLeast, logBinomialAtMost, logPoissonAtLeast } from './tails.js';
 import { shareClasses, type Placement } from './placement.js';
 
 /**
@@ -141,8 +142,11 @@ function occupancyChainTail(total: number, shards: number, observed: number): nu
  * point probabilities (logEmptyExactly) summed from the observed
  * count outward (or the complement summed on the other side when that side is smaller),
  * until terms fall below 1e-18 of the sum. Weighted shares: exact for observed = 1
- * (P(some shard empty), the emptiest-shard machinery), otherwise the normal limit with
- * continuity correction (Weiss 1958; Renyi 1962), which is reported as `normal`.
+ * (P(some shard empty), the emptiest-shard machinery); beyond it the larger of a binomial
+ * law matched on the exact mean and variance and the Poisson limit (reported as
+ * `conservative-moments`: never below the exact tail in the tests, but up to orders of
+ * magnitude above it when N is far below m), else the normal limit with continuity
+ * correction (Weiss 1958; Renyi 1962), reported as `normal`.
  * Cost: O(number of terms) box probabilities; terms decay geometrically away from the mean.
  * Example: emptyShardsTail(makePlacement(2, 2), 1) = log(1/2).
  */
@@ -165,6 +169,32 @@ export function emptyShardsTail(placement: Placement, observed: number): EmptySh
       };
     }
     const { mean, variance } = emptyShardMoments(placement);
+    // The occupancy count is under-dispersed (variance below its mean); a binomial law
+    // matched on the exact mean and variance follows it far better than the Poisson limit.
+    // It is fitted to whichever of the empty and the occupied count is the rarer, so that
+    // few requests on many shards (mostly empty) are modelled by their few collisions.
+    // Near N = m the fit falls short in the far tail, so the answer is the larger of it and
+    // the Poisson limit with the exact mean, which lies above the exact tail in every tested
+    // case: conservative, so the empty count alone cannot raise a false cold finding.
+    const occupiedMean = m - mean;
+    let fitted = -Infinity;
+    if (mean <= occupiedMean && variance > 0 && variance < mean) {
+      const trials = Math.max(observed, Math.round((mean * mean) / (mean - variance)));
+      fitted = logBinomialAtLeast(observed, trials, Math.min(1, mean / trials));
+    } else if (mean > occupiedMean && variance > 0 && variance < occupiedMean) {
+      const trials = Math.max(
+        m - observed,
+        Math.round((occupiedMean * occupiedMean) / (occupiedMean - variance)),
+      );
+      // E >= observed  <=>  occupied <= m - observed
+      fitted = logBinomialAtMost(m - observed, trials, Math.min(1, occupiedMean / trials));
+    }
+    if (fitted > -Infinity) {
+      return {
+        logProbability: Math.max(fitted, logPoissonAtLeast(observed, mean)),
+        method: 'conservative-moments',
+      };
+    }
     const z = (observed - 0.5 - mean) / Math.sqrt(Math.max(variance, 1e-300));
     return { logProbability: logNormalUpper(z), method: 'normal' };
   }

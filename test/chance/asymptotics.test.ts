@@ -4,7 +4,7 @@ import { makePlacement } from '../../src/chance/placement.js';
 import { fullestMean, fullestQuantile } from '../../src/chance/shard-extremes.js';
 
 describe('asymptotic cross-checks (shown in plan, never used for verdicts)', () => {
-  it("Gonnet (1981): E[max] for N = m is Gamma^-1(m) - 3/2 + o(1); the exact mean is within 0.5 at m = 1e5", () => {
+  it('Gonnet (1981): E[max] for N = m is Gamma^-1(m) - 3/2 + o(1); the exact mean is within 0.5 at m = 1e5', () => {
     const m = 100000;
     const exact = fullestMean(makePlacement(m, m)) * 1; // relative load = count when N = m
     expect(Math.abs(exact - gonnetExpectedMaximum(m))).toBeLessThan(0.5);

@@ -5,11 +5,19 @@ import { reference, relativeError } from './reference-data.js';
 
 describe('empty shards', () => {
   it('mean is m (1 - 1/m)^N and N = m gives about m/e (classical occupancy problem, Feller vol. 1)', () => {
-    for (const [m, n] of [[10, 7], [365, 23], [1000, 5000]] as const) {
-      expect(relativeError(emptyShardMoments(makePlacement(n, m)).mean, m * (1 - 1 / m) ** n)).toBeLessThan(1e-12);
+    for (const [m, n] of [
+      [10, 7],
+      [365, 23],
+      [1000, 5000],
+    ] as const) {
+      expect(
+        relativeError(emptyShardMoments(makePlacement(n, m)).mean, m * (1 - 1 / m) ** n),
+      ).toBeLessThan(1e-12);
     }
     const m = 100000;
-    expect(relativeError(emptyShardMoments(makePlacement(m, m)).mean, m / Math.E)).toBeLessThan(1e-4);
+    expect(relativeError(emptyShardMoments(makePlacement(m, m)).mean, m / Math.E)).toBeLessThan(
+      1e-4,
+    );
   });
 
   const exact = reference.empty;
@@ -33,8 +41,30 @@ describe('empty shards', () => {
   it(`P(E >= e) matches exact occupancy (${tails.length} cases) within 1e-3 relative`, () => {
     const failures: string[] = [];
     for (const c of tails) {
-      const p = Math.exp(emptyShardsTail(makePlacement(c.requests, c.shards), c.atLeast!).logProbability);
-      if (!(relativeError(p, c.p!) <= 1e-3)) failures.push(`m=${c.shards} N=${c.requests} e=${c.atLeast}: ${p} vs ${c.p}`);
+      const p = Math.exp(
+        emptyShardsTail(makePlacement(c.requests, c.shards), c.atLeast!).logProbability,
+      );
+      if (!(relativeError(p, c.p!) <= 1e-3))
+        failures.push(`m=${c.shards} N=${c.requests} e=${c.atLeast}: ${p} vs ${c.p}`);
+    }
+    expect(failures).toEqual([]);
+  });
+
+  it('unequal shares beyond one empty shard: conservative in the upper tail (p <= 0.3), at most 5% low above it (exact occupancy, python-flint)', () => {
+    // Weights 1 and 1 + 1e-12 make the weighted path run on an equal-share problem with a known exact answer.
+    const cases = exact.filter((e) => e.atLeast !== undefined && e.atLeast >= 2 && e.p! >= 1e-12);
+    expect(cases.length).toBeGreaterThan(100);
+    const failures: string[] = [];
+    for (const c of cases) {
+      const weights = new Array(c.shards).fill(1);
+      weights[0] = 1 + 1e-12;
+      const tail = emptyShardsTail(makePlacement(c.requests, c.shards, weights), c.atLeast!);
+      const p = Math.exp(tail.logProbability);
+      const ok = c.p! <= 0.3 ? p >= c.p! * (1 - 1e-9) : p >= c.p! * 0.95;
+      if (!ok)
+        failures.push(
+          `m=${c.shards} N=${c.requests} e=${c.atLeast}: ${p} vs ${c.p} (${tail.method})`,
+        );
     }
     expect(failures).toEqual([]);
   });

@@ -18,12 +18,17 @@ describe('properties of the fullest-shard law', () => {
         let previous = 1;
         const fair = n / m;
         for (let k = Math.ceil(fair); k <= Math.ceil(fair) + 12; k++) {
-          const p = Math.exp(anyShardTail('high', n, [{ share: 1 / m, count: m, threshold: k }]).logProbability);
+          const p = Math.exp(
+            anyShardTail('high', n, [{ share: 1 / m, count: m, threshold: k }]).logProbability,
+          );
           expect(p).toBeGreaterThanOrEqual(0);
           expect(p).toBeLessThanOrEqual(1);
           expect(p).toBeLessThanOrEqual(previous * (1 + 1e-9));
           previous = p;
-          const none = Math.exp(boxLogProbability(n, [{ share: 1 / m, count: m, lower: 0, upper: k - 1 }]).logProbability);
+          const none = Math.exp(
+            boxLogProbability(n, [{ share: 1 / m, count: m, lower: 0, upper: k - 1 }])
+              .logProbability,
+          );
           // Each side carries its own method error, at most 1e-3 relative (MODEL.md bar).
           expect(Math.abs(p + none - 1)).toBeLessThanOrEqual(1e-3 * Math.min(p, none) + 1e-12);
         }
@@ -34,16 +39,25 @@ describe('properties of the fullest-shard law', () => {
 
   it('splitting one share class into two with the same share changes nothing (weighted = equal with equal weights)', () => {
     fc.assert(
-      fc.property(fc.integer({ min: 3, max: 300 }), fc.integer({ min: 1, max: 2000 }), fc.integer({ min: 1, max: 6 }), (m, n, extra) => {
-        const k = Math.ceil(n / m) + extra;
-        const a = Math.floor(m / 3);
-        const one = anyShardTail('high', n, [{ share: 1 / m, count: m, threshold: k }]).logProbability;
-        const two = anyShardTail('high', n, [
-          { share: 1 / m, count: a, threshold: k },
-          { share: 1 / m, count: m - a, threshold: k },
-        ]).logProbability;
-        expect(Math.abs(Math.exp(one) - Math.exp(two))).toBeLessThan(2e-3 * Math.exp(one) + 1e-300);
-      }),
+      fc.property(
+        fc.integer({ min: 3, max: 300 }),
+        fc.integer({ min: 1, max: 2000 }),
+        fc.integer({ min: 1, max: 6 }),
+        (m, n, extra) => {
+          const k = Math.ceil(n / m) + extra;
+          const a = Math.floor(m / 3);
+          const one = anyShardTail('high', n, [
+            { share: 1 / m, count: m, threshold: k },
+          ]).logProbability;
+          const two = anyShardTail('high', n, [
+            { share: 1 / m, count: a, threshold: k },
+            { share: 1 / m, count: m - a, threshold: k },
+          ]).logProbability;
+          expect(Math.abs(Math.exp(one) - Math.exp(two))).toBeLessThan(
+            2e-3 * Math.exp(one) + 1e-300,
+          );
+        },
+      ),
       settings,
     );
   });
@@ -60,7 +74,10 @@ describe('properties of the fullest-shard law', () => {
           const p2 = fullestTail(makePlacement(n, reversed.length, reversed), t).logProbability;
           expect(p1).toBe(p2);
           const q1 = emptiestTail(makePlacement(n, weights.length, weights), 1 / t).logProbability;
-          const q2 = emptiestTail(makePlacement(n, reversed.length, reversed), 1 / t).logProbability;
+          const q2 = emptiestTail(
+            makePlacement(n, reversed.length, reversed),
+            1 / t,
+          ).logProbability;
           expect(q1).toBe(q2);
         },
       ),
@@ -74,7 +91,9 @@ describe('Monte Carlo cross-check, weighted shares (seeded; 99.9% Wilson interva
     const draws = new RandomDraws(7);
     const weights = Array.from({ length: 40 }, (_, i) => 1 + (i % 5));
     const total = weights.reduce((a, b) => a + b, 0);
-    const cumulative = weights.map((_, i) => weights.slice(0, i + 1).reduce((a, b) => a + b, 0) / total);
+    const cumulative = weights.map(
+      (_, i) => weights.slice(0, i + 1).reduce((a, b) => a + b, 0) / total,
+    );
     const n = 1500;
     const t = 1.55;
     const runs = 6000;

@@ -7,12 +7,39 @@ import { readFileSync } from 'node:fs';
  */
 export interface ReferenceData {
   chiSquare: { df: number; x: number; upper: number }[];
-  tails: { law: 'binomial' | 'poisson'; n?: number; share?: number; mean?: number; k: number; atMost: number; atLeast: number }[];
+  tails: {
+    law: 'binomial' | 'poisson';
+    n?: number;
+    share?: number;
+    mean?: number;
+    k: number;
+    atMost: number;
+    atLeast: number;
+  }[];
   equalMax: { shards: number; requests: number; atLeast: number; p: number }[];
   equalMin: { shards: number; requests: number; atMost: number; p: number }[];
-  weightedMax: { weights: number[]; requests: number; relative: [number, number]; thresholds: number[]; p: number }[];
-  weightedMin: { weights: number[]; requests: number; relative: [number, number]; thresholds: number[]; p: number }[];
-  empty: { shards: number; requests: number; atLeast?: number; p?: number; mean?: number; variance?: number }[];
+  weightedMax: {
+    weights: number[];
+    requests: number;
+    relative: [number, number];
+    thresholds: number[];
+    p: number;
+  }[];
+  weightedMin: {
+    weights: number[];
+    requests: number;
+    relative: [number, number];
+    thresholds: number[];
+    p: number;
+  }[];
+  empty: {
+    shards: number;
+    requests: number;
+    atLeast?: number;
+    p?: number;
+    mean?: number;
+    variance?: number;
+  }[];
   twoThree: { shards: number; requests: number; atLeast: number; p: number }[];
 }
 

@@ -20,7 +20,9 @@ describe('fullest shard, equal shares', () => {
 
   it('OEIS A014088: least people for a better-than-even chance that k share a birthday: k=2 -> 23, k=3 -> 88', () => {
     const shared = (people: number, k: number) =>
-      Math.exp(anyShardTail('high', people, [{ share: 1 / 365, count: 365, threshold: k }]).logProbability);
+      Math.exp(
+        anyShardTail('high', people, [{ share: 1 / 365, count: 365, threshold: k }]).logProbability,
+      );
     expect(shared(23, 2)).toBeGreaterThan(0.5);
     expect(shared(22, 2)).toBeLessThan(0.5);
     expect(shared(88, 3)).toBeGreaterThan(0.5);
@@ -32,8 +34,11 @@ describe('fullest shard, equal shares', () => {
     const failures: string[] = [];
     for (const c of cases) {
       const placement = makePlacement(c.requests, c.shards);
-      const p = Math.exp(fullestTail(placement, (c.atLeast * c.shards) / c.requests).logProbability);
-      if (!(relativeError(p, c.p) <= TOLERANCE)) failures.push(`m=${c.shards} N=${c.requests} k=${c.atLeast}: ${p} vs ${c.p}`);
+      const p = Math.exp(
+        fullestTail(placement, (c.atLeast * c.shards) / c.requests).logProbability,
+      );
+      if (!(relativeError(p, c.p) <= TOLERANCE))
+        failures.push(`m=${c.shards} N=${c.requests} k=${c.atLeast}: ${p} vs ${c.p}`);
     }
     expect(failures).toEqual([]);
   });
@@ -42,8 +47,11 @@ describe('fullest shard, equal shares', () => {
     const failures: string[] = [];
     for (const c of reference.twoThree) {
       const placement = makePlacement(c.requests, c.shards);
-      const p = Math.exp(fullestTail(placement, (c.atLeast * c.shards) / c.requests).logProbability);
-      if (!(relativeError(p, c.p) <= TOLERANCE)) failures.push(`m=${c.shards} N=${c.requests} k=${c.atLeast}: ${p} vs ${c.p}`);
+      const p = Math.exp(
+        fullestTail(placement, (c.atLeast * c.shards) / c.requests).logProbability,
+      );
+      if (!(relativeError(p, c.p) <= TOLERANCE))
+        failures.push(`m=${c.shards} N=${c.requests} k=${c.atLeast}: ${p} vs ${c.p}`);
     }
     expect(failures).toEqual([]);
   });
@@ -55,8 +63,11 @@ describe('emptiest shard, equal shares', () => {
     const failures: string[] = [];
     for (const c of cases) {
       const placement = makePlacement(c.requests, c.shards);
-      const p = Math.exp(emptiestTail(placement, (c.atMost * c.shards) / c.requests).logProbability);
-      if (!(relativeError(p, c.p) <= TOLERANCE)) failures.push(`m=${c.shards} N=${c.requests} k=${c.atMost}: ${p} vs ${c.p}`);
+      const p = Math.exp(
+        emptiestTail(placement, (c.atMost * c.shards) / c.requests).logProbability,
+      );
+      if (!(relativeError(p, c.p) <= TOLERANCE))
+        failures.push(`m=${c.shards} N=${c.requests} k=${c.atMost}: ${p} vs ${c.p}`);
     }
     expect(failures).toEqual([]);
   });
@@ -73,10 +84,13 @@ describe('weighted shares', () => {
       for (const c of cases) {
         const placement = makePlacement(c.requests, c.weights.length, c.weights);
         const relative = c.relative[0] / c.relative[1];
-        const tail = side === 'high' ? fullestTail(placement, relative) : emptiestTail(placement, relative);
+        const tail =
+          side === 'high' ? fullestTail(placement, relative) : emptiestTail(placement, relative);
         const p = Math.exp(tail.logProbability);
         if (!(relativeError(p, c.p) <= TOLERANCE)) {
-          failures.push(`w=${c.weights.length} N=${c.requests} t=${relative}: ${p} vs ${c.p} (${tail.method})`);
+          failures.push(
+            `w=${c.weights.length} N=${c.requests} t=${relative}: ${p} vs ${c.p} (${tail.method})`,
+          );
         }
       }
       expect(failures).toEqual([]);
@@ -91,15 +105,26 @@ describe('quantiles and means', () => {
   });
 
   it('the chance ceiling is consistent with the tail it inverts (definition of a quantile)', () => {
-    for (const [n, m] of [[1e6, 1000], [5000, 64], [1e9, 1e5]] as const) {
+    for (const [n, m] of [
+      [1e6, 1000],
+      [5000, 64],
+      [1e9, 1e5],
+    ] as const) {
       const placement = makePlacement(n, m);
       const fair = n / m;
       const ceiling = Math.round(fullestQuantile(placement, 0.999) * fair);
-      expect(Math.exp(fullestTail(placement, (ceiling + 1) / fair).logProbability)).toBeLessThanOrEqual(1e-3);
+      expect(
+        Math.exp(fullestTail(placement, (ceiling + 1) / fair).logProbability),
+      ).toBeLessThanOrEqual(1e-3);
       expect(Math.exp(fullestTail(placement, ceiling / fair).logProbability)).toBeGreaterThan(1e-3);
       const floor = Math.round(emptiestQuantile(placement, 0.001) * fair);
-      expect(Math.exp(emptiestTail(placement, floor / fair).logProbability)).toBeGreaterThanOrEqual(1e-3);
-      if (floor > 0) expect(Math.exp(emptiestTail(placement, (floor - 1) / fair).logProbability)).toBeLessThan(1e-3);
+      expect(Math.exp(emptiestTail(placement, floor / fair).logProbability)).toBeGreaterThanOrEqual(
+        1e-3,
+      );
+      if (floor > 0)
+        expect(Math.exp(emptiestTail(placement, (floor - 1) / fair).logProbability)).toBeLessThan(
+          1e-3,
+        );
     }
   });
 

@@ -33,7 +33,13 @@ describe('spread', () => {
       for (let b = 0; a + b <= n; b++) {
         const c = n - a - b;
         const p = Math.exp(
-          logFact(n) - logFact(a) - logFact(b) - logFact(c) + a * Math.log(shares[0]) + b * Math.log(shares[1]) + c * Math.log(shares[2]),
+          logFact(n) -
+            logFact(a) -
+            logFact(b) -
+            logFact(c) +
+            a * Math.log(shares[0]) +
+            b * Math.log(shares[1]) +
+            c * Math.log(shares[2]),
         );
         const x = [a, b, c].reduce((s, v, i) => s + (v - n * shares[i]) ** 2 / (n * shares[i]), 0);
         mean += p * x;
@@ -50,7 +56,10 @@ describe('spread', () => {
     const counts = new Float64Array(m).fill(100);
     for (let i = 0; i < m; i++) counts[i] += i % 2 === 0 ? 10 : -10; // squared residual 1 everywhere
     counts[0] = 400;
-    const placement = makePlacement(counts.reduce((a, b) => a + b, 0), m);
+    const placement = makePlacement(
+      counts.reduce((a, b) => a + b, 0),
+      m,
+    );
     expect(spreadTest(placement, counts).dispersion).toBeGreaterThan(1.8); // (about 1000 + 900) / 999, worked by hand
     const robust = robustDispersion(placement, counts);
     // Median squared residual is about 1 (the hot shard moves the fair share by 0.3%), so
