@@ -1,6 +1,8 @@
 import { closeSync, openSync, writeSync } from 'node:fs';
 import { access, constants } from 'node:fs/promises';
 import type { Readable } from 'node:stream';
+import { metricsHost, metricsPort } from '../exporter/metrics-address.js';
+import { startMetricsExporter } from '../exporter/metrics-exporter.js';
 import { FileSource } from '../ingest/file-source.js';
 import { ScenarioSource } from '../ingest/scenario-source.js';
 import { readShardMapFile } from '../ingest/shard-map-file.js';
@@ -98,6 +100,11 @@ Output:
   --record FILE           also write each verdict with the window's full count
                           vector and the settings, one JSON line per window,
                           written through per window
+  --metrics-port P        serve Prometheus metrics on /metrics, with /healthz and
+                          /readyz, on port P (default 9464; 0 picks a free port);
+                          the address is printed on stderr
+  --metrics-host H        address to bind (default 127.0.0.1: loopback only)
+  --no-metrics            no metrics endpoint
 
 Findings per window: hotspot, cold, uneven, chance, too little traffic; cold and
 hotspot together are named pattern "failover". Exit status: 0 when the input
@@ -131,6 +138,9 @@ export const watchOptions = {
   'max-flagged': { type: 'string' },
   record: { type: 'string' },
   'no-ui': { type: 'boolean' },
+  'metrics-port': { type: 'string' },
+  'metrics-host': { type: 'string' },
+  'no-metrics': { type: 'boolean' },
 } as const;
 
 type Values = ReturnType<typeof parseOptions<typeof watchOptions>>;
@@ -159,6 +169,8 @@ interface WatchPlan {
   readonly judge: JudgeSettings;
   readonly recordPath: string | undefined;
   readonly noUi: boolean;
+  /** Where to serve metrics; null with --no-metrics. */
+  readonly metrics: { readonly host: string; readonly port: number } | null;
 }
 
 /** How often a live source's windows are checked against the wall clock. */
@@ -311,6 +323,15 @@ async function readPlan(values: Values): Promise<WatchPlan> {
         : wholeNumber('--baseline', values.baseline, 1),
     hopMs,
   };
+  const metricsHostValue = metricsHost(values['metrics-host']);
+  const metricsPortValue = metricsPort(values['metrics-port']);
+  if (values['no-metrics'] === true) {
+    for (const name of ['metrics-port', 'metrics-host'] as const) {
+      if (values[name] !== undefined) {
+        throw new UsageError(`--${name}`, values[name], 'cannot be combined with --no-metrics');
+      }
+    }
+  }
   return {
     source,
     universe,
@@ -320,6 +341,8 @@ async function readPlan(values: Values): Promise<WatchPlan> {
     judge,
     recordPath: values.record,
     noUi: values['no-ui'] === true,
+    metrics:
+      values['no-metrics'] === true ? null : { host: metricsHostValue, port: metricsPortValue },
   };
 }
 
@@ -342,11 +365,31 @@ async function watch(plan: WatchPlan, io: CommandIO): Promise<number> {
     { windowMs: plan.windowMs, hopMs: plan.hopMs, latenessMs: plan.latenessMs },
     judge,
   );
-  const recorder = plan.recordPath === undefined ? null : openRecording(plan.recordPath);
+  // Bound before the record file is opened too: a port in use is a bad setting.
+  const exporter =
+    plan.metrics === null
+      ? null
+      : await startMetricsExporter({
+          pipeline,
+          settings: plan.judge,
+          windowMs: plan.windowMs,
+          latenessMs: plan.latenessMs,
+          ...plan.metrics,
+        });
+  let recorder: { fd: number } | null;
+  try {
+    recorder = plan.recordPath === undefined ? null : openRecording(plan.recordPath);
+  } catch (error) {
+    await exporter?.close();
+    throw error;
+  }
   if (!plan.noUi) {
     io.stderr.write(
       'shardwise watch: the live screen is not built yet; printing verdicts as JSON Lines, as with --no-ui\n',
     );
+  }
+  if (exporter !== null) {
+    io.stderr.write(`shardwise watch: metrics at ${exporter.url} (also /healthz, /readyz)\n`);
   }
   const output = new LineOutput(io.stdout);
   const incidents: { opened: Incident[]; cleared: number; openAtEnd: readonly Incident[] } = {
@@ -418,6 +461,7 @@ async function watch(plan: WatchPlan, io: CommandIO): Promise<number> {
     process.removeListener('SIGINT', interrupt);
     process.removeListener('SIGTERM', interrupt);
     if (recorder !== null) closeSync(recorder.fd);
+    await exporter?.close();
   }
   await output.drained();
   output.check();
