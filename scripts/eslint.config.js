@@ -6,8 +6,22 @@ import tseslint from 'typescript-eslint';
 const pureCoreBans = {
   patterns: [
     { group: ['node:*'], message: 'The pure core imports no node: module.' },
-    { group: ['kafkajs', 'prom-client', 'ink', 'ink-*', 'react'], message: 'The pure core does no I/O.' },
-    { group: ['**/ingest/**', '**/exporter/**', '**/ui/**', '**/cli/**', '**/record/**', '**/review/**', '**/scenario/**'], message: 'The pure core imports only inward.' },
+    {
+      group: ['kafkajs', 'prom-client', 'ink', 'ink-*', 'react'],
+      message: 'The pure core does no I/O.',
+    },
+    {
+      group: [
+        '**/ingest/**',
+        '**/exporter/**',
+        '**/ui/**',
+        '**/cli/**',
+        '**/record/**',
+        '**/review/**',
+        '**/scenario/**',
+      ],
+      message: 'The pure core imports only inward.',
+    },
   ],
 };
 
@@ -17,10 +31,16 @@ export default tseslint.config(
   {
     rules: {
       '@typescript-eslint/no-unused-vars': ['error', { argsIgnorePattern: '^_' }],
-      'no-restricted-properties': ['error', { object: 'process', property: 'exit', message: 'Only src/cli/ decides the exit code.' }],
+      'no-restricted-properties': [
+        'error',
+        { object: 'process', property: 'exit', message: 'Only src/cli/ decides the exit code.' },
+      ],
     },
   },
-  { files: ['src/cli/**', 'scripts/**', 'bench/**', 'test/**'], rules: { 'no-restricted-properties': 'off' } },
+  {
+    files: ['src/cli/**', 'scripts/**', 'bench/**', 'test/**'],
+    rules: { 'no-restricted-properties': 'off' },
+  },
   {
     files: ['src/chance/**', 'src/window/**', 'src/judge/**'],
     rules: { 'no-restricted-imports': ['error', pureCoreBans] },

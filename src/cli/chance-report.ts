@@ -2,8 +2,14 @@ import type { TailProbability } from '../chance/extreme-load.js';
 import { probabilityFromLog } from '../chance/log-space.js';
 
 /** A probability for output: exactly 0 for an impossible event, never below 1e-300 otherwise. */
-export function reportedProbability(tail: Pick<TailProbability, 'logProbability' | 'method'>): number {
-  if (tail.logProbability === -Infinity && (tail.method === 'impossible' || tail.method === 'exact')) return 0;
+export function reportedProbability(
+  tail: Pick<TailProbability, 'logProbability' | 'method'>,
+): number {
+  if (
+    tail.logProbability === -Infinity &&
+    (tail.method === 'impossible' || tail.method === 'exact')
+  )
+    return 0;
   return probabilityFromLog(tail.logProbability);
 }
 

@@ -1,4 +1,6 @@
 #!/usr/bin/env node
+import { realpathSync } from 'node:fs';
+import { fileURLToPath } from 'node:url';
 import { UsageError } from '../window/errors.js';
 import type { Command, CommandIO } from './command.js';
 import { oddsCommand } from './odds.js';
@@ -43,7 +45,9 @@ export async function main(argv: readonly string[], io: CommandIO): Promise<numb
   }
   const command = COMMANDS.find((c) => c.name === name);
   if (!command) {
-    io.stderr.write(`shardwise: unknown command ${JSON.stringify(name)} (commands: ${COMMANDS.map((c) => c.name).join(', ')})\n`);
+    io.stderr.write(
+      `shardwise: unknown command ${JSON.stringify(name)} (commands: ${COMMANDS.map((c) => c.name).join(', ')})\n`,
+    );
     return 2;
   }
   if (rest.includes('--help') || rest.includes('-h')) {
@@ -64,14 +68,30 @@ export async function main(argv: readonly string[], io: CommandIO): Promise<numb
   }
 }
 
-const invokedDirectly = process.argv[1] !== undefined && import.meta.url.endsWith(process.argv[1].replace(/.*\/dist\//, '/dist/'));
-if (invokedDirectly || process.env.SHARDWISE_MAIN === '1') {
-  main(process.argv.slice(2), { stdout: process.stdout, stderr: process.stderr, stdin: process.stdin, env: process.env }).then(
+/** True when this file is the program being run (directly, or through the npm bin link). */
+function invokedDirectly(): boolean {
+  const script = process.argv[1];
+  if (script === undefined) return false;
+  try {
+    return realpathSync(script) === fileURLToPath(import.meta.url);
+  } catch {
+    return false;
+  }
+}
+if (invokedDirectly() || process.env.SHARDWISE_MAIN === '1') {
+  main(process.argv.slice(2), {
+    stdout: process.stdout,
+    stderr: process.stderr,
+    stdin: process.stdin,
+    env: process.env,
+  }).then(
     (code) => {
       process.exitCode = code;
     },
     (error: unknown) => {
-      process.stderr.write(`shardwise: ${error instanceof Error ? error.message : String(error)}\n`);
+      process.stderr.write(
+        `shardwise: ${error instanceof Error ? error.message : String(error)}\n`,
+      );
       process.exitCode = 1;
     },
   );

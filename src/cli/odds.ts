@@ -49,7 +49,14 @@ function queriesInOrder(argv: readonly string[], weighted: boolean): Query[] {
   const out: Query[] = [];
   for (let i = 0; i < argv.length; i++) {
     const [flag, inline] = argv[i].split('=', 2) as [string, string | undefined];
-    const kind = flag === '--max-at-least' ? 'max' : flag === '--min-at-most' ? 'min' : flag === '--empty-at-least' ? 'empty' : null;
+    const kind =
+      flag === '--max-at-least'
+        ? 'max'
+        : flag === '--min-at-most'
+          ? 'min'
+          : flag === '--empty-at-least'
+            ? 'empty'
+            : null;
     if (kind === null) continue;
     const raw = inline ?? argv[i + 1];
     if (inline === undefined) i++;
@@ -100,10 +107,13 @@ export const oddsCommand: Command = {
     const requests = wholeNumber('--requests', values.requests, 0);
     let placement: Placement;
     if (values['shard-map'] !== undefined) {
-      const universe = await readShardMapFile(values['shard-map'], { maxShards: Number.MAX_SAFE_INTEGER });
+      const universe = await readShardMapFile(values['shard-map'], {
+        maxShards: Number.MAX_SAFE_INTEGER,
+      });
       placement = makePlacement(requests, universe.size, universe.shares);
     } else {
-      if (values.shards === undefined) throw new UsageError('--shards', '', 'is required (or give --shard-map)');
+      if (values.shards === undefined)
+        throw new UsageError('--shards', '', 'is required (or give --shard-map)');
       placement = makePlacement(requests, wholeNumber('--shards', values.shards, 1));
     }
     const weighted = placement.shares !== null;
@@ -111,9 +121,11 @@ export const oddsCommand: Command = {
     const fair = requests / placement.shardCount;
     const scale = weighted ? 1 : fair;
     const maxQuantiles: Record<string, number> = {};
-    for (const level of MAX_LEVELS) maxQuantiles[level] = round(fullestQuantile(placement, Number(level)) * scale, weighted);
+    for (const level of MAX_LEVELS)
+      maxQuantiles[level] = round(fullestQuantile(placement, Number(level)) * scale, weighted);
     const minQuantiles: Record<string, number> = {};
-    for (const level of MIN_LEVELS) minQuantiles[level] = round(emptiestQuantile(placement, Number(level)) * scale, weighted);
+    for (const level of MIN_LEVELS)
+      minQuantiles[level] = round(emptiestQuantile(placement, Number(level)) * scale, weighted);
     const moments = emptyShardMoments(placement);
     const result = {
       shards: placement.shardCount,
@@ -136,17 +148,28 @@ export const oddsCommand: Command = {
       `${requests} requests on ${placement.shardCount} shards, ${weighted ? 'shares from the shard map' : 'equal shares'} (fair share ${formatNumber(fair)} requests)`,
       '',
       `fullest shard (${unit}): mean ${formatNumber(result.max.mean)}`,
-      ...MAX_LEVELS.map((l) => `  ${`${Number(l) * 100}%`.padStart(6)} quantile  ${formatNumber(maxQuantiles[l])}`),
+      ...MAX_LEVELS.map(
+        (l) => `  ${`${Number(l) * 100}%`.padStart(6)} quantile  ${formatNumber(maxQuantiles[l])}`,
+      ),
       `emptiest shard (${unit}): mean ${formatNumber(result.min.mean)}`,
-      ...MIN_LEVELS.map((l) => `  ${`${Number(l) * 100}%`.padStart(6)} quantile  ${formatNumber(minQuantiles[l])}`),
+      ...MIN_LEVELS.map(
+        (l) => `  ${`${Number(l) * 100}%`.padStart(6)} quantile  ${formatNumber(minQuantiles[l])}`,
+      ),
       `empty shards: mean ${formatNumber(moments.mean)}, variance ${formatNumber(moments.variance)}`,
     ];
     if (result.answers.length > 0) {
       lines.push('', 'answers:');
       const width = Math.max(...result.answers.map((a) => a.query.length));
-      for (const a of result.answers) lines.push(`  P(${a.query})${' '.repeat(width - a.query.length)} = ${formatNumber(a.probability, 10)}`);
+      for (const a of result.answers)
+        lines.push(
+          `  P(${a.query})${' '.repeat(width - a.query.length)} = ${formatNumber(a.probability, 10)}`,
+        );
     }
-    lines.push('', 'Under random placement (each request independently to a shard with its share).', '');
+    lines.push(
+      '',
+      'Under random placement (each request independently to a shard with its share).',
+      '',
+    );
     io.stdout.write(lines.join('\n'));
     return 0;
   },

@@ -10,14 +10,21 @@ import { UsageError } from '../window/errors.js';
 export function parseOptions<T extends NonNullable<ParseArgsConfig['options']>>(
   argv: readonly string[],
   options: T,
-): ReturnType<typeof parseArgs<{ args: string[]; options: T; strict: true; allowPositionals: false }>>['values'] {
+): ReturnType<
+  typeof parseArgs<{ args: string[]; options: T; strict: true; allowPositionals: false }>
+>['values'] {
   // A negative number after a value option is that option's value ("--shards -3"), so that
   // the error says what is wrong with it rather than that it looks like an option.
   const args: string[] = [];
   for (let i = 0; i < argv.length; i++) {
     const name = argv[i].startsWith('--') ? argv[i].slice(2) : '';
     const next = argv[i + 1];
-    if (name !== '' && options[name]?.type === 'string' && next !== undefined && /^-\d|^-\.\d/.test(next)) {
+    if (
+      name !== '' &&
+      options[name]?.type === 'string' &&
+      next !== undefined &&
+      /^-\d|^-\.\d/.test(next)
+    ) {
       args.push(`${argv[i]}=${next}`);
       i++;
     } else {
@@ -29,11 +36,13 @@ export function parseOptions<T extends NonNullable<ParseArgsConfig['options']>>(
   } catch (error) {
     const message = error instanceof Error ? error.message : String(error);
     const unknown = /Unknown option '([^']+)'/.exec(message);
-    if (unknown) throw new UsageError(unknown[1], unknown[1], 'is not an option of this command (see --help)');
+    if (unknown)
+      throw new UsageError(unknown[1], unknown[1], 'is not an option of this command (see --help)');
     const missing = /Option '([^']+?)(?: <value>)?' argument missing/.exec(message);
     if (missing) throw new UsageError(missing[1].split(',').pop()!.trim(), '', 'needs a value');
     const unexpected = /Unexpected argument '([^']+)'/.exec(message);
-    if (unexpected) throw new UsageError('argument', unexpected[1], 'is not expected (options start with --)');
+    if (unexpected)
+      throw new UsageError('argument', unexpected[1], 'is not expected (options start with --)');
     throw new UsageError('arguments', argv.join(' '), message.split('\n')[0]);
   }
 }
@@ -46,7 +55,8 @@ export function wholeNumber(option: string, raw: string, min = 0): number {
   }
   const value = Number(text);
   if (!Number.isInteger(value)) throw new UsageError(option, raw, 'is not a whole number');
-  if (!Number.isSafeInteger(value)) throw new UsageError(option, raw, 'is beyond 2^53 - 1, the largest exact count');
+  if (!Number.isSafeInteger(value))
+    throw new UsageError(option, raw, 'is beyond 2^53 - 1, the largest exact count');
   if (value < min) throw new UsageError(option, raw, `must be at least ${min}`);
   return value;
 }
@@ -58,7 +68,8 @@ export function finiteNumber(
   range: { min?: number; max?: number; minExclusive?: boolean; maxExclusive?: boolean } = {},
 ): number {
   const value = Number(raw.trim());
-  if (raw.trim() === '' || !Number.isFinite(value)) throw new UsageError(option, raw, 'is not a number');
+  if (raw.trim() === '' || !Number.isFinite(value))
+    throw new UsageError(option, raw, 'is not a number');
   const { min, max, minExclusive, maxExclusive } = range;
   if (min !== undefined && (minExclusive ? value <= min : value < min)) {
     throw new UsageError(option, raw, `must be ${minExclusive ? 'above' : 'at least'} ${min}`);
@@ -74,7 +85,13 @@ export function probability(option: string, raw: string): number {
   return finiteNumber(option, raw, { min: 0, max: 1, minExclusive: true, maxExclusive: true });
 }
 
-const DURATION_UNITS: Record<string, number> = { ms: 1, s: 1000, m: 60_000, h: 3_600_000, d: 86_400_000 };
+const DURATION_UNITS: Record<string, number> = {
+  ms: 1,
+  s: 1000,
+  m: 60_000,
+  h: 3_600_000,
+  d: 86_400_000,
+};
 
 /** A duration like 250ms, 10s, 5m, 1h, 1d (a bare number is seconds); returned in milliseconds. */
 export function duration(option: string, raw: string, { allowZero = false } = {}): number {
@@ -82,7 +99,11 @@ export function duration(option: string, raw: string, { allowZero = false } = {}
   if (!match) throw new UsageError(option, raw, 'is not a duration (examples: 500ms, 10s, 5m, 1h)');
   const ms = Number(match[1]) * DURATION_UNITS[match[2] ?? 's'];
   if (!Number.isFinite(ms) || (!allowZero && ms <= 0) || !Number.isInteger(Math.round(ms))) {
-    throw new UsageError(option, raw, allowZero ? 'must be a duration of zero or more' : 'must be a duration above zero');
+    throw new UsageError(
+      option,
+      raw,
+      allowZero ? 'must be a duration of zero or more' : 'must be a duration above zero',
+    );
   }
   return Math.round(ms);
 }

@@ -51,7 +51,8 @@ function parseShardCounts(raw: string): number[] {
   if (!range) return [wholeNumber('--shards', raw, 1)];
   const low = wholeNumber('--shards', range[1], 1);
   const high = wholeNumber('--shards', range[2], 1);
-  if (high < low) throw new UsageError('--shards', raw, 'is an empty range (the end is below the start)');
+  if (high < low)
+    throw new UsageError('--shards', raw, 'is an empty range (the end is below the start)');
   if (high > 1e6) throw new UsageError('--shards', raw, 'reaches past 1000000 shards');
   const counts = new Set<number>([low]);
   for (let p = 1; p <= high; p *= 2) if (p > low) counts.add(p);
@@ -101,7 +102,8 @@ export const planCommand: Command = {
     const seed = wholeNumber('--seed', values.seed!, 0);
     const counts = parseShardCounts(values.shards!);
     const requests = Math.round((rate * windowMs) / 1000);
-    if (!Number.isSafeInteger(requests)) throw new UsageError('--rate', values.rate!, 'times the window is beyond 2^53 requests');
+    if (!Number.isSafeInteger(requests))
+      throw new UsageError('--rate', values.rate!, 'times the window is beyond 2^53 requests');
     const capacityPerWindow = (capacity * windowMs) / 1000;
 
     const rows: Row[] = counts.map((shards) => {
@@ -128,7 +130,8 @@ export const planCommand: Command = {
     });
 
     // Smallest shard count meeting the target, searched over 1..1e6 (the chance only falls as shards are added).
-    const meets = (shards: number) => perDay(exceedChance(shards, requests, capacityPerWindow), windowMs) <= target;
+    const meets = (shards: number) =>
+      perDay(exceedChance(shards, requests, capacityPerWindow), windowMs) <= target;
     let smallestShards: number | null = null;
     if (meets(1e6)) {
       let lo = 0;
@@ -144,7 +147,10 @@ export const planCommand: Command = {
     if (counts.length === 1) {
       const shards = counts[0];
       const ok = (r: number) =>
-        perDay(exceedChance(shards, Math.round((r * windowMs) / 1000), capacityPerWindow), windowMs) <= target;
+        perDay(
+          exceedChance(shards, Math.round((r * windowMs) / 1000), capacityPerWindow),
+          windowMs,
+        ) <= target;
       let lo = 0;
       let hi = capacity * shards;
       if (ok(hi)) largestRate = hi;
@@ -186,10 +192,14 @@ export const planCommand: Command = {
           `${formatNumber(r.headroom, 4)}x`.padStart(8),
           formatNumber(r.exceedPerWindow, 4).padStart(16),
           formatNumber(r.exceedPerDay, 4).padStart(13),
-          (r.asymptotic.count === null ? `- (${r.asymptotic.regime})` : formatNumber(r.asymptotic.count, 6)).padStart(10),
+          (r.asymptotic.count === null
+            ? `- (${r.asymptotic.regime})`
+            : formatNumber(r.asymptotic.count, 6)
+          ).padStart(10),
         ].join('  '),
       );
-      if (r.gonnet !== undefined) lines.push(`        N = m: expected fullest ${formatNumber(r.gonnet, 4)} (Gonnet 1981)`);
+      if (r.gonnet !== undefined)
+        lines.push(`        N = m: expected fullest ${formatNumber(r.gonnet, 4)} (Gonnet 1981)`);
       if (r.twoChoice) {
         const t = r.twoChoice;
         lines.push(
@@ -203,11 +213,15 @@ export const planCommand: Command = {
         ? `No shard count up to 1000000 keeps P(exceed)/day <= ${target}.`
         : `Smallest shard count with P(exceed)/day <= ${target}: ${smallestShards}`,
     );
-    if (largestRate !== null) lines.push(`Largest rate on ${counts[0]} shards with P(exceed)/day <= ${target}: ${formatNumber(largestRate)} requests/s`);
+    if (largestRate !== null)
+      lines.push(
+        `Largest rate on ${counts[0]} shards with P(exceed)/day <= ${target}: ${formatNumber(largestRate)} requests/s`,
+      );
     lines.push(`Asymptotic column: ${RAAB_NOTE}`, '');
     io.stdout.write(lines.join('\n'));
     return 0;
   },
 };
 
-const RAAB_NOTE = 'Raab and Steger (1998), fullest shard with high probability; a cross-check only.';
+const RAAB_NOTE =
+  'Raab and Steger (1998), fullest shard with high probability; a cross-check only.';

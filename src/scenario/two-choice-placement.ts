@@ -61,11 +61,16 @@ export function simulateTwoChoice(
 }
 
 /** 95% Wilson score interval for a binomial proportion (Wilson 1927, JASA 22). */
-export function wilsonInterval(successes: number, trials: number, z = 1.959963984540054): [number, number] {
+export function wilsonInterval(
+  successes: number,
+  trials: number,
+  z = 1.959963984540054,
+): [number, number] {
   if (trials === 0) return [0, 1];
   const p = successes / trials;
   const denominator = 1 + (z * z) / trials;
   const centre = (p + (z * z) / (2 * trials)) / denominator;
-  const half = (z * Math.sqrt((p * (1 - p)) / trials + (z * z) / (4 * trials * trials))) / denominator;
+  const half =
+    (z * Math.sqrt((p * (1 - p)) / trials + (z * z) / (4 * trials * trials))) / denominator;
   return [Math.max(0, centre - half), Math.min(1, centre + half)];
 }

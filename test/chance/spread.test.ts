@@ -28,7 +28,7 @@ describe('spread', () => {
     const n = 7;
     let mean = 0;
     let second = 0;
-    const logFact = (k: number) => (k <= 1 ? 0 : Math.log(k) + logFact(k - 1));
+    const logFact = (k: number): number => (k <= 1 ? 0 : Math.log(k) + logFact(k - 1));
     for (let a = 0; a <= n; a++) {
       for (let b = 0; a + b <= n; b++) {
         const c = n - a - b;

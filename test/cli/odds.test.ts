@@ -18,10 +18,27 @@ async function run(args: string[]): Promise<{ code: number; out: string; err: st
 
 describe('shardwise odds', () => {
   it('prints the INTERFACES.md JSON shape; birthday problem 0.5072972343239857 (published)', async () => {
-    const { code, out } = await run(['odds', '--shards', '365', '--requests', '23', '--max-at-least', '2', '--json']);
+    const { code, out } = await run([
+      'odds',
+      '--shards',
+      '365',
+      '--requests',
+      '23',
+      '--max-at-least',
+      '2',
+      '--json',
+    ]);
     expect(code).toBe(0);
     const result = JSON.parse(out);
-    expect(Object.keys(result)).toEqual(['shards', 'requests', 'null', 'max', 'min', 'empty', 'answers']);
+    expect(Object.keys(result)).toEqual([
+      'shards',
+      'requests',
+      'null',
+      'max',
+      'min',
+      'empty',
+      'answers',
+    ]);
     expect(result.null).toBe('uniform');
     expect(Object.keys(result.max.quantiles)).toEqual(['0.5', '0.9', '0.99', '0.999']);
     expect(Object.keys(result.min.quantiles)).toEqual(['0.001', '0.01', '0.1', '0.5']);
@@ -34,7 +51,19 @@ describe('shardwise odds', () => {
 
   it('answers repeated queries in the order given', async () => {
     const { out } = await run([
-      'odds', '--shards', '365', '--requests', '88', '--max-at-least', '3', '--empty-at-least', '300', '--max-at-least=2', '--min-at-most', '0', '--json',
+      'odds',
+      '--shards',
+      '365',
+      '--requests',
+      '88',
+      '--max-at-least',
+      '3',
+      '--empty-at-least',
+      '300',
+      '--max-at-least=2',
+      '--min-at-most',
+      '0',
+      '--json',
     ]);
     const queries = JSON.parse(out).answers.map((a: { query: string }) => a.query);
     expect(queries).toEqual(['max>=3', 'empty>=300', 'max>=2', 'min<=0']);
@@ -46,7 +75,16 @@ describe('shardwise odds', () => {
     const dir = mkdtempSync(join(tmpdir(), 'shardwise-odds-'));
     const map = join(dir, 'map.csv');
     writeFileSync(map, 'shard,weight\na,1\nb,1\nc,2\n');
-    const { code, out } = await run(['odds', '--shard-map', map, '--requests', '4', '--max-at-least', '2', '--json']);
+    const { code, out } = await run([
+      'odds',
+      '--shard-map',
+      map,
+      '--requests',
+      '4',
+      '--max-at-least',
+      '2',
+      '--json',
+    ]);
     expect(code).toBe(0);
     const result = JSON.parse(out);
     expect(result.null).toBe('map');
@@ -58,7 +96,15 @@ describe('shardwise odds', () => {
   });
 
   it('prints a readable table without --json', async () => {
-    const { code, out } = await run(['odds', '--shards', '365', '--requests', '23', '--max-at-least', '2']);
+    const { code, out } = await run([
+      'odds',
+      '--shards',
+      '365',
+      '--requests',
+      '23',
+      '--max-at-least',
+      '2',
+    ]);
     expect(code).toBe(0);
     expect(out).toContain('fullest shard (requests)');
     expect(out).toContain('P(max>=2) = 0.5072972343');
@@ -101,7 +147,18 @@ describe('shardwise odds', () => {
 
 describe('shardwise plan', () => {
   it('reports the chance ceiling, headroom and the day-level risk', async () => {
-    const { code, out } = await run(['plan', '--rate', '10000', '--window', '10s', '--capacity', '1700', '--shards', '64', '--json']);
+    const { code, out } = await run([
+      'plan',
+      '--rate',
+      '10000',
+      '--window',
+      '10s',
+      '--capacity',
+      '1700',
+      '--shards',
+      '64',
+      '--json',
+    ]);
     expect(code).toBe(0);
     const result = JSON.parse(out);
     const row = result.rows[0];
@@ -114,7 +171,21 @@ describe('shardwise plan', () => {
   });
 
   it('two-choice what-if is seeded and lowers the fullest shard (Azar et al. 1999, balanced allocations)', async () => {
-    const args = ['plan', '--rate', '100', '--window', '10s', '--capacity', '1000', '--shards', '1000', '--two-choice', '--simulations', '20', '--json'];
+    const args = [
+      'plan',
+      '--rate',
+      '100',
+      '--window',
+      '10s',
+      '--capacity',
+      '1000',
+      '--shards',
+      '1000',
+      '--two-choice',
+      '--simulations',
+      '20',
+      '--json',
+    ];
     const a = JSON.parse((await run(args)).out);
     const b = JSON.parse((await run(args)).out);
     expect(a.rows[0].twoChoice).toEqual(b.rows[0].twoChoice);
@@ -122,7 +193,17 @@ describe('shardwise plan', () => {
   });
 
   it('exits 2 naming the option for a bad window', async () => {
-    const { code, err } = await run(['plan', '--rate', '100', '--window', 'ten', '--capacity', '5', '--shards', '8']);
+    const { code, err } = await run([
+      'plan',
+      '--rate',
+      '100',
+      '--window',
+      'ten',
+      '--capacity',
+      '5',
+      '--shards',
+      '8',
+    ]);
     expect(code).toBe(2);
     expect(err).toContain('--window: "ten"');
   });
