@@ -4,6 +4,8 @@ import type { Readable } from 'node:stream';
 import { metricsHost, metricsPort } from '../exporter/metrics-address.js';
 import { startMetricsExporter } from '../exporter/metrics-exporter.js';
 import { FileSource } from '../ingest/file-source.js';
+import { describeKafkaEvent } from '../ingest/kafka-events.js';
+import { KafkaSource } from '../ingest/kafka-source.js';
 import { ScenarioSource } from '../ingest/scenario-source.js';
 import { readShardMapFile } from '../ingest/shard-map-file.js';
 import { Judge } from '../judge/judge.js';
@@ -16,9 +18,10 @@ import { UsageError } from '../window/errors.js';
 import { ShardUniverse } from '../window/shard-universe.js';
 import type { Command, CommandIO } from './command.js';
 import { duration, finiteNumber, parseOptions, probability, wholeNumber } from './option-values.js';
+import { kafkaOptionsHelp, kafkaSourceOptionSpec, parseKafkaSource, type ParsedKafkaSource } from './kafka-options.js';
 import { durationOption, scenarioNamed, seedOption, startOption } from './scenario-options.js';
 
-const help = `Usage: shardwise watch (--input FILE|- | --scenario NAME) [options]
+const help = `Usage: shardwise watch (--input FILE|- | --scenario NAME | --brokers H:P --topic T) [options]
 
 Judges every closed window of per-shard request counts against random placement
 and prints one verdict per window as a JSON object on its own line (stdout); a
@@ -41,7 +44,11 @@ Source (exactly one):
                           (default: now, rounded down to a window boundary)
     --pace real-time|fast real-time releases each second of traffic once it
                           has passed (default); fast replays at full speed
-  A Kafka source is not wired into watch yet.
+${kafkaOptionsHelp}
+  With --group, offsets are committed only below windows still open, so a restart
+  resumes after the last judged window; --from applies only to partitions the
+  group has no position for. With --shard-from partition the universe is the
+  topic's partitions.
 
 Shard universe:
   --shards N|A..B|a,b,c   declare the shards, equal shares: a count (ids 0..N-1),
@@ -116,6 +123,7 @@ failure while running.
 export const watchOptions = {
   input: { type: 'string' },
   scenario: { type: 'string' },
+  ...kafkaSourceOptionSpec,
   seed: { type: 'string' },
   duration: { type: 'string' },
   start: { type: 'string' },
@@ -148,6 +156,7 @@ type Values = ReturnType<typeof parseOptions<typeof watchOptions>>;
 /** Where the records come from, once the options are read. */
 type SourcePlan =
   | { readonly kind: 'file'; readonly path: string }
+  | { readonly kind: 'kafka'; readonly kafka: ParsedKafkaSource }
   | {
       readonly kind: 'scenario';
       readonly name: string;
@@ -162,7 +171,8 @@ type SourcePlan =
 /** Everything `watch` needs, validated before any record is read. */
 interface WatchPlan {
   readonly source: SourcePlan;
-  readonly universe: ShardUniverse;
+  /** Null for --shard-from partition: the topic's partitions, read when connecting. */
+  readonly universe: ShardUniverse | null;
   readonly windowMs: number;
   readonly hopMs: number;
   readonly latenessMs: number;
@@ -181,11 +191,15 @@ export const watchCommand: Command = {
   summary: 'judge each window of per-shard counts from a file, stdin or a simulated cluster',
   help,
   async run(argv, io) {
-    return watch(await readPlan(parseOptions(argv, watchOptions)), io);
+    return watch(await readPlan(parseOptions(argv, watchOptions), io), io);
   },
 };
 
-async function readPlan(values: Values): Promise<WatchPlan> {
+async function readPlan(values: Values, io: CommandIO): Promise<WatchPlan> {
+  const sourcesGiven = [values.input, values.scenario, values.brokers].filter((v) => v !== undefined);
+  if (sourcesGiven.length > 1 && values.brokers !== undefined) {
+    throw new UsageError('--brokers', values.brokers, 'cannot be combined with --input or --scenario (one source at a time)');
+  }
   if (values.input !== undefined && values.scenario !== undefined) {
     throw new UsageError(
       '--input',
@@ -193,11 +207,11 @@ async function readPlan(values: Values): Promise<WatchPlan> {
       'cannot be combined with --scenario (one source at a time)',
     );
   }
-  if (values.input === undefined && values.scenario === undefined) {
+  if (values.input === undefined && values.scenario === undefined && values.brokers === undefined) {
     throw new UsageError(
       '--input',
       '',
-      'is missing: give --input FILE|- or --scenario NAME (see --help)',
+      'is missing: give --input FILE|-, --scenario NAME or --brokers H:P --topic T (see --help)',
     );
   }
   const windowMs = values.window === undefined ? 10_000 : duration('--window', values.window);
@@ -219,7 +233,7 @@ async function readPlan(values: Values): Promise<WatchPlan> {
       : wholeNumber('--max-shards', values['max-shards'], 1);
 
   let source: SourcePlan;
-  let universe: ShardUniverse;
+  let universe: ShardUniverse | null;
   let sharesDeclared: boolean;
   if (values.scenario !== undefined) {
     for (const name of ['shards', 'shard-map'] as const) {
@@ -252,9 +266,15 @@ async function readPlan(values: Values): Promise<WatchPlan> {
         throw new UsageError(`--${name}`, values[name], 'applies only to --scenario');
       }
     }
-    const path = values.input as string;
-    if (path !== '-') await checkReadable(path);
-    source = { kind: 'file', path };
+    if (values.brokers !== undefined) {
+      const kafka = parseKafkaSource(values, { env: io.env });
+      for (const warning of kafka.warnings) io.stderr.write(`shardwise watch: warning: ${warning}\n`);
+      source = { kind: 'kafka', kafka };
+    } else {
+      const path = values.input as string;
+      if (path !== '-') await checkReadable(path);
+      source = { kind: 'file', path };
+    }
     if (values.shards !== undefined && values['shard-map'] !== undefined) {
       throw new UsageError(
         '--shards',
@@ -267,6 +287,9 @@ async function readPlan(values: Values): Promise<WatchPlan> {
       sharesDeclared = true;
     } else if (values.shards !== undefined) {
       universe = ShardUniverse.fromShardsOption(values.shards, { maxShards });
+      sharesDeclared = false;
+    } else if (source.kind === 'kafka' && source.kafka.shardFrom.kind === 'partition') {
+      universe = null;
       sharesDeclared = false;
     } else {
       universe = ShardUniverse.growing({ maxShards });
@@ -358,10 +381,29 @@ async function checkReadable(path: string): Promise<void> {
 
 /** Runs the pipeline over the source; resolves to the exit code. */
 async function watch(plan: WatchPlan, io: CommandIO): Promise<number> {
+  // Kafka connects first: unreachable brokers fail here (exit 1), and --shard-from
+  // partition takes its universe from the topic's partition count.
+  const kafka =
+    plan.source.kind === 'kafka'
+      ? new KafkaSource({
+          ...plan.source.kafka.connection,
+          topic: plan.source.kafka.topic,
+          groupId: plan.source.kafka.groupId,
+          from: plan.source.kafka.from,
+          shardFrom: plan.source.kafka.shardFrom,
+          windows: { windowMs: plan.windowMs, hopMs: plan.hopMs, latenessMs: plan.latenessMs },
+          onEvent: (event) => {
+            const line = describeKafkaEvent(event);
+            if (line) io.stderr.write(`shardwise watch: ${line}\n`);
+          },
+        })
+      : null;
+  const kafkaInfo = kafka === null ? null : await kafka.connect();
+  const universe = plan.universe ?? ShardUniverse.ofCount(kafkaInfo?.partitions ?? 1);
   // Built before the record file is opened, so a bad setting leaves no file behind.
-  const judge = new Judge(plan.universe, plan.judge);
+  const judge = new Judge(universe, plan.judge);
   const pipeline = new JudgingPipeline(
-    plan.universe,
+    universe,
     { windowMs: plan.windowMs, hopMs: plan.hopMs, latenessMs: plan.latenessMs },
     judge,
   );
@@ -401,6 +443,8 @@ async function watch(plan: WatchPlan, io: CommandIO): Promise<number> {
   const settings = recordedSettings(plan);
   let recordedIds = -1;
   pipeline.events.on('window judged', ({ window, judgement }) => {
+    // After a resume with sliding windows, windows already judged by the last run close again.
+    if (kafkaInfo?.judgedThrough != null && window.end <= kafkaInfo.judgedThrough) return;
     windows++;
     incidents.openAtEnd = judgement.incidents;
     output.write(JSON.stringify(judgement));
@@ -412,10 +456,12 @@ async function watch(plan: WatchPlan, io: CommandIO): Promise<number> {
         ...judgement,
         counts: Array.from(window.counts),
         settings,
-        ...(withIds ? { shardIds: plan.universe.ids.slice(0, window.counts.length) } : {}),
+        ...(withIds ? { shardIds: universe.ids.slice(0, window.counts.length) } : {}),
       };
       writeSync(recorder.fd, JSON.stringify(line) + '\n');
     }
+    // Last, once the verdict is out: Kafka may now commit past this window's records.
+    kafka?.markJudgedUpTo(window.end);
   });
   pipeline.events.on('incident opened', (incident) => incidents.opened.push(incident));
   pipeline.events.on('incident cleared', () => incidents.cleared++);
@@ -426,17 +472,22 @@ async function watch(plan: WatchPlan, io: CommandIO): Promise<number> {
   });
 
   const live =
-    plan.source.kind === 'scenario' ? plan.source.pace === 'real-time' : plan.source.path === '-';
+    plan.source.kind === 'kafka' ||
+    (plan.source.kind === 'scenario' ? plan.source.pace === 'real-time' : plan.source.path === '-');
   const source =
-    plan.source.kind === 'file'
-      ? new FileSource(
-          plan.source.path,
-          plan.source.path === '-' ? { stream: io.stdin as unknown as Readable } : {},
-        )
-      : new ScenarioSource(plan.source.run, { pace: plan.source.pace });
+    plan.source.kind === 'kafka'
+      ? kafka!
+      : plan.source.kind === 'file'
+        ? new FileSource(
+            plan.source.path,
+            plan.source.path === '-' ? { stream: io.stdin as unknown as Readable } : {},
+          )
+        : new ScenarioSource(plan.source.run, { pace: plan.source.pace });
   let interrupted = false;
   const interrupt = () => {
     interrupted = true;
+    // Judge what is due before closing Kafka: a window judged after close would never be committed.
+    if (kafka !== null) pipeline.tick();
     void source.close();
   };
   process.once('SIGINT', interrupt);
@@ -454,8 +505,11 @@ async function watch(plan: WatchPlan, io: CommandIO): Promise<number> {
     }
     // An interrupted run keeps the windows already due and drops the partial ones: a
     // half-filled window would read as a lull.
-    if (interrupted) pipeline.tick();
-    else pipeline.finish();
+    if (interrupted) {
+      if (kafka === null) pipeline.tick();
+    } else if (kafka === null) {
+      pipeline.finish();
+    }
   } finally {
     if (poll !== null) clearInterval(poll);
     process.removeListener('SIGINT', interrupt);
@@ -485,7 +539,13 @@ function recordedSettings(plan: WatchPlan): Record<string, unknown> {
     source:
       plan.source.kind === 'file'
         ? { input: plan.source.path }
-        : {
+        : plan.source.kind === 'kafka'
+          ? {
+              topic: plan.source.kafka.topic,
+              group: plan.source.kafka.groupId ?? null,
+              shardFrom: plan.source.kafka.shardFrom,
+            }
+          : {
             scenario: plan.source.name,
             seed: plan.source.seed,
             start: new Date(plan.source.startMs).toISOString(),
@@ -494,7 +554,7 @@ function recordedSettings(plan: WatchPlan): Record<string, unknown> {
           },
     windowMs: plan.windowMs,
     latenessMs: plan.latenessMs,
-    declaredUniverse: plan.universe.declared,
+    declaredUniverse: plan.universe === null ? true : plan.universe.declared,
     ...plan.judge,
   };
 }
