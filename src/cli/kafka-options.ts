@@ -59,7 +59,7 @@ export const kafkaOptionsHelp = [
   "                           the record's shard field (default), the message key, the",
   '                           partition number (every message one request), or field NAME',
   'Kafka security:',
-  '  --tls                    connect with TLS (implied by the --tls-* options)',
+  '  --tls                    connect with TLS (implied by --tls-ca, --tls-cert, --tls-key)',
   '  --tls-ca FILE            PEM certificate authorities to trust',
   '  --tls-cert FILE, --tls-key FILE   PEM client certificate and key (mutual TLS)',
   '  --sasl-mechanism plain|scram-sha-256|scram-sha-512',

@@ -1,3 +1,14 @@
+import { describeKafkaEvent } from '../ingest/kafka-events.js';
+import { produceToKafka } from '../ingest/kafka-sink.js';
+import { ScenarioSource } from '../ingest/scenario-source.js';
+import type { ScenarioRun } from '../scenario/scenario-run.js';
+import type { CommandIO } from './command.js';
+import {
+  kafkaConnectionOptionSpec,
+  parseKafkaConnection,
+  parseTopic,
+  saslPasswordVariable,
+} from './kafka-options.js';
 import { createWriteStream } from 'node:fs';
 import { csvHeader, encodeCsvLine, encodeJsonLine } from '../ingest/encode.js';
 import { runScenario, type PlantedEvent } from '../scenario/scenario-run.js';
@@ -6,7 +17,7 @@ import type { Command } from './command.js';
 import { parseOptions } from './option-values.js';
 import { durationOption, scenarioNamed, seedOption, startOption } from './scenario-options.js';
 
-const help = `Usage: shardwise simulate --scenario NAME --to FILE|- [options]
+const help = `Usage: shardwise simulate --scenario NAME (--to FILE|- | --to kafka --brokers H:P --topic T) [options]
 
 Writes the records of a built-in simulated cluster: per-second count reports
 (or request events with keys, for zipf-keys) with planted hotspots, dead
@@ -17,6 +28,14 @@ planted, and when, is printed on stderr.
   --scenario NAME         demo, chance, hotspot, dead-shard, failover,
                           zipf-keys, weighted, diurnal
   --to FILE|-             where to write; - is standard output
+  --to kafka              produce to Kafka instead: one message per record, keyed
+                          by shard, message time = the record's ts, in the pace
+                          given by --pace (default fast)
+    --brokers H:P[,H:P]   bootstrap brokers; --topic T must exist
+    --pace real-time|fast real-time releases each second of traffic once it has
+                          passed (a live drill); fast writes as fast as it can
+    (TLS and SASL options as for watch: --tls, --tls-ca, --tls-cert, --tls-key,
+    --sasl-mechanism, --sasl-username, --sasl-password-file or ${saslPasswordVariable})
   --format jsonl|csv      record format (default: csv when FILE ends in .csv,
                           else jsonl); CSV has the header ts,shard,count,key
   --seed S                0..4294967295 (default 1)
@@ -40,6 +59,9 @@ export const simulateOptions = {
   seed: { type: 'string' },
   duration: { type: 'string' },
   start: { type: 'string' },
+  pace: { type: 'string' },
+  topic: { type: 'string' },
+  ...kafkaConnectionOptionSpec,
 } as const;
 
 /** Lines are written in blocks of about this many characters. */
@@ -66,6 +88,11 @@ export const simulateCommand: Command = {
     const startMs = startOption(values.start, Math.floor(Date.now() / 60_000) * 60_000);
     const durationMs = durationOption(values.duration, definition.suggestedDurationMs);
     const run = runScenario(definition, { seed, startMs, durationMs });
+    if (to === 'kafka') return simulateToKafka(values, run, io);
+    for (const name of ['brokers', 'topic', 'pace'] as const) {
+      if (values[name] !== undefined)
+        throw new UsageError(`--${name}`, String(values[name]), 'applies only to --to kafka');
+    }
 
     const out = to === '-' ? io.stdout : await openForWriting(to);
     const encode = format === 'csv' ? encodeCsvLine : encodeJsonLine;
@@ -115,6 +142,41 @@ function describe(event: PlantedEvent): string {
 
 function iso(ms: number): string {
   return new Date(ms).toISOString();
+}
+
+/** `--to kafka`: the scenario's records as Kafka messages, batched, in the chosen pace. */
+async function simulateToKafka(
+  values: ReturnType<typeof parseOptions<typeof simulateOptions>>,
+  run: ScenarioRun,
+  io: CommandIO,
+): Promise<number> {
+  const pace = values.pace ?? 'fast';
+  if (pace !== 'real-time' && pace !== 'fast')
+    throw new UsageError('--pace', pace, 'is not real-time or fast');
+  if (values.topic === undefined)
+    throw new UsageError('--topic', '', 'is required with --to kafka');
+  const { connection, warnings } = parseKafkaConnection(values, { env: io.env });
+  for (const warning of warnings) io.stderr.write(`shardwise simulate: warning: ${warning}\n`);
+  const stop = new AbortController();
+  const interrupt = () => stop.abort();
+  process.once('SIGINT', interrupt);
+  try {
+    const sent = await produceToKafka(new ScenarioSource(run, { pace }).batches(), {
+      ...connection,
+      topic: parseTopic(values.topic),
+      signal: stop.signal,
+      onEvent: (event) => {
+        const line = describeKafkaEvent(event);
+        if (line) io.stderr.write(`shardwise simulate: ${line}\n`);
+      },
+    });
+    io.stderr.write(
+      `shardwise simulate: ${sent.records} records in ${sent.requests} produce requests to ${values.topic}\n`,
+    );
+  } finally {
+    process.removeListener('SIGINT', interrupt);
+  }
+  return 0;
 }
 
 /** Opens FILE for writing; failure is a usage error naming --to (the path is the user's to fix). */

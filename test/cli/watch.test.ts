@@ -194,7 +194,7 @@ describe('shardwise watch on a file', () => {
     });
   });
 
-  it('prints a notice and falls back to JSON Lines without --no-ui', async () => {
+  it('falls back to JSON Lines with a notice when stdout is not a terminal', async () => {
     const { code, out, err } = await run([
       'watch',
       '--scenario',
@@ -208,7 +208,7 @@ describe('shardwise watch on a file', () => {
     ]);
     expect(code).toBe(0);
     expect(err.split('\n')[0]).toBe(
-      'shardwise watch: the live screen is not built yet; printing verdicts as JSON Lines, as with --no-ui',
+      'shardwise watch: standard output is not a terminal; printing verdicts as JSON Lines, as with --no-ui',
     );
     expect(verdicts(out)).toHaveLength(1);
   });
@@ -266,7 +266,7 @@ describe('shardwise watch: bad usage exits 2 with one line naming the option and
     ],
     [
       ['watch'],
-      'shardwise watch: --input: "" is missing: give --input FILE|- or --scenario NAME (see --help)',
+      'shardwise watch: --input: "" is missing: give --input FILE|-, --scenario NAME or --brokers H:P --topic T (see --help)',
     ],
     [
       ['watch', '--frobnicate'],
@@ -300,7 +300,7 @@ describe('--help', () => {
       expect(code).toBe(0);
       expect(out).toBe(help);
       for (const option of Object.keys(options)) expect(help).toMatch(new RegExp(`--${option}\\b`));
-      // And no option it does not accept (metrics and Kafka are not wired into these commands).
+      // And no option it does not accept.
       // Example command lines (indented "shardwise ...") name another command's options.
       const own = help
         .split('\n')

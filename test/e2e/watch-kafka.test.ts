@@ -27,14 +27,21 @@ function verdictsFromFile(file: string, extra: string[]): string[] {
 }
 
 /** Runs watch on Kafka until it has printed `expected` verdicts, then interrupts it. */
-function verdictsFromKafka(args: string[], expected: number): Promise<{ lines: string[]; code: number | null; err: string }> {
+function verdictsFromKafka(
+  args: string[],
+  expected: number,
+): Promise<{ lines: string[]; code: number | null; err: string }> {
   return new Promise((resolve, reject) => {
     const child = spawn('node', [cli, 'watch', ...args], { stdio: ['ignore', 'pipe', 'pipe'] });
     let out = '';
     let err = '';
     const timer = setTimeout(() => {
       child.kill('SIGKILL');
-      reject(new Error(`watch printed ${out.split('\n').length - 1} of ${expected} verdicts in time; stderr: ${err}`));
+      reject(
+        new Error(
+          `watch printed ${out.split('\n').length - 1} of ${expected} verdicts in time; stderr: ${err}`,
+        ),
+      );
     }, 90_000);
     child.stdout.on('data', (d) => {
       out += d;
@@ -54,7 +61,20 @@ describe('watch --brokers (real broker)', () => {
     const file = join(dir, 'hotspot.jsonl');
     const sim = spawnSync(
       'node',
-      [cli, 'simulate', '--scenario', 'hotspot', '--seed', '3', '--duration', '3m', '--start', '2026-01-01T00:00:00Z', '--to', file],
+      [
+        cli,
+        'simulate',
+        '--scenario',
+        'hotspot',
+        '--seed',
+        '3',
+        '--duration',
+        '3m',
+        '--start',
+        '2026-01-01T00:00:00Z',
+        '--to',
+        file,
+      ],
       { encoding: 'utf8' },
     );
     expect(sim.status).toBe(0);
@@ -78,22 +98,36 @@ describe('watch --brokers (real broker)', () => {
       wanted,
     );
     expect(fromKafka.code).toBe(0);
-    const firstDifference = fromFile.slice(0, wanted).findIndex((line, i) => line !== fromKafka.lines[i]);
-    expect(firstDifference === -1 ? null : { file: fromFile[firstDifference], kafka: fromKafka.lines[firstDifference] }).toBeNull();
-    expect(fromFile.some((l) => (JSON.parse(l) as { findings: string[] }).findings.includes('hotspot'))).toBe(true);
+    const firstDifference = fromFile
+      .slice(0, wanted)
+      .findIndex((line, i) => line !== fromKafka.lines[i]);
+    expect(
+      firstDifference === -1
+        ? null
+        : { file: fromFile[firstDifference], kafka: fromKafka.lines[firstDifference] },
+    ).toBeNull();
+    expect(
+      fromFile.some((l) => (JSON.parse(l) as { findings: string[] }).findings.includes('hotspot')),
+    ).toBe(true);
   });
 
   it('exits 1 naming the brokers when none answers', () => {
-    const r = spawnSync('node', [cli, 'watch', '--brokers', '127.0.0.1:1', '--topic', 'x', '--no-ui', '--no-metrics'], {
-      encoding: 'utf8',
-      timeout: 120_000,
-    });
+    const r = spawnSync(
+      'node',
+      [cli, 'watch', '--brokers', '127.0.0.1:1', '--topic', 'x', '--no-ui', '--no-metrics'],
+      {
+        encoding: 'utf8',
+        timeout: 120_000,
+      },
+    );
     expect(r.status).toBe(1);
     expect(r.stderr).toContain('127.0.0.1:1');
   });
 
   it('exits 2 when --brokers is combined with --input', () => {
-    const r = spawnSync('node', [cli, 'watch', '--brokers', '127.0.0.1:1', '--input', 'x.jsonl'], { encoding: 'utf8' });
+    const r = spawnSync('node', [cli, 'watch', '--brokers', '127.0.0.1:1', '--input', 'x.jsonl'], {
+      encoding: 'utf8',
+    });
     expect(r.status).toBe(2);
     expect(r.stderr).toContain('--brokers');
   });
