@@ -20,11 +20,13 @@ import type { Command, CommandIO } from './command.js';
 import { duration, finiteNumber, parseOptions, probability, wholeNumber } from './option-values.js';
 import { kafkaOptionsHelp, kafkaSourceOptionSpec, parseKafkaSource, type ParsedKafkaSource } from './kafka-options.js';
 import { durationOption, scenarioNamed, seedOption, startOption } from './scenario-options.js';
+import { chooseWatchOutput, WatchScreen } from './watch-screen.js';
 
 const help = `Usage: shardwise watch (--input FILE|- | --scenario NAME | --brokers H:P --topic T) [options]
 
-Judges every closed window of per-shard request counts against random placement
-and prints one verdict per window as a JSON object on its own line (stdout); a
+Judges every closed window of per-shard request counts against random placement.
+On a terminal it draws the live screen (keys below); otherwise, and with --no-ui,
+it prints one verdict per window as a JSON object on its own line (stdout). A
 summary goes to stderr at the end. Verdicts are statistical evidence under the
 null model they name, not certainty.
 
@@ -101,9 +103,9 @@ Judging:
   --max-flagged N         most shards listed per window (default 10)
 
 Output:
-  --no-ui                 JSON Lines on stdout (the live screen is not built
-                          yet, so this is also what runs without it, after a
-                          notice on stderr)
+  --no-ui                 JSON Lines on stdout instead of the live screen (also
+                          what runs, after a notice on stderr, when stdout is
+                          not a terminal)
   --record FILE           also write each verdict with the window's full count
                           vector and the settings, one JSON line per window,
                           written through per window
@@ -112,6 +114,16 @@ Output:
                           the address is printed on stderr
   --metrics-host H        address to bind (default 127.0.0.1: loopback only)
   --no-metrics            no metrics endpoint
+
+Live screen: the verdict on the newest closed window with its evidence, the
+flagged and fullest shards drawn against the chance ceiling, the spread of loads
+beside what random placement predicts, the recent windows, open incidents and
+the source. It stays up when the input ends. Keys:
+  p, space                pause / resume (windows are still judged while paused)
+  left/right, [ ]         step back / forward through the last 360 windows
+  s                       sort the shard rows: evidence, load, shard id
+  ?, h                    help (Esc closes it)
+  q, Ctrl+C               quit; the terminal is restored
 
 Findings per window: hotspot, cold, uneven, chance, too little traffic; cold and
 hotspot together are named pattern "failover". Exit status: 0 when the input
@@ -381,6 +393,8 @@ async function checkReadable(path: string): Promise<void> {
 
 /** Runs the pipeline over the source; resolves to the exit code. */
 async function watch(plan: WatchPlan, io: CommandIO): Promise<number> {
+  // Set once the live screen is up; until then Kafka's events go to stderr as lines.
+  let screen: WatchScreen | null = null;
   // Kafka connects first: unreachable brokers fail here (exit 1), and --shard-from
   // partition takes its universe from the topic's partition count.
   const kafka =
@@ -393,6 +407,8 @@ async function watch(plan: WatchPlan, io: CommandIO): Promise<number> {
           shardFrom: plan.source.kafka.shardFrom,
           windows: { windowMs: plan.windowMs, hopMs: plan.hopMs, latenessMs: plan.latenessMs },
           onEvent: (event) => {
+            // The screen shows the connection instead: a stderr line would scribble over it.
+            if (screen !== null) return screen.kafkaEvent(event);
             const line = describeKafkaEvent(event);
             if (line) io.stderr.write(`shardwise watch: ${line}\n`);
           },
@@ -425,13 +441,44 @@ async function watch(plan: WatchPlan, io: CommandIO): Promise<number> {
     await exporter?.close();
     throw error;
   }
-  if (!plan.noUi) {
-    io.stderr.write(
-      'shardwise watch: the live screen is not built yet; printing verdicts as JSON Lines, as with --no-ui\n',
-    );
-  }
+  const choice = chooseWatchOutput(
+    plan.noUi,
+    io,
+    plan.source.kind === 'file' && plan.source.path === '-',
+  );
+  if (choice.kind === 'lines' && choice.notice !== null) io.stderr.write(`${choice.notice}\n`);
   if (exporter !== null) {
     io.stderr.write(`shardwise watch: metrics at ${exporter.url} (also /healthz, /readyz)\n`);
+  }
+  if (choice.kind === 'screen') {
+    try {
+      screen = new WatchScreen({
+        pipeline,
+        universe,
+        io,
+        keys: choice.keys,
+        ownsKeys: choice.ownsKeys,
+        sourceState: kafka === null ? 'reading' : 'connected',
+        context: {
+          sourceLabel:
+            plan.source.kind === 'kafka'
+              ? `topic ${plan.source.kafka.topic}`
+              : plan.source.kind === 'file'
+                ? plan.source.path === '-'
+                  ? 'standard input'
+                  : `file ${plan.source.path}`
+                : `scenario ${plan.source.name} (seed ${plan.source.seed})`,
+          windowMs: plan.windowMs,
+          latenessMs: plan.latenessMs,
+          confirm: plan.judge.confirm,
+          maxDetectable: plan.judge.maxDetectable,
+        },
+      });
+    } catch (error) {
+      if (recorder !== null) closeSync(recorder.fd);
+      await exporter?.close();
+      throw error;
+    }
   }
   const output = new LineOutput(io.stdout);
   const incidents: { opened: Incident[]; cleared: number; openAtEnd: readonly Incident[] } = {
@@ -447,7 +494,8 @@ async function watch(plan: WatchPlan, io: CommandIO): Promise<number> {
     if (kafkaInfo?.judgedThrough != null && window.end <= kafkaInfo.judgedThrough) return;
     windows++;
     incidents.openAtEnd = judgement.incidents;
-    output.write(JSON.stringify(judgement));
+    // The screen subscribes itself; the lines are for everything else.
+    if (screen === null) output.write(JSON.stringify(judgement));
     if (recorder !== null) {
       // The ids go with the first line and again whenever a growing universe has grown.
       const withIds = window.counts.length !== recordedIds;
@@ -466,6 +514,7 @@ async function watch(plan: WatchPlan, io: CommandIO): Promise<number> {
   pipeline.events.on('incident opened', (incident) => incidents.opened.push(incident));
   pipeline.events.on('incident cleared', () => incidents.cleared++);
   pipeline.events.on('source stalled', ({ quietMs }) => {
+    if (screen !== null) return;
     io.stderr.write(
       `shardwise watch: no records for ${Math.round(quietMs / 1000)} s; windows now close on the wall clock\n`,
     );
@@ -489,10 +538,14 @@ async function watch(plan: WatchPlan, io: CommandIO): Promise<number> {
     // Judge what is due before closing Kafka: a window judged after close would never be committed.
     if (kafka !== null) pipeline.tick();
     void source.close();
+    screen?.quit();
   };
   process.once('SIGINT', interrupt);
   process.once('SIGTERM', interrupt);
   output.onFailure(interrupt);
+  screen?.onQuit(() => {
+    if (!interrupted) interrupt();
+  });
   const poll = live ? setInterval(() => pipeline.tick(), livePollMs) : null;
   try {
     for await (const batch of source.batches()) {
@@ -501,6 +554,7 @@ async function watch(plan: WatchPlan, io: CommandIO): Promise<number> {
         else pipeline.record(item.ts, item.shard, item.count);
       }
       await output.drained();
+      if (screen !== null) await screen.batchDone(batch);
       if (interrupted) break;
     }
     // An interrupted run keeps the windows already due and drops the partial ones: a
@@ -510,7 +564,11 @@ async function watch(plan: WatchPlan, io: CommandIO): Promise<number> {
     } else if (kafka === null) {
       pipeline.finish();
     }
+    // Read to its end, the run stays on the screen until the user quits.
+    if (screen !== null && !interrupted) await screen.untilQuit();
   } finally {
+    // First, so the terminal is back whatever fails next.
+    await screen?.close();
     if (poll !== null) clearInterval(poll);
     process.removeListener('SIGINT', interrupt);
     process.removeListener('SIGTERM', interrupt);

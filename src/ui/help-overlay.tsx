@@ -1,0 +1,36 @@
+import { Box, Text } from 'ink';
+import { padWidth } from './terminal-text.js';
+import type { HelpView } from './view-model.js';
+
+export interface Props {
+  /** The keys and what each panel means. */
+  readonly help: HelpView;
+  /** Cells across. */
+  readonly width: number;
+  /** Lines it may take: it replaces everything between the header and the key line. */
+  readonly height: number;
+}
+
+/** The help: keys first, then one paragraph per panel, wrapped to the width. */
+export function HelpOverlay({ help, width, height }: Props) {
+  const keyWidth = Math.max(...help.keys.map((hint) => hint.key.length)) + 2;
+  return (
+    <Box flexDirection="column" width={width} height={height} overflow="hidden">
+      <Text bold inverse>
+        {` ${help.title} `}
+      </Text>
+      {help.keys.map((hint) => (
+        <Text key={hint.key} wrap="truncate-end">
+          <Text bold>{padWidth(hint.key, keyWidth)}</Text>
+          {hint.action}
+        </Text>
+      ))}
+      {help.panels.map((panel) => (
+        <Text key={panel.name} wrap="wrap">
+          <Text bold>{`${panel.name}: `}</Text>
+          {panel.text}
+        </Text>
+      ))}
+    </Box>
+  );
+}

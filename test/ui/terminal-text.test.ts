@@ -1,0 +1,85 @@
+import { describe, expect, it } from 'vitest';
+import {
+  displayWidth,
+  fitWidth,
+  padWidth,
+  terminalSafe,
+  wireLabel,
+} from '../../src/ui/terminal-text.js';
+
+// Escape sequences from ECMA-48 (CSI, OSC, C1 controls) and xterm's control sequences
+// (OSC 0 title, OSC 52 clipboard): common practice of terminal attacks through log text.
+const hostile = [
+  ['clear screen', 's-1\u001b[2J'],
+  ['colour', '\u001b[31mred\u001b[0m'],
+  ['window title', '\u001b]0;owned\u0007'],
+  ['clipboard write', '\u001b]52;c;ZWNobyBoaQ==\u001b\\'],
+  ['8-bit CSI', 's-\u009b2J'],
+  ['backspace over the id', 'good\b\b\b\bevil'],
+  ['carriage return', 'evil\rgood'],
+  ['newline', 'a\nb'],
+  ['delete', 'a\u007f'],
+] as const;
+
+describe('terminalSafe', () => {
+  it.each(hostile)('leaves no control character in %s', (_, id) => {
+    const safe = terminalSafe(id);
+    expect(safe).not.toMatch(/[\u0000-\u001f\u007f-\u009f]/);
+  });
+
+  it('shows each escape visibly instead of dropping it', () => {
+    expect(terminalSafe('s-1\u001b[2J')).toBe('s-1\\x1b[2J');
+    expect(terminalSafe('\u001b]0;owned\u0007')).toBe('\\x1b]0;owned\\x07');
+    expect(terminalSafe('s-\u009b2J')).toBe('s-\\x9b2J');
+  });
+
+  it('doubles backslashes so a literal "\\x1b" in an id cannot pass for an escaped one', () => {
+    expect(terminalSafe('a\\x1b')).toBe('a\\\\x1b');
+    expect(terminalSafe('a\u001b')).not.toBe(terminalSafe('a\\x1b'));
+  });
+
+  it('escapes bidi overrides, zero-width characters and a leading combining mark', () => {
+    // U+202E RIGHT-TO-LEFT OVERRIDE, U+200B ZERO WIDTH SPACE, U+2066 LEFT-TO-RIGHT ISOLATE,
+    // U+0301 COMBINING ACUTE ACCENT (Unicode character database).
+    expect(terminalSafe('s-1\u202e7')).toBe('s-1\\u{202e}7');
+    expect(terminalSafe('s\u200b1')).toBe('s\\u{200b}1');
+    expect(terminalSafe('\u2066x')).toBe('\\u{2066}x');
+    expect(terminalSafe('\u0301x')).toBe('\\u{301}x');
+    // Inside a word a combining mark is ordinary text.
+    expect(terminalSafe('cafe\u0301')).toBe('cafe\u0301');
+  });
+
+  it('keeps ordinary ids, accents and CJK as they are', () => {
+    for (const id of ['seat-17', 'node-001', 'partition 3', 'Zürich-a', '座席-7']) {
+      expect(terminalSafe(id)).toBe(id);
+    }
+  });
+});
+
+describe('widths', () => {
+  it('counts CJK as two cells and combining marks as none (UAX #11)', () => {
+    expect(displayWidth('seat-17')).toBe(7);
+    expect(displayWidth('座席')).toBe(4);
+    expect(displayWidth('cafe\u0301')).toBe(4);
+  });
+
+  it('cuts to the width with an ellipsis, never half a wide character', () => {
+    expect(fitWidth('seat-inventory-17', 8)).toBe('seat-in…');
+    expect(displayWidth(fitWidth('seat-inventory-17', 8))).toBe(8);
+    expect(fitWidth('座席座席', 4)).toBe('座…');
+    expect(fitWidth('short', 8)).toBe('short');
+    expect(fitWidth('anything', 0)).toBe('');
+  });
+
+  it('pads to exactly the width on either side', () => {
+    expect(padWidth('ab', 5)).toBe('ab   ');
+    expect(padWidth('ab', 5, 'right')).toBe('   ab');
+    expect(padWidth('座', 3)).toBe('座 ');
+  });
+
+  it('bounds an id from the wire after escaping it', () => {
+    const label = wireLabel('\u001b[2J\u001b[2J\u001b[2J', 12);
+    expect(label).toBe('\\x1b[2J\\x1b…');
+    expect(displayWidth(label)).toBe(12);
+  });
+});
