@@ -57,8 +57,9 @@ export class MetricsServer {
    * that is not this machine's is a UsageError on the option at fault.
    */
   static async start(options: MetricsServerOptions): Promise<MetricsServer> {
+    const source = coalesced(options.source);
     const server = createServer((request, response) => {
-      void answer(options.source, request, response);
+      void answer(source, request, response);
     });
     server.maxConnections = maxConnections;
     server.headersTimeout = headersTimeoutMs;
@@ -87,6 +88,28 @@ export class MetricsServer {
       this.server.closeAllConnections();
     });
   }
+}
+
+/**
+ * The source with concurrent /metrics renders shared: a request that arrives while the
+ * text is being produced gets that same text, begun at most one render (about a
+ * millisecond) before it arrived. Scrapes that queue up while the process waits for a CPU
+ * (a busy machine) then cost one render instead of one each.
+ */
+function coalesced(source: MetricsSource): MetricsSource {
+  let rendering: Promise<string> | null = null;
+  return {
+    contentType: source.contentType,
+    readiness: () => source.readiness(),
+    metrics() {
+      if (rendering === null) {
+        rendering = source.metrics().finally(() => {
+          rendering = null;
+        });
+      }
+      return rendering;
+    },
+  };
 }
 
 async function answer(

@@ -93,6 +93,24 @@ describe('MetricsServer', () => {
     expect((await fetchText(server, '/metrics', 'DELETE')).status).toBe(405);
   });
 
+  it('shares one render among concurrent scrapes, and renders again for a later one', async () => {
+    let renders = 0;
+    const server = await start({
+      ...source(),
+      metrics: async () => {
+        renders++;
+        await new Promise((resolve) => setTimeout(resolve, 100));
+        return `x_total ${renders}\n`;
+      },
+    });
+    const answers = await Promise.all(
+      Array.from({ length: 5 }, () => fetchText(server, '/metrics')),
+    );
+    expect(answers.map((answer) => answer.body)).toEqual(Array(5).fill('x_total 1\n'));
+    expect(renders).toBe(1);
+    expect((await fetchText(server, '/metrics')).body).toBe('x_total 2\n');
+  });
+
   it('answers 500 when the metrics cannot be produced', async () => {
     const server = await start({
       ...source(),
