@@ -18,7 +18,12 @@ import { UsageError } from '../window/errors.js';
 import { ShardUniverse } from '../window/shard-universe.js';
 import type { Command, CommandIO } from './command.js';
 import { duration, finiteNumber, parseOptions, probability, wholeNumber } from './option-values.js';
-import { kafkaOptionsHelp, kafkaSourceOptionSpec, parseKafkaSource, type ParsedKafkaSource } from './kafka-options.js';
+import {
+  kafkaOptionsHelp,
+  kafkaSourceOptionSpec,
+  parseKafkaSource,
+  type ParsedKafkaSource,
+} from './kafka-options.js';
 import { durationOption, scenarioNamed, seedOption, startOption } from './scenario-options.js';
 import { chooseWatchOutput, WatchScreen } from './watch-screen.js';
 
@@ -208,9 +213,15 @@ export const watchCommand: Command = {
 };
 
 async function readPlan(values: Values, io: CommandIO): Promise<WatchPlan> {
-  const sourcesGiven = [values.input, values.scenario, values.brokers].filter((v) => v !== undefined);
+  const sourcesGiven = [values.input, values.scenario, values.brokers].filter(
+    (v) => v !== undefined,
+  );
   if (sourcesGiven.length > 1 && values.brokers !== undefined) {
-    throw new UsageError('--brokers', values.brokers, 'cannot be combined with --input or --scenario (one source at a time)');
+    throw new UsageError(
+      '--brokers',
+      values.brokers,
+      'cannot be combined with --input or --scenario (one source at a time)',
+    );
   }
   if (values.input !== undefined && values.scenario !== undefined) {
     throw new UsageError(
@@ -280,7 +291,8 @@ async function readPlan(values: Values, io: CommandIO): Promise<WatchPlan> {
     }
     if (values.brokers !== undefined) {
       const kafka = parseKafkaSource(values, { env: io.env });
-      for (const warning of kafka.warnings) io.stderr.write(`shardwise watch: warning: ${warning}\n`);
+      for (const warning of kafka.warnings)
+        io.stderr.write(`shardwise watch: warning: ${warning}\n`);
       source = { kind: 'kafka', kafka };
     } else {
       const path = values.input as string;
@@ -604,12 +616,12 @@ function recordedSettings(plan: WatchPlan): Record<string, unknown> {
               shardFrom: plan.source.kafka.shardFrom,
             }
           : {
-            scenario: plan.source.name,
-            seed: plan.source.seed,
-            start: new Date(plan.source.startMs).toISOString(),
-            durationMs: Number.isFinite(plan.source.durationMs) ? plan.source.durationMs : null,
-            pace: plan.source.pace,
-          },
+              scenario: plan.source.name,
+              seed: plan.source.seed,
+              start: new Date(plan.source.startMs).toISOString(),
+              durationMs: Number.isFinite(plan.source.durationMs) ? plan.source.durationMs : null,
+              pace: plan.source.pace,
+            },
     windowMs: plan.windowMs,
     latenessMs: plan.latenessMs,
     declaredUniverse: plan.universe === null ? true : plan.universe.declared,
