@@ -4,14 +4,23 @@
 // when CI is set (it only prints the last frame), so this file clears that first and loads
 // the CLI afterwards.
 import { PassThrough, Readable } from 'node:stream';
-import { beforeAll, describe, expect, it } from 'vitest';
+import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import type { main as mainFunction } from '../../src/cli/main.js';
 
 let main: typeof mainFunction;
+const ciSettings = {
+  CI: process.env.CI,
+  CONTINUOUS_INTEGRATION: process.env.CONTINUOUS_INTEGRATION,
+};
 beforeAll(async () => {
   delete process.env.CI;
   delete process.env.CONTINUOUS_INTEGRATION;
   ({ main } = await import('../../src/cli/main.js'));
+});
+afterAll(() => {
+  for (const [name, value] of Object.entries(ciSettings)) {
+    if (value !== undefined) process.env[name] = value;
+  }
 });
 
 /** A terminal of the given size: what Ink needs of standard output and input. */
