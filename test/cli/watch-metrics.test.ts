@@ -92,6 +92,65 @@ describe('watch --metrics-port / --metrics-host / --no-metrics', () => {
     await expect(get(`${address[1]}/healthz`)).rejects.toThrow(/ECONNREFUSED/);
   });
 
+  it('keeps the series bounded while a flood of bogus shard ids comes through stdin', async () => {
+    const stdin = new PassThrough();
+    const stderr = new PassThrough();
+    let err = '';
+    stderr.on('data', (d) => (err += d));
+    const running = main(['watch', '--input', '-', '--no-ui', '--metrics-port', '0'], {
+      stdout: new PassThrough().resume(),
+      stderr,
+      stdin,
+      env: {},
+    });
+    const address = await until(() => /metrics at (http:\/\/127\.0\.0\.1:\d+\/metrics)/.exec(err));
+    const base = Date.UTC(2025, 11, 1);
+    // Raw quotes, braces, newlines, backslashes, NUL: valid JSON once escaped, hostile in a label.
+    const junk = ['"', '}', '\n', '\\', ' ', 'é', '{le="x"}', '\u0000'];
+    /** Windows `from`..`to` of 10 s, 2000 never-seen ids each (20 of them hot), and garbage. */
+    const flood = (from: number, to: number) => {
+      const lines: string[] = [];
+      for (let window = from; window <= to; window++) {
+        for (let index = 0; index < 2000; index++) {
+          const shard = `bogus${junk[index % junk.length]}${window}-${index}`;
+          const count = index < 20 ? 500 : 1;
+          lines.push(JSON.stringify({ ts: base + window * 10_000, shard, count }));
+        }
+        lines.push('not json at all', `{"ts":${base},"shard":"${'x'.repeat(300)}","count":1}`);
+      }
+      stdin.write(lines.join('\n') + '\n');
+    };
+    const scrapeUntil = async (windows: number) =>
+      until(async () => {
+        const text = await get(address[1]);
+        const closed = /^shardwise_windows_closed_total (\d+)$/m.exec(text);
+        return closed !== null && Number(closed[1]) >= windows ? text : null;
+      });
+    const ours = (text: string) => text.split('\n').filter((line) => line.startsWith('shardwise_'));
+    flood(0, 9);
+    // Windows 0..8 close once event time passes their end plus the 2 s lateness.
+    const first = ours(await scrapeUntil(9));
+    flood(10, 19);
+    const second = ours(await scrapeUntil(19));
+    const flagged = (lines: string[]) =>
+      lines.filter((line) => line.startsWith('shardwise_flagged_shard_relative_load'));
+    expect(flagged(first)).toHaveLength(10);
+    expect(flagged(second)).toHaveLength(10);
+    expect(second.length).toBe(first.length);
+    expect(first.length).toBeLessThan(120);
+    for (const line of flagged(second)) {
+      expect(line).toMatch(/shard="bogus[A-Za-z0-9._:\/@-]*~[0-9a-f]{8}"/);
+    }
+    expect(second.join('\n')).toMatch(
+      /^shardwise_rejected_records_total\{reason="not_json"\} 20$/m,
+    );
+    expect(second.join('\n')).toMatch(
+      /^shardwise_rejected_records_total\{reason="shard_id_too_long"\} 20$/m,
+    );
+    stdin.end();
+    expect(await running).toBe(0);
+  });
+
   it('serves no endpoint with --no-metrics', async () => {
     const result = await run([...scenario, '--no-metrics']);
     expect(result.code).toBe(0);
@@ -99,10 +158,10 @@ describe('watch --metrics-port / --metrics-host / --no-metrics', () => {
   });
 });
 
-async function until<T>(probe: () => T | null, timeoutMs = 10_000): Promise<T> {
+async function until<T>(probe: () => T | null | Promise<T | null>, timeoutMs = 20_000): Promise<T> {
   const deadline = Date.now() + timeoutMs;
   for (;;) {
-    const value = probe();
+    const value = await probe();
     if (value !== null) return value;
     if (Date.now() > deadline) throw new Error('timed out');
     await new Promise((resolve) => setTimeout(resolve, 10));
