@@ -54,6 +54,11 @@ export interface WatchScreenOptions {
   readonly ownsKeys: boolean;
   /** `connected` for a broker already connected, `reading` for a file or a scenario. */
   readonly sourceState: SourceState;
+  /**
+   * Window end a previous run judged through (Kafka resume), or null: sliding windows
+   * before it close again on resume and are not shown twice.
+   */
+  readonly judgedThrough: number | null;
 }
 
 /**
@@ -85,9 +90,12 @@ export class WatchScreen {
     });
     this.quitSignal = new Promise((resolve) => this.controller.onQuit(resolve));
     this.unsubscribe = [
-      pipeline.events.on('window judged', ({ window, judgement }) =>
-        this.controller.windowJudged(window, judgement),
-      ),
+      pipeline.events.on('window judged', ({ window, judgement }) => {
+        const judgedThrough = options.judgedThrough;
+        if (judgedThrough === null || window.end > judgedThrough) {
+          this.controller.windowJudged(window, judgement);
+        }
+      }),
       pipeline.events.on('source stalled', () => this.controller.sourceStalled()),
     ];
     this.terminal = openTerminalScreen({ stdout, keys: this.keys, controller: this.controller });

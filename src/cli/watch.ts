@@ -471,6 +471,7 @@ async function watch(plan: WatchPlan, io: CommandIO): Promise<number> {
         keys: choice.keys,
         ownsKeys: choice.ownsKeys,
         sourceState: kafka === null ? 'reading' : 'connected',
+        judgedThrough: kafkaInfo?.judgedThrough ?? null,
         context: {
           sourceLabel:
             plan.source.kind === 'kafka'
