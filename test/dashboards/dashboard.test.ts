@@ -4,10 +4,10 @@ import { mkdtempSync, readFileSync, rmSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { fileURLToPath } from 'node:url';
-import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import { afterAll, describe, expect, it } from 'vitest';
 import { exportedMetricNames } from './exported-names.js';
 import { metricNames } from './promql-names.js';
-import { promtool, requirePromtool } from './promtool.js';
+import { promtool } from './promtool.js';
 
 const file = fileURLToPath(new URL('../../dashboards/shardwise-dashboard.json', import.meta.url));
 
@@ -29,10 +29,6 @@ const dashboard = JSON.parse(readFileSync(file, 'utf8')) as {
 const expressions = dashboard.panels.flatMap((panel) => panel.targets.map((t) => t.expr));
 const scratch = mkdtempSync(join(tmpdir(), 'shardwise-dashboard-'));
 afterAll(() => rmSync(scratch, { recursive: true, force: true }));
-
-beforeAll(() => {
-  requirePromtool();
-});
 
 describe('dashboard definition', () => {
   it('has unique panel ids and query ids, and panels inside a 24-column grid', () => {

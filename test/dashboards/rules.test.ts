@@ -6,7 +6,7 @@ import { mkdtempSync, readFileSync, rmSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { fileURLToPath } from 'node:url';
-import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import { afterAll, describe, expect, it } from 'vitest';
 import { exportedMetricNames } from './exported-names.js';
 import { metricNames } from './promql-names.js';
 import { promtool, requirePromtool } from './promtool.js';
@@ -34,10 +34,6 @@ function rulesOf(file: string): Rule[] {
 
 const recordingRules = rulesOf('shardwise-recording.rules.yml');
 const alertingRules = rulesOf('shardwise-alerts.rules.yml');
-
-beforeAll(() => {
-  requirePromtool();
-});
 
 describe('rule files', () => {
   it('pass promtool check rules, with as many rules as this test reads', async () => {

@@ -8,7 +8,7 @@ import { mkdtempSync, readFileSync, rmSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { fileURLToPath } from 'node:url';
-import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import { afterAll, describe, expect, it } from 'vitest';
 import { VerdictMetrics } from '../../src/exporter/verdict-metrics.js';
 import { Judge } from '../../src/judge/judge.js';
 import { defaultJudgeSettings, type JudgeSettings } from '../../src/judge/judge-settings.js';
@@ -17,16 +17,13 @@ import { JudgingPipeline } from '../../src/judge/judging-pipeline.js';
 import { runScenario } from '../../src/scenario/scenario-run.js';
 import type { CountRecord } from '../../src/window/count-record.js';
 import { parseExposition } from '../exporter/exposition.js';
-import { promtool, requirePromtool } from './promtool.js';
+import { promtool } from './promtool.js';
 
 const rulesFile = fileURLToPath(
   new URL('../../dashboards/shardwise-alerts.rules.yml', import.meta.url),
 );
 const scratch = mkdtempSync(join(tmpdir(), 'shardwise-scenario-alerts-'));
 afterAll(() => rmSync(scratch, { recursive: true, force: true }));
-beforeAll(() => {
-  requirePromtool();
-});
 
 const alertNames = [
   'ShardwiseHotspotSustained',

@@ -7,7 +7,7 @@
 import { mkdtempSync, readFileSync, rmSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
-import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import { afterAll, describe, expect, it } from 'vitest';
 import {
   repositoryRoot,
   requirePrometheus,
@@ -34,10 +34,6 @@ const started: Child[] = [];
 afterAll(async () => {
   for (const child of started.splice(0).reverse()) await child.stop();
   rmSync(dir, { recursive: true, force: true });
-});
-
-beforeAll(() => {
-  requirePrometheus();
 });
 
 /** The repository's rule file with every `for:` cut to `duration`. */
@@ -68,6 +64,8 @@ async function alerts(url: string): Promise<AlertState[]> {
 
 describe('a real Prometheus server scraping shardwise watch', () => {
   it('fires the hotspot alert on the hotspot scenario and nothing on chance', async () => {
+    // Checked first, so a machine without it fails here, before any process starts.
+    requirePrometheus();
     // The scenario starts 54 s in the past: the first 54 s replay at once, and the plant
     // (seat-17 at 1.5x its fair share from 1:00) begins about 6 s after launch.
     const startMs = Math.floor((Date.now() - 54_000) / windowMs) * windowMs;
