@@ -20,7 +20,11 @@ async function run(
   stdout.on('data', (d) => (out += d));
   stderr.on('data', (d) => (err += d));
   const stdin = Readable.from([stdinText]);
-  const code = await main(args, { stdout, stderr, stdin, env: {} });
+  // No metrics endpoint: the default port may be taken by another run on this host (npm start
+  // in the screen test); the exporter has its own tests.
+  const wantsEndpoint = args.some((a) => a.startsWith('--metrics') || a === '--help');
+  const withoutEndpoint = args[0] === 'watch' && !wantsEndpoint ? [...args, '--no-metrics'] : args;
+  const code = await main(withoutEndpoint, { stdout, stderr, stdin, env: {} });
   return { code, out, err };
 }
 
