@@ -19,10 +19,19 @@ function pane(): string {
   return tmux('capture-pane', '-p', '-t', session);
 }
 
-async function waitFor(what: string, check: (text: string) => boolean, seconds: number) {
+async function waitFor(
+  what: string,
+  check: (text: string) => boolean,
+  seconds: number,
+  { whileRunning = true } = {},
+) {
   const deadline = Date.now() + seconds * 1000;
   let text = pane();
   while (!check(text)) {
+    // A program that ended early (a busy metrics port, a crash) fails at once, with its words.
+    if (whileRunning && /^EXIT:\d+/m.test(text)) {
+      throw new Error(`npm start ended before the ${what}; the pane shows:\n${text}`);
+    }
     if (Date.now() > deadline) {
       throw new Error(`no ${what} on the screen within ${seconds} s; the pane shows:\n${text}`);
     }
@@ -92,7 +101,7 @@ describe('npm start in a terminal', () => {
     tmux('send-keys', '-t', session, 'p');
     await waitFor('resume', (t) => t.includes('● LIVE'), 5);
     tmux('send-keys', '-t', session, 'q');
-    text = await waitFor('the exit code', (t) => /^EXIT:\d+/m.test(t), 20);
+    text = await waitFor('the exit code', (t) => /^EXIT:\d+/m.test(t), 20, { whileRunning: false });
     expect(text).toMatch(/^EXIT:0$/m);
     // Back on the shell's own screen: the summary, none of the screen.
     expect(text).toMatch(/^shardwise watch: \d+ windows judged/m);
@@ -108,7 +117,7 @@ describe('npm start in a terminal', () => {
       "stty -a | tr ' ;' '\\n\\n' | grep -xE -- '-?(icanon|echo)'; echo STTY:END",
       'Enter',
     );
-    text = await waitFor('stty', (t) => /^STTY:END/m.test(t), 10);
+    text = await waitFor('stty', (t) => /^STTY:END/m.test(t), 10, { whileRunning: false });
     const modes = text
       .slice(text.lastIndexOf('stty -a'))
       .split('\n')
