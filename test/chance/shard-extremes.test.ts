@@ -31,47 +31,47 @@ describe('fullest shard, equal shares', () => {
 
   const cases = reference.equalMax.filter((c) => c.p >= 1e-15);
   it(`matches exact convolution (python-flint, ${cases.length} cases) within 1e-3 relative`, () => {
-    const failures: string[] = [];
-    for (const c of cases) {
-      const placement = makePlacement(c.requests, c.shards);
-      const p = Math.exp(
-        fullestTail(placement, (c.atLeast * c.shards) / c.requests).logProbability,
-      );
-      if (!(relativeError(p, c.p) <= TOLERANCE))
-        failures.push(`m=${c.shards} N=${c.requests} k=${c.atLeast}: ${p} vs ${c.p}`);
-    }
-    expect(failures).toEqual([]);
+    expect(equalShareMismatches(cases, 'fullest')).toEqual([]);
   });
 
   it('two shards at N = 1e9 and three at N = 1e6 match binomial sums (scipy.stats.binom)', () => {
-    const failures: string[] = [];
-    for (const c of reference.twoThree) {
-      const placement = makePlacement(c.requests, c.shards);
-      const p = Math.exp(
-        fullestTail(placement, (c.atLeast * c.shards) / c.requests).logProbability,
-      );
-      if (!(relativeError(p, c.p) <= TOLERANCE))
-        failures.push(`m=${c.shards} N=${c.requests} k=${c.atLeast}: ${p} vs ${c.p}`);
-    }
-    expect(failures).toEqual([]);
+    expect(equalShareMismatches(reference.twoThree, 'fullest')).toEqual([]);
   });
 });
 
 describe('emptiest shard, equal shares', () => {
-  const cases = reference.equalMin.filter((c) => c.p >= 1e-15);
+  const cases = reference.equalMin
+    .filter((c) => c.p >= 1e-15)
+    .map((c) => ({ shards: c.shards, requests: c.requests, count: c.atMost, p: c.p }));
   it(`matches exact convolution (python-flint, ${cases.length} cases) within 1e-3 relative`, () => {
-    const failures: string[] = [];
-    for (const c of cases) {
-      const placement = makePlacement(c.requests, c.shards);
-      const p = Math.exp(
-        emptiestTail(placement, (c.atMost * c.shards) / c.requests).logProbability,
-      );
-      if (!(relativeError(p, c.p) <= TOLERANCE))
-        failures.push(`m=${c.shards} N=${c.requests} k=${c.atMost}: ${p} vs ${c.p}`);
-    }
-    expect(failures).toEqual([]);
+    expect(equalShareMismatches(cases, 'emptiest')).toEqual([]);
   });
 });
+
+/** The reference cases (count thresholds on equal shares) the engine misses by more than the bar. */
+function equalShareMismatches(
+  cases: readonly {
+    shards: number;
+    requests: number;
+    p: number;
+    atLeast?: number;
+    count?: number;
+  }[],
+  which: 'fullest' | 'emptiest',
+): string[] {
+  const failures: string[] = [];
+  for (const c of cases) {
+    const count = c.atLeast ?? c.count!;
+    const placement = makePlacement(c.requests, c.shards);
+    const relative = (count * c.shards) / c.requests;
+    const tail =
+      which === 'fullest' ? fullestTail(placement, relative) : emptiestTail(placement, relative);
+    const p = Math.exp(tail.logProbability);
+    if (!(relativeError(p, c.p) <= TOLERANCE))
+      failures.push(`m=${c.shards} N=${c.requests} k=${count}: ${p} vs ${c.p}`);
+  }
+  return failures;
+}
 
 describe('weighted shares', () => {
   for (const [name, list, side] of [
