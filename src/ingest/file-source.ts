@@ -1,4 +1,5 @@
 import { createReadStream } from 'node:fs';
+import { itemsOf } from './batch-items.js';
 import type { Readable } from 'node:stream';
 import type { CountRecord, Rejection } from '../window/count-record.js';
 import { UsageError } from '../window/errors.js';
@@ -69,31 +70,9 @@ export class FileSource implements AsyncIterable<SourceItem> {
     return this.detected;
   }
 
-  /**
-   * Yields every record and rejection in file order. A hand-written iterator
-   * rather than `yield*`: an async generator costs several promises per item,
-   * this one a single already-settled promise.
-   */
+  /** Yields every record and rejection in file order (one settled promise per item; see itemsOf). */
   [Symbol.asyncIterator](): AsyncIterator<SourceItem> {
-    const batches = this.batches();
-    let batch: SourceItem[] = [];
-    let next = 0;
-    const iterator: AsyncIterator<SourceItem> = {
-      next: async (): Promise<IteratorResult<SourceItem>> => {
-        while (next >= batch.length) {
-          const step = await batches.next();
-          if (step.done === true) return { value: undefined, done: true };
-          batch = step.value;
-          next = 0;
-        }
-        return { value: batch[next++], done: false };
-      },
-      return: async (): Promise<IteratorResult<SourceItem>> => {
-        await batches.return(undefined);
-        return { value: undefined, done: true };
-      },
-    };
-    return iterator;
+    return itemsOf(this.batches());
   }
 
   /** Yields the records and rejections of each read buffer as one array, in file order. */

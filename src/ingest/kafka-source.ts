@@ -1,4 +1,5 @@
 import { randomUUID } from 'node:crypto';
+import { itemsOf } from './batch-items.js';
 import type { Admin, Consumer, EachBatchPayload, Kafka, KafkaMessage } from 'kafkajs';
 import type { CountRecord, RejectionReason } from '../window/count-record.js';
 import { UsageError } from '../window/errors.js';
@@ -331,24 +332,7 @@ export class KafkaSource implements AsyncIterable<SourceItem> {
 
   /** Yields every record and rejection (see {@link batches}). */
   [Symbol.asyncIterator](): AsyncIterator<SourceItem> {
-    const batches = this.batches();
-    let batch: SourceItem[] = [];
-    let next = 0;
-    return {
-      next: async (): Promise<IteratorResult<SourceItem>> => {
-        while (next >= batch.length) {
-          const step = await batches.next();
-          if (step.done === true) return { value: undefined, done: true };
-          batch = step.value;
-          next = 0;
-        }
-        return { value: batch[next++], done: false };
-      },
-      return: async (): Promise<IteratorResult<SourceItem>> => {
-        await batches.return(undefined);
-        return { value: undefined, done: true };
-      },
-    };
+    return itemsOf(this.batches());
   }
 
   /**
