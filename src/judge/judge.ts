@@ -351,41 +351,41 @@ export class Judge {
     const judgedLoad = (shard: number) =>
       judgedCounts[shard] / (judgedTotal * shareAt(shares, shard, m));
     const entries: (FlaggedShard & { logP: number })[] = [];
-    const strongestHot = [...hot]
-      .sort((a, b) => judgedLoad(b) - judgedLoad(a) || a - b)
-      .slice(0, s.maxFlagged);
-    for (const shard of strongestHot) {
-      const relative = judgedLoad(shard);
-      const logP = this.memo.fullestTail(placement, version, relative).logProbability;
-      const share = shareAt(shares, shard, m);
-      entries.push({
-        shard: this.universe.idAt(shard),
-        finding: 'hotspot',
-        count: counts[shard],
-        relative: counts[shard] / (n * share),
-        p: probabilityFromLog(logP),
-        binomialP: probabilityFromLog(logBinomialAtLeast(judgedCounts[shard], judgedTotal, share)),
-        streak: streaks.get(trackingKey(shard, 'hotspot')) ?? 0,
-        logP,
-      });
-    }
-    const strongestCold = [...cold]
-      .sort((a, b) => judgedLoad(a) - judgedLoad(b) || a - b)
-      .slice(0, s.maxFlagged);
-    for (const shard of strongestCold) {
-      const relative = judgedLoad(shard);
-      const logP = this.memo.emptiestTail(placement, version, relative).logProbability;
-      const share = shareAt(shares, shard, m);
-      entries.push({
-        shard: this.universe.idAt(shard),
-        finding: 'cold',
-        count: counts[shard],
-        relative: counts[shard] / (n * share),
-        p: probabilityFromLog(logP),
-        binomialP: probabilityFromLog(logBinomialAtMost(judgedCounts[shard], judgedTotal, share)),
-        streak: streaks.get(trackingKey(shard, 'cold')) ?? 0,
-        logP,
-      });
+    // Hot shards against the fullest-shard law, cold ones against the emptiest-shard law;
+    // the plain binomial tail goes beside, never used alone.
+    const sides = [
+      { finding: 'hotspot', shards: hot, hotter: true },
+      { finding: 'cold', shards: cold, hotter: false },
+    ] as const;
+    for (const side of sides) {
+      const strongest = [...side.shards]
+        .sort(
+          (a, b) =>
+            (side.hotter ? judgedLoad(b) - judgedLoad(a) : judgedLoad(a) - judgedLoad(b)) || a - b,
+        )
+        .slice(0, s.maxFlagged);
+      for (const shard of strongest) {
+        const relative = judgedLoad(shard);
+        const logP = (
+          side.hotter
+            ? this.memo.fullestTail(placement, version, relative)
+            : this.memo.emptiestTail(placement, version, relative)
+        ).logProbability;
+        const share = shareAt(shares, shard, m);
+        const binomialLogP = side.hotter
+          ? logBinomialAtLeast(judgedCounts[shard], judgedTotal, share)
+          : logBinomialAtMost(judgedCounts[shard], judgedTotal, share);
+        entries.push({
+          shard: this.universe.idAt(shard),
+          finding: side.finding,
+          count: counts[shard],
+          relative: counts[shard] / (n * share),
+          p: probabilityFromLog(logP),
+          binomialP: probabilityFromLog(binomialLogP),
+          streak: streaks.get(trackingKey(shard, side.finding)) ?? 0,
+          logP,
+        });
+      }
     }
     // Sorted on the log so that p-values below the 1e-300 reporting floor keep their order.
     entries.sort((a, b) => a.logP - b.logP);
