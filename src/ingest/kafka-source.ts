@@ -790,8 +790,15 @@ export class KafkaSource implements AsyncIterable<SourceItem> {
     const buffered = new Set(this.alignment.buffered);
     const pause = [...buffered].filter((partition) => !this.paused.has(partition));
     const resume = [...this.paused].filter((partition) => !buffered.has(partition));
-    if (pause.length > 0) consumer.pause([{ topic: this.topic, partitions: pause }]);
-    if (resume.length > 0) consumer.resume([{ topic: this.topic, partitions: resume }]);
+    try {
+      if (pause.length > 0) consumer.pause([{ topic: this.topic, partitions: pause }]);
+      if (resume.length > 0) consumer.resume([{ topic: this.topic, partitions: resume }]);
+    } catch {
+      // A consumer being recreated after a crash has no group yet and refuses pause and
+      // resume (kafkajs throws from a timer, which would end the process). Leave the
+      // bookkeeping as it was: the next delivery or alignment tick tries again.
+      return;
+    }
     this.paused = buffered;
   }
 
