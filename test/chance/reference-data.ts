@@ -7,6 +7,7 @@ import { readFileSync } from 'node:fs';
  */
 export interface ReferenceData {
   chiSquare: { df: number; x: number; upper: number }[];
+  gammaRatios: { a: number; x: number; lower: number; upper: number }[];
   tails: {
     law: 'binomial' | 'poisson';
     n?: number;

@@ -206,10 +206,13 @@ for N in [30000, 10 ** 6]:
 
 # Single-shard tails at large and extreme arguments: binomial from scipy.stats.binom (checked
 # against mpmath.betainc at 40 digits for Binomial(1e9, 1e-5) at k = 9900 and 10000).
-for n, p in [(10 ** 9, 1e-5), (10 ** 9, 0.5), (10 ** 6, 1e-3), (1000, 0.5), (200, 0.01)]:
+# The small shares of many-shard clusters (1e-4 to 1e-6) are where the binomial tail is
+# taken from a corrected Poisson run (src/chance/tails.ts), so they get a denser grid.
+for n, p in [(10 ** 9, 1e-5), (10 ** 9, 0.5), (10 ** 6, 1e-3), (1000, 0.5), (200, 0.01),
+             (10 ** 9, 2.5e-5), (10 ** 8, 1e-4), (10 ** 7, 1e-6), (4 * 10 ** 9, 3e-6)]:
     mean = n * p
     sd = math.sqrt(n * p * (1 - p))
-    for z in [-30, -8, -3, -1, 0, 1, 3, 8, 30]:
+    for z in [-30, -8, -3, -1, -0.2, 0, 0.2, 1, 3, 8, 30]:
         k = math.floor(mean + z * sd)
         if k < 0 or k > n:
             continue
@@ -257,6 +260,17 @@ for mean in [0.5, 30, 1e4, 1e8]:
             lower = poisson_run(k, mean, False)
             at_most, at_least = lower, 1 - lower + mp.exp(-mp.mpf(mean) + k * mp.log(mean) - mp.loggamma(k + 1))
         out["tails"].append({"law": "poisson", "mean": mean, "k": k, "atMost": float(at_most), "atLeast": float(at_least)})
+
+# Regularized incomplete gamma ratios P(a, x) and Q(a, x) by mpmath.gammainc at 40 digits,
+# for the O(1) expansion of src/chance/gamma-ratio-expansion.ts (non-integer shapes too).
+out["gammaRatios"] = []
+with mp.workdps(40):
+    for a in [25, 30.5, 60, 100, 250.5, 1000, 4321.25]:
+        for r in [0.33, 0.6, 0.9, 0.99, 1, 1.01, 1.1, 1.5, 2.1]:
+            x = a * r
+            lower = mp.gammainc(mp.mpf(a), 0, mp.mpf(x), regularized=True)
+            upper = mp.gammainc(mp.mpf(a), mp.mpf(x), mp.inf, regularized=True)
+            out["gammaRatios"].append({"a": a, "x": x, "lower": float(lower), "upper": float(upper)})
 
 # Chi-square upper tails by mpmath.gammainc(df/2, x/2, inf, regularized=True) at 30 digits.
 for df in [1, 5, 63, 1023, 99999]:
