@@ -60,7 +60,8 @@ export interface BoxOptions {
   readonly quick?: boolean;
   /**
    * For tail questions: return the first Bonferroni bound S1 (the sum of single-shard
-   * tails, an upper bound of the answer) and nothing else; O(shards) and cheap.
+   * tails, an upper bound of the answer, not capped at 1) and nothing else; O(shards) and
+   * cheap.
    */
   readonly firstOrder?: boolean;
 }
@@ -269,6 +270,38 @@ function exactWork(tilted: readonly TiltedGroup[], at: number): number {
   }
   return work;
 }
+
+/**
+ * A quick estimate of the exact branch's work before the saddle point is solved, with the
+ * uncut Poisson spread at rate N standing in for each cut piece's. O(groups). Used to skip
+ * asking for an exact box that cannot be afforded (for many distinct shares and large N).
+ */
+export function exactBoxWorkEstimate(total: number, groups: readonly ShardGroup[]): number {
+  let width = 0;
+  let work = 0;
+  for (const g of groups) {
+    if (g.count === 0 || g.share === 0) continue;
+    const sd = Math.sqrt(total * g.share);
+    const span = g.upper < Infinity ? g.upper - g.lower + 1 : Infinity;
+    const pieceWidth = Math.min(span, total + 1, Math.ceil(28 * sd + 30));
+    const groupWidth = Math.min(
+      total + 1,
+      g.count * pieceWidth,
+      Math.ceil(28 * Math.sqrt(g.count) * sd) + pieceWidth,
+    );
+    const productCost = (x: number, y: number) =>
+      x > FFT_FROM && y > FFT_FROM ? 6 * (x + y) * Math.log2(x + y) : x * y;
+    work +=
+      2 * Math.log2(g.count + 1) * productCost(groupWidth, groupWidth) +
+      productCost(width, groupWidth);
+    width = Math.min(total + 1, width + groupWidth);
+    if (work > 1e12) return work;
+  }
+  return work;
+}
+
+/** The routine budget of the exact branch (for callers deciding whether to ask). */
+export const ROUTINE_EXACT_BUDGET = EXACT_BUDGET;
 
 /**
  * Two shards: X_2 = N - X_1, so the box is an interval of one binomial count, computed

@@ -1,4 +1,10 @@
-import { boxLogProbability, type BoxOptions, type ShardGroup } from './box-probability.js';
+import {
+  boxLogProbability,
+  exactBoxWorkEstimate,
+  ROUTINE_EXACT_BUDGET,
+  type BoxOptions,
+  type ShardGroup,
+} from './box-probability.js';
 import { logChoose } from './discrete-densities.js';
 import { log1mExp, logAddExp, logDifference } from './log-space.js';
 import { logBinomialAtLeast, logBinomialAtMost } from './tails.js';
@@ -50,6 +56,23 @@ const MANY_GROUPS_SWITCH = 0.03;
 const EXACT_COMPLEMENT_FROM = 1e-4;
 /** Up to this many groups, all pairwise joint tails are computed. */
 const FEW_GROUPS = 6;
+
+/**
+ * Whether the exact complement could be within the routine budget (an estimate with a
+ * margin of 10, so that only clearly unaffordable exact boxes are skipped).
+ */
+function exactComplementMayBeCheap(
+  side: Side,
+  total: number,
+  groups: readonly ThresholdGroup[],
+): boolean {
+  const box: ShardGroup[] = groups.map((g) =>
+    side === 'high'
+      ? { share: g.share, count: g.count, lower: 0, upper: g.threshold - 1 }
+      : { share: g.share, count: g.count, lower: g.threshold + 1, upper: Infinity },
+  );
+  return exactBoxWorkEstimate(total, box) <= 10 * ROUTINE_EXACT_BUDGET;
+}
 
 function singleLogTail(side: Side, total: number, g: ThresholdGroup): number {
   return side === 'high'
@@ -139,9 +162,10 @@ export function anyShardTail(
   }
   if (logS1 === -Infinity)
     return { logProbability: -Infinity, method: 'impossible', relativeError: 0 };
+  // Not capped at 0: a searching caller wants the smooth bound even where it exceeds 1.
   if (options.firstOrder)
     return {
-      logProbability: Math.min(0, logS1),
+      logProbability: logS1,
       method: 'first-order-bound',
       relativeError: Infinity,
     };
@@ -150,7 +174,11 @@ export function anyShardTail(
   if (shardCount === 1)
     return { logProbability: logS1, method: 'single-shard', relativeError: 1e-13 };
 
-  if (s1 >= EXACT_COMPLEMENT_FROM && s1 <= SINGLE_GROUP_SWITCH) {
+  if (
+    s1 >= EXACT_COMPLEMENT_FROM &&
+    s1 <= SINGLE_GROUP_SWITCH &&
+    (live.length <= FEW_GROUPS || exactComplementMayBeCheap(side, total, live))
+  ) {
     // Where the box is cheap enough to be exact, its complement beats the truncated series
     // (absolute error about 1e-16, so relative 1e-12 even at the switch-over).
     const complement = complementLogTail(side, total, live, { quick: true });

@@ -71,7 +71,8 @@ function unit(placement: Placement): number {
 /**
  * Quantile of the fullest shard's relative load: the smallest t with P(max r <= t) >= level,
  * i.e. P(max r > t) <= 1 - level. At level 1 - alpha this is the chance ceiling.
- * For equal shares t * N / m is a whole count. Bisection on t; O(log(range)) tails.
+ * For equal shares t * N / m is a whole count: bisection over counts, O(log(range)) tails.
+ * For weighted shares a safeguarded regula falsi on the log tail (about 5-15 tails).
  * Example: fullestQuantile(makePlacement(23, 365), 0.5) = 2 * 365 / 23 (the birthday median is a pair).
  */
 export function fullestQuantile(placement: Placement, level: number): number {
@@ -79,41 +80,68 @@ export function fullestQuantile(placement: Placement, level: number): number {
   // While bracketing an extreme level, the first Bonferroni bound S1 (>= the tail, and
   // within S1^2/2 of it) is close enough and costs one pass over the shards.
   const firstOrder = placement.shares !== null && 1 - level <= FIRST_ORDER_LEVEL;
-  const exceeds = (quick: boolean) => (t: number) =>
-    Math.exp(fullestTail(placement, t, { quick, firstOrder: quick && firstOrder }).logProbability) >
-    1 - level;
-  return searchRelative(placement, exceeds, 'high');
+  const logBound = Math.log1p(-level);
+  // Above zero while t is below the quantile (the tail still exceeds 1 - level).
+  const excess = (quick: boolean) => (t: number) =>
+    rootGap(
+      logBound,
+      fullestTail(placement, t, { quick, firstOrder: quick && firstOrder }).logProbability,
+    );
+  return searchRelative(placement, excess, 'high');
 }
 
 /**
  * Quantile of the emptiest shard's relative load: the smallest u with P(min r <= u) >= level.
- * At level alpha this is the chance floor. O(log(range)) tails.
+ * At level alpha this is the chance floor. Searched as fullestQuantile.
  * Example: emptiestQuantile(makePlacement(2, 2), 0.5) = 0.
  */
 export function emptiestQuantile(placement: Placement, level: number): number {
   if (placement.total === 0) return 0;
-  // "u is below the quantile" <=> P(min r <= u) < level.
   const firstOrder = placement.shares !== null && level <= FIRST_ORDER_LEVEL;
-  const below = (quick: boolean) => (u: number) =>
-    Math.exp(
+  const logBound = Math.log(level);
+  // Above zero while u is below the quantile: P(min r <= u) < level.
+  const shortfall = (quick: boolean) => (u: number) =>
+    -rootGap(
+      logBound,
       emptiestTail(placement, u, { quick, firstOrder: quick && firstOrder }).logProbability,
-    ) < level;
-  return searchRelative(placement, below, 'low');
+    );
+  return searchRelative(placement, shortfall, 'low');
 }
 
 /**
- * Smallest relative load t for which `before(t)` turns false, where before is monotone
- * (true below the answer). For equal shares the answer is a whole count; for weighted
- * shares it is located to a relative 1e-7.
+ * sqrt(-log bound) - sqrt(-log tail), signed: positive while the tail is above the bound.
+ * The log tail of an extreme falls about quadratically in the distance from the fair share,
+ * so its root is nearly straight and interpolation converges in a few steps.
+ */
+function rootGap(logBound: number, logTail: number): number {
+  const root = (x: number) => Math.sign(x) * Math.sqrt(Math.abs(x));
+  return root(-logBound) - root(-logTail);
+}
+
+/** The quick search stops at this relative width (the accurate one starts from there). */
+const QUICK_WIDTH = 1e-6;
+/**
+ * Weighted shares: the answer is one shard's breakpoint, or, where breakpoints crowd closer
+ * than this relative width, the upper end of a bracket this narrow.
+ */
+const ANSWER_WIDTH = 1e-8;
+
+/**
+ * Smallest relative load t at which `gap(t)` stops being positive, where gap falls with t
+ * (positive below the answer). For equal shares the answer is a whole count; for weighted
+ * shares it is the breakpoint of one shard's threshold, or located to a relative 1e-8
+ * where breakpoints crowd closer than that.
  */
 function searchRelative(
   placement: Placement,
-  makeTest: (quick: boolean) => (t: number) => boolean,
+  makeGap: (quick: boolean) => (t: number) => number,
   side: 'high' | 'low',
 ): number {
-  // Bracket and bisect with quick evaluations, then settle the last step with full accuracy.
-  const before = makeTest(true);
-  const accurate = makeTest(false);
+  // Bracket and narrow with quick evaluations, then settle with full accuracy.
+  const quickGap = makeGap(true);
+  const accurateGap = makeGap(false);
+  const before = (t: number) => quickGap(t) > 0;
+  const accurate = (t: number) => accurateGap(t) > 0;
   const step = unit(placement);
   const equal = placement.shares === null;
   const fair = placement.total / placement.shardCount;
@@ -145,58 +173,166 @@ function searchRelative(
     while (hi > 0 && !exact(hi - 1)) hi--;
     return hi / fair;
   }
-  let lo = side === 'high' ? 1 : 0;
-  let hi = side === 'high' ? 1 + step : 1;
-  if (side === 'high') {
-    while (before(hi)) {
-      lo = hi;
-      hi = 1 + 2 * (hi - 1);
-      if (hi > 1e12) break;
-    }
-  } else if (!before(0)) {
-    return 0;
-  }
-  // Quick bisection to a relative 1e-7, then full accuracy from a narrow bracket (widened if
-  // the quick answer was off). The tail only changes where some t N p_i is a whole count,
-  // so the accurate search stops once both ends give every shard the same threshold.
-  for (let i = 0; i < 200 && hi - lo > 1e-7 * hi; i++) {
-    const mid = (lo + hi) / 2;
-    if (before(mid)) lo = mid;
-    else hi = mid;
-  }
   const floorT = side === 'high' ? 1 : 0;
-  let width = Math.max(2e-3 * hi, hi - lo);
-  lo = Math.max(floorT, hi - width);
-  while (lo > floorT && !accurate(lo)) {
-    width *= 4;
-    lo = Math.max(floorT, hi - width);
-  }
-  while (accurate(hi)) hi += width;
-  // Bisect until exactly one share class changes its threshold between the ends: the
-  // answer is then that class's breakpoint (for equal shares this is the whole count).
-  for (let i = 0; i < 200 && hi - lo > 1e-12 * hi; i++) {
-    const low = groups(placement, lo, side);
-    const high = groups(placement, hi, side);
-    let changed = -1;
-    let changes = 0;
-    for (let g = 0; g < low.length; g++) {
-      if (low[g].threshold !== high[g].threshold) {
-        changes++;
-        changed = g;
+  // First guess from the normal law of the most spread shard, z = sqrt(2 ln(1000 m)) standard
+  // deviations out (a family-wise level near 1e-3); the bracket grows from there if needed.
+  const guess = Math.sqrt(2 * Math.log(1000 * placement.shardCount) * step);
+  const b: Bracket = { lo: floorT, hi: 1, gapLo: NaN, gapHi: NaN, latest: 0 };
+  if (side === 'high') {
+    b.hi = 1 + Math.max(step, guess);
+    b.gapHi = quickGap(b.hi);
+    b.gapLo = quickGap(1);
+    while (b.gapHi > 0) {
+      b.lo = b.hi;
+      b.gapLo = b.gapHi;
+      b.hi = 1 + 2 * (b.hi - 1);
+      if (b.hi > 1e12) break;
+      b.gapHi = quickGap(b.hi);
+    }
+  } else {
+    b.gapLo = quickGap(0);
+    if (!(b.gapLo > 0)) return 0;
+    b.hi = 1;
+    b.gapHi = quickGap(1);
+    const low = Math.max(0, 1 - guess);
+    if (low > 0) {
+      const gapLow = quickGap(low);
+      if (gapLow > 0) {
+        b.lo = low;
+        b.gapLo = gapLow;
+      } else {
+        b.hi = low;
+        b.gapHi = gapLow;
       }
     }
-    if (changes === 1 && Math.abs(high[changed].threshold - low[changed].threshold) === 1) {
-      const expected = placement.total * high[changed].share;
-      return side === 'high'
-        ? (high[changed].threshold - 1) / expected
-        : high[changed].threshold / expected;
-    }
-    if (changes === 0) break;
-    const mid = (lo + hi) / 2;
-    if (accurate(mid)) lo = mid;
-    else hi = mid;
   }
-  return hi;
+  for (let i = 0; i < 200 && b.hi - b.lo > QUICK_WIDTH * b.hi; i++) narrowOnce(quickGap, b);
+  // Full accuracy from a bracket around the quick answer c: the accurate gap at c, over the
+  // local slope of the quick gap, says how far off c is (the quick gap is the first
+  // Bonferroni bound, off by about the level itself); the bracket grows if that was short.
+  const slope = (b.gapLo - b.gapHi) / Math.max(b.hi - b.lo, 1e-300);
+  const center = b.hi;
+  const gapCenter = accurateGap(center);
+  const offset =
+    Number.isFinite(slope) && slope > 0 && Number.isFinite(gapCenter)
+      ? (2 * Math.abs(gapCenter)) / slope
+      : 2e-3 * center;
+  let width = Math.max(b.hi - b.lo, 1e-9 * center, offset);
+  b.latest = 0;
+  if (gapCenter > 0) {
+    b.lo = center;
+    b.gapLo = gapCenter;
+    b.hi = center + width;
+    b.gapHi = accurateGap(b.hi);
+    while (b.gapHi > 0) {
+      b.lo = b.hi;
+      b.gapLo = b.gapHi;
+      width *= 4;
+      b.hi += width;
+      b.gapHi = accurateGap(b.hi);
+    }
+  } else {
+    b.hi = center;
+    b.gapHi = gapCenter;
+    b.lo = Math.max(floorT, center - width);
+    b.gapLo = accurateGap(b.lo);
+    while (b.lo > floorT && !(b.gapLo > 0)) {
+      b.hi = b.lo;
+      b.gapHi = b.gapLo;
+      width *= 4;
+      b.lo = Math.max(floorT, b.lo - width);
+      b.gapLo = accurateGap(b.lo);
+    }
+  }
+  // The tail only changes where some t N p_i is a whole count: narrow until exactly one
+  // shard's threshold changes between the ends; the answer is then its breakpoint.
+  // With many shards the breakpoints crowd (N of them per unit of t), so the search stops
+  // once the bracket is below a relative ANSWER_WIDTH and returns its upper end, the
+  // smallest load known to satisfy the level.
+  for (let round = 0; round < 100; round++) {
+    const breakpoint = singleBreakpoint(placement, b.lo, b.hi, side);
+    if (breakpoint !== null) return breakpoint;
+    if (b.hi - b.lo <= ANSWER_WIDTH * b.hi) break;
+    narrowOnce(accurateGap, b);
+  }
+  return b.hi;
+}
+
+/**
+ * The breakpoint between lo and hi when exactly one share class changes its threshold there
+ * (by one count), else null (none or several). O(distinct shares).
+ */
+function singleBreakpoint(
+  placement: Placement,
+  lo: number,
+  hi: number,
+  side: 'high' | 'low',
+): number | null {
+  const low = groups(placement, lo, side);
+  const high = groups(placement, hi, side);
+  let changed = -1;
+  for (let g = 0; g < low.length; g++) {
+    if (low[g].threshold !== high[g].threshold) {
+      if (changed >= 0) return null;
+      changed = g;
+    }
+  }
+  if (changed < 0 || Math.abs(high[changed].threshold - low[changed].threshold) !== 1) return null;
+  const expected = placement.total * high[changed].share;
+  return side === 'high'
+    ? (high[changed].threshold - 1) / expected
+    : high[changed].threshold / expected;
+}
+
+/** A bracket [lo, hi] of a falling gap: gap(lo) > 0 >= gap(hi). */
+interface Bracket {
+  lo: number;
+  hi: number;
+  gapLo: number;
+  gapHi: number;
+  /** Which end the latest point replaced (1 high, -1 low, 0 none yet). */
+  latest: number;
+}
+
+/**
+ * One step of regula falsi with the Anderson-Bjorck modification (Anderson and Bjorck 1973,
+ * "A new high order method of regula falsi type", BIT 13): when the new point lands on the
+ * same side as the previous one, the kept end's gap is scaled by 1 - g_new / g_previous, so
+ * the bracket closes from both sides with order about 1.7 where the gap is smooth (many
+ * shards). Where a gap is not finite, or the tail is a coarse step function (few shards)
+ * and a step keeps most of the bracket, the step is a bisection. One gap per step.
+ */
+function narrowOnce(gap: (t: number) => number, b: Bracket): void {
+  const width = b.hi - b.lo;
+  let mid = (b.lo + b.hi) / 2;
+  if (Number.isFinite(b.gapLo) && Number.isFinite(b.gapHi) && b.gapLo > b.gapHi) {
+    const falsi = b.lo + width * (b.gapLo / (b.gapLo - b.gapHi));
+    if (falsi > b.lo && falsi < b.hi) mid = falsi;
+  }
+  const value = gap(mid);
+  if (value > 0) {
+    if (b.latest === -1) {
+      const m = 1 - value / b.gapLo;
+      b.gapHi *= m > 0 ? m : 0.5;
+    }
+    b.lo = mid;
+    b.gapLo = value;
+    b.latest = -1;
+  } else {
+    if (b.latest === 1) {
+      const m = 1 - value / b.gapHi;
+      b.gapLo *= m > 0 ? m : 0.5;
+    }
+    b.hi = mid;
+    b.gapHi = value;
+    b.latest = 1;
+  }
+  // A step function can defeat interpolation: then the ends are forgotten as if unknown,
+  // and the next step bisects.
+  if (b.hi - b.lo > 0.9 * width) {
+    if (b.latest === 1) b.gapLo = NaN;
+    else b.gapHi = NaN;
+  }
 }
 
 /**
