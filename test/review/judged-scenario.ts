@@ -57,7 +57,6 @@ export function judgeScenario(
     recorded: {
       source: { scenario: name, seed: options.seed ?? 1 },
       windowMs,
-      hopMs: windowMs,
       latenessMs: 2000,
       declaredUniverse: true,
       ...settings,
