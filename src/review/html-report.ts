@@ -92,7 +92,7 @@ dl.summary dd { margin: 0; }
 table { border-collapse: collapse; width: 100%; font-size: 0.85rem; }
 th, td { border: 1px solid #d1d5db; padding: 0.25rem 0.4rem; text-align: left; vertical-align: top; }
 th { background: #f3f4f6; }
-td.shard { font-family: monospace; word-break: break-all; }
+td.shard { font-family: monospace; overflow-wrap: anywhere; }
 tr.finding-hotspot td:first-child { border-left: 4px solid #c2410c; }
 tr.finding-cold td:first-child { border-left: 4px solid #1d4ed8; }
 tr.finding-uneven td:first-child { border-left: 4px solid #7e22ce; }

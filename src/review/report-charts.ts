@@ -189,6 +189,8 @@ function heatSpec(model: ReviewModel) {
           type: 'nominal',
           sort: rows.map((row) => row.shard),
           title: 'shard',
+          // Long ids are cut with an ellipsis past this width, never allowed to squeeze the strip.
+          axis: { labelLimit: 260 },
         },
         color: {
           field: 'load',

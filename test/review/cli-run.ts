@@ -32,3 +32,15 @@ export function countReports(
   }
   return lines.join('\n') + '\n';
 }
+
+/** Shard ids from the wire, chosen to break HTML text, attributes, SVG and Markdown tables. */
+export const hostileIds = [
+  '<script>alert(1)</script>',
+  '"><img src=x onerror=alert(2)>',
+  "' onmouseover='alert(3)",
+  'pipe|and`tick`',
+  '[link](http://127.0.0.1/)',
+  's-5',
+  's-6',
+  's-7',
+];

@@ -3,20 +3,9 @@ import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { describe, expect, it } from 'vitest';
 import { escapeHtml, escapeMarkdown } from '../../src/review/report-text.js';
-import { countReports, runCli } from './cli-run.js';
+import { countReports, hostileIds, runCli } from './cli-run.js';
 
 const dir = mkdtempSync(join(tmpdir(), 'shardwise-escaping-'));
-/** Shard ids from the wire, chosen to break HTML text, attributes, SVG and Markdown tables. */
-export const hostileIds = [
-  '<script>alert(1)</script>',
-  '"><img src=x onerror=alert(2)>',
-  "' onmouseover='alert(3)",
-  'pipe|and`tick`',
-  '[link](http://127.0.0.1/)',
-  's-5',
-  's-6',
-  's-7',
-];
 
 describe('untrusted shard ids in the report', () => {
   it('are inert in the HTML (text, attributes, SVG) and the Markdown', async () => {
