@@ -53,18 +53,27 @@ interface OpenEpisode {
 const windowWide: readonly Finding[] = ['uneven', 'too little traffic'];
 
 /**
- * Finds episodes in a stream of judged windows: a run of consecutive windows in which a shard
- * is flagged with the same finding (or a window-wide finding holds). A window in which it is
- * not flagged ends the run; windows must come in start order. Only the shards a window flags
- * are seen (at most --max-flagged per window, most significant first), so an episode of a
- * shard pushed off a crowded list may show as two. O(flagged) per window.
+ * Finds episodes in a stream of judged windows: a run of windows in which a shard is flagged
+ * with the same finding (or a window-wide finding holds), bridging gaps of at most
+ * `gapWindows` windows without it, so a hotspot near the edge of detection, flagged in most
+ * windows but not all, reads as one episode and not as dozens. With the gap at --clear - 1
+ * an episode ends exactly where an incident would clear. Start and end are those of the
+ * first and last flagged window; `windows` counts the flagged ones. Windows must come in
+ * start order. Only the shards a window flags are seen (at most --max-flagged per window,
+ * most significant first). O(flagged + open episodes) per window.
  */
 export class EpisodeFinder {
+  private readonly gapWindows: number;
   private readonly open = new Map<string, OpenEpisode>();
   private readonly done: Episode[] = [];
   private idsSeen: readonly string[] | null = null;
   private indexById = new Map<string, number>();
   private windowIndex = 0;
+
+  /** @param gapWindows most windows without the finding inside one episode (default 0) */
+  constructor(gapWindows = 0) {
+    this.gapWindows = gapWindows;
+  }
 
   add(window: ReviewWindow): void {
     const judgement = window.judgement;
@@ -104,7 +113,7 @@ export class EpisodeFinder {
       }
     }
     for (const [key, episode] of this.open) {
-      if (episode.seenAt !== index) {
+      if (index - episode.seenAt > this.gapWindows) {
         this.open.delete(key);
         this.done.push(finished(episode));
       }

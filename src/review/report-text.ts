@@ -74,7 +74,7 @@ export const episodeColumns = [
   'start',
   'end',
   'duration',
-  'windows',
+  'flagged windows',
   'peak load',
   'requests above fair share',
   'requests beyond the chance level',
@@ -168,7 +168,7 @@ export function methodParagraphs(model: ReviewModel): { heading: string; text: s
     },
     {
       heading: 'Windows and episodes',
-      text: `Windows of ${formatDuration(s.windowMs)}${s.hopMs !== s.windowMs ? `, starting every ${formatDuration(s.hopMs)} (they overlap)` : ''}, aligned to multiples of their length since the Unix epoch. An episode is a run of consecutive windows in which a shard is flagged with the same finding (or a window-wide finding holds); its requests above fair share sum count - N p_i over its windows, and its requests beyond the chance level sum what lies above the chance ceiling (below the floor for a cold shard). At most ${s.maxFlagged} shards are flagged per window (--max-flagged), the most significant first. An incident opens after ${s.confirm} flagged windows in a row and clears after ${s.clear} clean ones; by chance alone about ${formatRate(windowsPerDay * s.alpha ** s.confirm)} false incidents a day are expected (windows per day x alpha^confirm, an approximation that treats windows as independent).`,
+      text: `Windows of ${formatDuration(s.windowMs)}${s.hopMs !== s.windowMs ? `, starting every ${formatDuration(s.hopMs)} (they overlap)` : ''}, aligned to multiples of their length since the Unix epoch. An episode is a run of windows in which a shard is flagged with the same finding (or a window-wide finding holds), bridging gaps of fewer than ${s.clear} windows without it (--clear, the rule that clears an incident), from the start of its first flagged window to the end of its last; its requests above fair share sum count - N p_i over its windows, and its requests beyond the chance level sum what lies above the chance ceiling (below the floor for a cold shard). At most ${s.maxFlagged} shards are flagged per window (--max-flagged), the most significant first. An incident opens after ${s.confirm} flagged windows in a row and clears after ${s.clear} clean ones; by chance alone about ${formatRate(windowsPerDay * s.alpha ** s.confirm)} false incidents a day are expected (windows per day x alpha^confirm, an approximation that treats windows as independent).`,
     },
     {
       heading: 'Assumptions',

@@ -104,7 +104,7 @@ export class ReviewBuilder {
   private readonly source: string;
   private readonly judgedHere: boolean;
   private readonly settings: ReviewSettings;
-  private readonly episodes = new EpisodeFinder();
+  private readonly episodes: EpisodeFinder;
   private readonly heat = new HeatGrid();
   private readonly notes = new Set<string>();
   private readonly incidents: Incident[] = [];
@@ -136,6 +136,8 @@ export class ReviewBuilder {
     this.source = options.source;
     this.judgedHere = options.judgedHere;
     this.settings = options.settings;
+    // An episode bridges what would not clear an incident: fewer than --clear clean windows.
+    this.episodes = new EpisodeFinder(Math.max(0, options.settings.clear - 1));
   }
 
   /** A note to show with the report (reading problems, re-windowing), kept once. */

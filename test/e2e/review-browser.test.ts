@@ -1,3 +1,6 @@
+/// <reference lib="dom" />
+/// <reference lib="dom.iterable" />
+// page.evaluate callbacks run in the browser, so this file sees the DOM types.
 // The HTML report in a real browser: Debian's Chromium (/usr/bin/chromium, installed by
 // scripts/provision.sh), headless, driven over the DevTools protocol by puppeteer-core (no
 // browser download). The report comes from a recording of the demo scenario, whose plants

@@ -142,6 +142,16 @@ describe('EpisodeFinder arithmetic', () => {
     expect(episode.beyondChance).toBeCloseTo(50, 9);
   });
 
+  it('bridges a gap shorter than the allowed one, counting only the flagged windows', () => {
+    const finder = new EpisodeFinder(1);
+    finder.add(window(160, 0));
+    finder.add({ ...window(100, 10_000), judgement: { ...judgement(100, 10_000), flagged: [] } });
+    finder.add(window(130, 20_000));
+    const episodes = finder.episodes();
+    expect(episodes.map((e) => [e.start, e.end, e.windows])).toEqual([[0, 30_000, 2]]);
+    expect(episodes[0].aboveFairShare).toBeCloseTo(90, 9);
+  });
+
   it('splits episodes at a window without the flag', () => {
     const finder = new EpisodeFinder();
     finder.add(window(160, 0));
