@@ -5,6 +5,7 @@ import { UsageError } from '../window/errors.js';
 import type { Command, CommandIO } from './command.js';
 import { oddsCommand } from './odds.js';
 import { planCommand } from './plan.js';
+import { reviewCommand } from './review.js';
 import { simulateCommand } from './simulate.js';
 import { watchCommand } from './watch.js';
 
@@ -13,7 +14,13 @@ import { watchCommand } from './watch.js';
  * code (0 success, 2 bad usage with a one-line reason, 1 runtime failure).
  */
 
-const COMMANDS: readonly Command[] = [watchCommand, oddsCommand, planCommand, simulateCommand];
+const COMMANDS: readonly Command[] = [
+  watchCommand,
+  reviewCommand,
+  oddsCommand,
+  planCommand,
+  simulateCommand,
+];
 
 function topHelp(): string {
   const width = Math.max(...COMMANDS.map((c) => c.name.length));

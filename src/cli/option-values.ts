@@ -107,3 +107,24 @@ export function duration(option: string, raw: string, { allowZero = false } = {}
   }
   return Math.round(ms);
 }
+
+const SIZE_UNITS: Record<string, number> = {
+  '': 1,
+  b: 1,
+  kb: 1e3,
+  mb: 1e6,
+  gb: 1e9,
+  kib: 1024,
+  mib: 1024 ** 2,
+  gib: 1024 ** 3,
+};
+
+/** A size in bytes like 500MB, 1GiB or 4096 (a bare number is bytes); at least `min`. */
+export function byteSize(option: string, raw: string, min = 1): number {
+  const match = /^(\d+(?:\.\d+)?)\s*([kmg]i?b|b)?$/i.exec(raw.trim());
+  if (!match) throw new UsageError(option, raw, 'is not a size (examples: 4096, 500MB, 1GiB)');
+  const bytes = Math.round(Number(match[1]) * SIZE_UNITS[(match[2] ?? '').toLowerCase()]);
+  if (!Number.isSafeInteger(bytes)) throw new UsageError(option, raw, 'is too large');
+  if (bytes < min) throw new UsageError(option, raw, `must be at least ${min} bytes`);
+  return bytes;
+}

@@ -1,4 +1,3 @@
-import { closeSync, openSync, writeSync } from 'node:fs';
 import { access, constants } from 'node:fs/promises';
 import type { Readable } from 'node:stream';
 import { metricsHost, metricsPort } from '../exporter/metrics-address.js';
@@ -9,15 +8,18 @@ import { KafkaSource } from '../ingest/kafka-source.js';
 import { ScenarioSource } from '../ingest/scenario-source.js';
 import { readShardMapFile } from '../ingest/shard-map-file.js';
 import { Judge } from '../judge/judge.js';
-import { defaultJudgeSettings, type JudgeSettings } from '../judge/judge-settings.js';
+import type { JudgeSettings } from '../judge/judge-settings.js';
 import { JudgingPipeline } from '../judge/judging-pipeline.js';
-import type { Incident, NullModelName, SpreadModeName } from '../judge/judgement.js';
+import type { Incident } from '../judge/judgement.js';
+import type { RecordedSettings } from '../record/recording-line.js';
+import { defaultRecordingMaxBytes, WindowRecorder } from '../record/window-recorder.js';
 import { runScenario, type ScenarioRun } from '../scenario/scenario-run.js';
 import { isRejection, rejectionReasons, type RejectionReason } from '../window/count-record.js';
 import { UsageError } from '../window/errors.js';
 import { ShardUniverse } from '../window/shard-universe.js';
 import type { Command, CommandIO } from './command.js';
-import { duration, finiteNumber, parseOptions, probability, wholeNumber } from './option-values.js';
+import { judgeOptionSpec, readJudgeSettings } from './judge-options.js';
+import { byteSize, duration, parseOptions, wholeNumber } from './option-values.js';
 import {
   kafkaOptionsHelp,
   kafkaSourceOptionSpec,
@@ -111,9 +113,17 @@ Output:
   --no-ui                 JSON Lines on stdout instead of the live screen (also
                           what runs, after a notice on stderr, when stdout is
                           not a terminal)
-  --record FILE           also write each verdict with the window's full count
-                          vector and the settings, one JSON line per window,
-                          written through per window
+  --record FILE           also write a recording for shardwise review: each
+                          closed window's verdict with its full count vector and
+                          the settings, one JSON line per window, written to the
+                          file before the next window is judged (no fsync), so a
+                          run stopped mid-write leaves at most a torn last line,
+                          which review skips with a note. FILE is replaced.
+  --record-max-size S     rotate the recording once it would pass S bytes
+                          (default 1GiB; e.g. 500MB, 64MiB, at least 4096):
+                          FILE moves to FILE.1, replacing an older FILE.1, and a
+                          fresh FILE starts with the shard ids again, so disk use
+                          stays below 2 x S
   --metrics-port P        serve Prometheus metrics on /metrics, with /healthz and
                           /readyz, on port P (default 9464; 0 picks a free port);
                           the address is printed on stderr
@@ -151,17 +161,9 @@ export const watchOptions = {
   window: { type: 'string' },
   hop: { type: 'string' },
   lateness: { type: 'string' },
-  alpha: { type: 'string' },
-  'min-excess': { type: 'string' },
-  'min-dispersion': { type: 'string' },
-  'max-detectable': { type: 'string' },
-  null: { type: 'string' },
-  baseline: { type: 'string' },
-  spread: { type: 'string' },
-  confirm: { type: 'string' },
-  clear: { type: 'string' },
-  'max-flagged': { type: 'string' },
+  ...judgeOptionSpec,
   record: { type: 'string' },
+  'record-max-size': { type: 'string' },
   'no-ui': { type: 'boolean' },
   'metrics-port': { type: 'string' },
   'metrics-host': { type: 'string' },
@@ -195,6 +197,8 @@ interface WatchPlan {
   readonly latenessMs: number;
   readonly judge: JudgeSettings;
   readonly recordPath: string | undefined;
+  /** `--record-max-size`: the recording rotates to FILE.1 past this size. */
+  readonly recordMaxBytes: number;
   readonly noUi: boolean;
   /** Where to serve metrics; null with --no-metrics. */
   readonly metrics: { readonly host: string; readonly port: number } | null;
@@ -321,55 +325,14 @@ async function readPlan(values: Values, io: CommandIO): Promise<WatchPlan> {
     }
   }
 
-  const nullModel = (values.null ?? (sharesDeclared ? 'map' : 'uniform')) as NullModelName;
-  if (nullModel === 'map' && !sharesDeclared) {
-    throw new UsageError(
-      '--null',
-      'map',
-      'needs --shard-map FILE (or a --scenario) to take the shares from; use uniform for equal shares',
-    );
+  const judge = readJudgeSettings(values, { sharesDeclared, hopMs });
+  const recordMaxBytes =
+    values['record-max-size'] === undefined
+      ? defaultRecordingMaxBytes
+      : byteSize('--record-max-size', values['record-max-size'], 4096);
+  if (values['record-max-size'] !== undefined && values.record === undefined) {
+    throw new UsageError('--record-max-size', values['record-max-size'], 'needs --record FILE');
   }
-  const judge: JudgeSettings = {
-    ...defaultJudgeSettings,
-    null: nullModel,
-    spread: (values.spread ?? defaultJudgeSettings.spread) as SpreadModeName,
-    alpha:
-      values.alpha === undefined
-        ? defaultJudgeSettings.alpha
-        : probability('--alpha', values.alpha),
-    minExcess:
-      values['min-excess'] === undefined
-        ? defaultJudgeSettings.minExcess
-        : finiteNumber('--min-excess', values['min-excess'], { min: 0 }),
-    minDispersion:
-      values['min-dispersion'] === undefined
-        ? defaultJudgeSettings.minDispersion
-        : finiteNumber('--min-dispersion', values['min-dispersion'], { min: 1 }),
-    maxDetectable:
-      values['max-detectable'] === undefined
-        ? defaultJudgeSettings.maxDetectable
-        : finiteNumber('--max-detectable', values['max-detectable'], {
-            min: 1,
-            minExclusive: true,
-          }),
-    confirm:
-      values.confirm === undefined
-        ? defaultJudgeSettings.confirm
-        : wholeNumber('--confirm', values.confirm, 1),
-    clear:
-      values.clear === undefined
-        ? defaultJudgeSettings.clear
-        : wholeNumber('--clear', values.clear, 1),
-    maxFlagged:
-      values['max-flagged'] === undefined
-        ? defaultJudgeSettings.maxFlagged
-        : wholeNumber('--max-flagged', values['max-flagged'], 1),
-    baselineWindows:
-      values.baseline === undefined
-        ? defaultJudgeSettings.baselineWindows
-        : wholeNumber('--baseline', values.baseline, 1),
-    hopMs,
-  };
   const metricsHostValue = metricsHost(values['metrics-host']);
   const metricsPortValue = metricsPort(values['metrics-port']);
   if (values['no-metrics'] === true) {
@@ -387,6 +350,7 @@ async function readPlan(values: Values, io: CommandIO): Promise<WatchPlan> {
     latenessMs,
     judge,
     recordPath: values.record,
+    recordMaxBytes,
     noUi: values['no-ui'] === true,
     metrics:
       values['no-metrics'] === true ? null : { host: metricsHostValue, port: metricsPortValue },
@@ -446,9 +410,12 @@ async function watch(plan: WatchPlan, io: CommandIO): Promise<number> {
           latenessMs: plan.latenessMs,
           ...plan.metrics,
         });
-  let recorder: { fd: number } | null;
+  let recorder: WindowRecorder | null;
   try {
-    recorder = plan.recordPath === undefined ? null : openRecording(plan.recordPath);
+    recorder =
+      plan.recordPath === undefined
+        ? null
+        : openRecording(plan.recordPath, recordedSettings(plan), plan.recordMaxBytes);
   } catch (error) {
     await exporter?.close();
     throw error;
@@ -488,7 +455,7 @@ async function watch(plan: WatchPlan, io: CommandIO): Promise<number> {
         },
       });
     } catch (error) {
-      if (recorder !== null) closeSync(recorder.fd);
+      recorder?.close();
       await exporter?.close();
       throw error;
     }
@@ -500,8 +467,6 @@ async function watch(plan: WatchPlan, io: CommandIO): Promise<number> {
     openAtEnd: [],
   };
   let windows = 0;
-  const settings = recordedSettings(plan);
-  let recordedIds = -1;
   pipeline.events.on('window judged', ({ window, judgement }) => {
     // After a resume with sliding windows, windows already judged by the last run close again.
     if (kafkaInfo?.judgedThrough != null && window.end <= kafkaInfo.judgedThrough) return;
@@ -509,18 +474,7 @@ async function watch(plan: WatchPlan, io: CommandIO): Promise<number> {
     incidents.openAtEnd = judgement.incidents;
     // The screen subscribes itself; the lines are for everything else.
     if (screen === null) output.write(JSON.stringify(judgement));
-    if (recorder !== null) {
-      // The ids go with the first line and again whenever a growing universe has grown.
-      const withIds = window.counts.length !== recordedIds;
-      recordedIds = window.counts.length;
-      const line = {
-        ...judgement,
-        counts: Array.from(window.counts),
-        settings,
-        ...(withIds ? { shardIds: universe.ids.slice(0, window.counts.length) } : {}),
-      };
-      writeSync(recorder.fd, JSON.stringify(line) + '\n');
-    }
+    recorder?.record(window, judgement, universe);
     // Last, once the verdict is out: Kafka may now commit past this window's records.
     kafka?.markJudgedUpTo(window.end);
   });
@@ -585,7 +539,7 @@ async function watch(plan: WatchPlan, io: CommandIO): Promise<number> {
     if (poll !== null) clearInterval(poll);
     process.removeListener('SIGINT', interrupt);
     process.removeListener('SIGTERM', interrupt);
-    if (recorder !== null) closeSync(recorder.fd);
+    recorder?.close();
     await exporter?.close();
   }
   await output.drained();
@@ -594,9 +548,9 @@ async function watch(plan: WatchPlan, io: CommandIO): Promise<number> {
   return 0;
 }
 
-function openRecording(path: string): { fd: number } {
+function openRecording(path: string, settings: RecordedSettings, maxBytes: number): WindowRecorder {
   try {
-    return { fd: openSync(path, 'w') };
+    return new WindowRecorder({ path, settings, maxBytes });
   } catch (error) {
     throw new UsageError('--record', path, `cannot be written (${(error as Error).message})`, {
       cause: error,
@@ -605,7 +559,7 @@ function openRecording(path: string): { fd: number } {
 }
 
 /** The settings a recording carries, so `review` can say what each verdict rested on. */
-function recordedSettings(plan: WatchPlan): Record<string, unknown> {
+function recordedSettings(plan: WatchPlan): RecordedSettings {
   return {
     source:
       plan.source.kind === 'file'

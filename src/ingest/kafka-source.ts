@@ -74,6 +74,17 @@ export interface KafkaSourceOptions extends KafkaConnectionOptions {
    * read until closed.
    */
   readonly stopAtEnd?: boolean;
+  /**
+   * End each partition before its first message whose Kafka timestamp is at or after this
+   * instant (epoch ms), found by timestamp when connecting; messages from there on are
+   * dropped. Implies `stopAtEnd`. With `from: {kind: 'time'}` this reads a time range.
+   */
+  readonly untilMs?: number;
+  /**
+   * False: never commit an offset, so reading moves no group's position (a review). The
+   * group is then only a name for the consumer's membership. Default true.
+   */
+  readonly commitOffsets?: boolean;
   /** Connecting at start (default 8 attempts, 250 ms doubling to 8 s: about 30 s). */
   readonly connectRetry?: BackoffPolicy;
   /** Making a new consumer after a crash (default 10 attempts, 500 ms doubling to 15 s). */
@@ -203,6 +214,8 @@ export class KafkaSource implements AsyncIterable<SourceItem> {
   private paused = new Set<number>();
   private readonly bufferedThrough = new Map<number, number>();
   private readonly lastFetched = new Map<number, number>();
+  /** With `untilMs`: per partition, the first offset not to read. */
+  private readonly endOffsets = new Map<number, number>();
   private readonly counters = {
     messages: 0,
     redeliveriesSkipped: 0,
@@ -478,14 +491,23 @@ export class KafkaSource implements AsyncIterable<SourceItem> {
     }
     const fromOption = await this.startOffsets(admin, missing);
     const startOffsets = [...resumed, ...fromOption].sort((a, b) => a.partition - b.partition);
-    const ends = await admin.fetchTopicOffsets(topic);
+    const until = this.options.untilMs;
+    const ends =
+      until === undefined
+        ? (await admin.fetchTopicOffsets(topic)).map((entry) => ({
+            partition: entry.partition,
+            offset: entry.high,
+          }))
+        : await admin.fetchTopicOffsetsByTimestamp(topic, until);
     const pending = new Map<number, number>();
+    this.endOffsets.clear();
     for (const { partition, offset } of startOffsets) {
-      const end = Number(ends.find((entry) => entry.partition === partition)?.high ?? 0);
+      const end = Number(ends.find((entry) => entry.partition === partition)?.offset ?? 0);
+      if (until !== undefined) this.endOffsets.set(partition, end);
       if (offset < end) pending.set(partition, end);
     }
     for (const partition of pending.keys()) this.alignment.expect(partition);
-    if (this.options.stopAtEnd === true) this.pendingEnd = pending;
+    if (this.options.stopAtEnd === true || until !== undefined) this.pendingEnd = pending;
     // Everything below a partition's start counts as processed: a fetch that starts lower
     // (a rebalance before the start position is committed) is skipped like a redelivery.
     for (const { partition, offset } of startOffsets) {
@@ -685,6 +707,16 @@ export class KafkaSource implements AsyncIterable<SourceItem> {
       fresh = messages.filter((message) => Number(message.offset) > seen);
       duplicates = messages.length - fresh.length;
     }
+    const endOffset = this.endOffsets.get(partition);
+    let pastEnd = false;
+    if (
+      endOffset !== undefined &&
+      fresh.length > 0 &&
+      Number(fresh[fresh.length - 1].offset) >= endOffset
+    ) {
+      fresh = fresh.filter((message) => Number(message.offset) < endOffset);
+      pastEnd = true;
+    }
     if (fresh.length > 0) {
       this.bufferedThrough.set(partition, Number(fresh[fresh.length - 1].offset));
     }
@@ -696,7 +728,7 @@ export class KafkaSource implements AsyncIterable<SourceItem> {
     this.alignment.append(
       partition,
       fresh,
-      Number(batch.lastOffset()) + 1 >= Number(batch.highWatermark),
+      pastEnd || Number(batch.lastOffset()) + 1 >= Number(batch.highWatermark),
     );
     await this.deliver(payload);
   }
@@ -843,6 +875,7 @@ export class KafkaSource implements AsyncIterable<SourceItem> {
 
   /** Commits the judged positions that differ from the last confirmed commit. */
   private async commitNow(consumer: Consumer): Promise<void> {
+    if (this.options.commitOffsets === false) return;
     const metadata = commitMetadata(this.ledger.judgedThrough);
     const changed = this.ledger
       .commitOffsets()

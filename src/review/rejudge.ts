@@ -1,0 +1,183 @@
+import { Judge } from '../judge/judge.js';
+import type { JudgeSettings } from '../judge/judge-settings.js';
+import type { RecordedWindow } from '../record/recording-reader.js';
+import type { RejectionReason } from '../window/count-record.js';
+import { UsageError } from '../window/errors.js';
+import { ShardUniverse } from '../window/shard-universe.js';
+import type { ReviewWindow } from './review-window.js';
+
+/** How to judge a recording's windows again. */
+export interface RejudgeOptions {
+  /** The settings to judge with (the recording's, with the review's options over them). */
+  readonly settings: JudgeSettings;
+  /**
+   * Window length to judge, ms: the recording's, or a whole multiple of it (consecutive
+   * recorded windows are merged). Null keeps the recording's.
+   */
+  readonly windowMs: number | null;
+  /** As typed, for error messages. */
+  readonly windowText?: string;
+  /** Receives notes (a partial merged window at either end). */
+  readonly onNote?: (note: string) => void;
+}
+
+/**
+ * The windows of a recording judged afresh with other settings, through the same Judge as
+ * `watch`, on the recorded count vectors. With a longer `windowMs` each run of recorded
+ * windows inside one longer window (aligned, as watch aligns windows, to multiples of the
+ * length since the epoch) is summed first. A recording keeps one count vector per window, so
+ * windows can be merged into whole multiples, never cut or shifted; and a recording of
+ * sliding windows (hop below the window) cannot be merged at all, since its windows overlap.
+ * Both are refused with a UsageError naming --window.
+ *
+ * The universe is rebuilt from the recorded ids and shares (declared or growing, as
+ * recorded). O(m) per recorded window plus one judgement per output window.
+ */
+export async function* rejudgeRecording(
+  recorded: AsyncIterable<RecordedWindow>,
+  options: RejudgeOptions,
+): AsyncGenerator<ReviewWindow, void, undefined> {
+  let universe: ShardUniverse | null = null;
+  let judge: Judge | null = null;
+  let windowMs = 0;
+  let merging = false;
+  let pending: {
+    start: number;
+    end: number;
+    counts: Float64Array;
+    total: number;
+    late: number;
+    rejected: Partial<Record<RejectionReason, number>>;
+    parts: number;
+    firstPart: number;
+  } | null = null;
+  let recordedMs = 0;
+  let lastShares: Float64Array | null = null;
+
+  const flush = (): ReviewWindow | null => {
+    if (pending === null || judge === null || universe === null) return null;
+    const window = pending;
+    pending = null;
+    const expectedParts = windowMs / recordedMs;
+    if (merging && window.parts < expectedParts) {
+      options.onNote?.(
+        `the window starting ${new Date(window.start).toISOString()} holds only ${window.parts} of its ${expectedParts} recorded windows (the recording starts or ends inside it, or skipped a quiet stretch)`,
+      );
+    }
+    const counts = window.counts.subarray(0, universe.size);
+    const judgement = judge.judge({
+      start: window.start,
+      end: window.end,
+      counts,
+      total: window.total,
+      late: window.late,
+      rejected: window.rejected,
+    });
+    return {
+      start: window.start,
+      end: window.end,
+      counts,
+      total: window.total,
+      shardIds: universe.ids,
+      shares: lastShares,
+      judgement,
+    };
+  };
+
+  for await (const window of recorded) {
+    if (universe === null) {
+      recordedMs = window.settings.windowMs;
+      const hopMs = window.settings.hopMs ?? recordedMs;
+      windowMs = options.windowMs ?? recordedMs;
+      merging = windowMs !== recordedMs;
+      if (merging) {
+        const given = options.windowText ?? `${windowMs}ms`;
+        if (hopMs !== recordedMs) {
+          throw new UsageError(
+            '--window',
+            given,
+            `cannot be used on this recording: its windows slide (${recordedMs} ms every ${hopMs} ms) and overlap, so they cannot be merged`,
+          );
+        }
+        if (windowMs % recordedMs !== 0) {
+          throw new UsageError(
+            '--window',
+            given,
+            `is not a whole multiple of the recording's ${recordedMs} ms windows: a recording keeps one count vector per window, so windows can be merged into longer multiples but never cut`,
+          );
+        }
+      }
+      universe = universeOf(window);
+      lastShares = window.shares;
+      judge = new Judge(universe, { ...options.settings, hopMs: merging ? windowMs : hopMs });
+    } else {
+      grow(universe, window);
+      if (window.shares !== null) lastShares = window.shares;
+    }
+    const start = merging ? Math.floor(window.start / windowMs) * windowMs : window.start;
+    if (pending !== null && pending.start !== start) {
+      const judged = flush();
+      if (judged !== null) yield judged;
+    }
+    if (pending === null) {
+      pending = {
+        start,
+        end: merging ? start + windowMs : window.end,
+        counts: new Float64Array(Math.max(universe.size, window.counts.length)),
+        total: 0,
+        late: 0,
+        rejected: {},
+        parts: 0,
+        firstPart: window.start,
+      };
+    }
+    if (pending.counts.length < universe.size) {
+      const grown = new Float64Array(universe.size);
+      grown.set(pending.counts);
+      pending.counts = grown;
+    }
+    for (let shard = 0; shard < window.counts.length; shard++) {
+      pending.counts[shard] += window.counts[shard];
+    }
+    pending.total += window.total;
+    pending.late += window.judgement.late ?? 0;
+    for (const [reason, count] of Object.entries(window.judgement.rejected ?? {})) {
+      const key = reason as RejectionReason;
+      pending.rejected[key] = (pending.rejected[key] ?? 0) + (count ?? 0);
+    }
+    pending.parts++;
+  }
+  const last = flush();
+  if (last !== null) yield last;
+}
+
+function universeOf(window: RecordedWindow): ShardUniverse {
+  const ids = window.shardIds;
+  if (window.settings.declaredUniverse === false) {
+    const universe = ShardUniverse.growing({ maxShards: Math.max(ids.length, 100_000) });
+    for (const id of ids) universe.admit(id);
+    return universe;
+  }
+  const options = { maxShards: Math.max(ids.length, 1) };
+  return window.shares === null
+    ? ShardUniverse.fromIds(ids, options, '--recording', 'its shard ids')
+    : ShardUniverse.fromWeights(ids, Array.from(window.shares), options);
+}
+
+/** Admits ids a growing universe gained; any other change means another run's recording. */
+function grow(universe: ShardUniverse, window: RecordedWindow): void {
+  const ids = window.shardIds;
+  for (let at = 0; at < ids.length; at++) {
+    if (at < universe.size) {
+      if (universe.idAt(at) !== ids[at]) {
+        throw new Error(
+          `the shard ids change at line ${window.line} (shard ${at} was ${JSON.stringify(universe.idAt(at))}, now ${JSON.stringify(ids[at])}): review one run's recording at a time`,
+        );
+      }
+    } else if (universe.declared || universe.admit(ids[at]) < 0) {
+      throw new Error(
+        `the shard universe changes at line ${window.line}: review one run's recording at a time`,
+      );
+    }
+  }
+}
