@@ -28,6 +28,8 @@ describe('spread', () => {
     const n = 7;
     let mean = 0;
     let second = 0;
+    let third = 0;
+    const placements: { p: number; x: number }[] = [];
     const logFact = (k: number): number => (k <= 1 ? 0 : Math.log(k) + logFact(k - 1));
     for (let a = 0; a <= n; a++) {
       for (let b = 0; a + b <= n; b++) {
@@ -44,11 +46,59 @@ describe('spread', () => {
         const x = [a, b, c].reduce((s, v, i) => s + (v - n * shares[i]) ** 2 / (n * shares[i]), 0);
         mean += p * x;
         second += p * x * x;
+        placements.push({ p, x });
       }
     }
+    for (const { p, x } of placements) third += p * (x - mean) ** 3;
     const s = spreadTest(makePlacement(n, 3, [3, 2, 1]), [4, 2, 1]);
     expect(mean).toBeCloseTo(2, 10); // E[X^2] = m - 1 exactly
     expect(relativeError(s.nullVariance, second - mean * mean)).toBeLessThan(1e-10);
+    expect(relativeError(s.nullThirdMoment, third)).toBeLessThan(1e-10);
+  });
+
+  it('equal shares: the third central moment of X^2 is 4(N-1)(m-1)(2N+m-6)/N^2 (exact enumeration)', () => {
+    for (const [m, n] of [
+      [4, 6],
+      [7, 5],
+      [12, 30],
+    ]) {
+      const law = exactEqualShareLaw(m, n);
+      let mean = 0;
+      for (const [x, p] of law) mean += p * x;
+      let third = 0;
+      for (const [x, p] of law) third += p * (x - mean) ** 3;
+      const s = spreadTest(makePlacement(n, m), new Float64Array(m).fill(n / m));
+      expect(relativeError(s.nullThirdMoment, third)).toBeLessThan(1e-9);
+      expect(
+        relativeError(s.nullThirdMoment, (4 * (n - 1) * (m - 1) * (2 * n + m - 6)) / n ** 2),
+      ).toBeLessThan(1e-12);
+    }
+  });
+
+  it('sparse windows: the exact size of the test stays within 1.3 alpha (exact enumeration of X^2)', () => {
+    // The exact law of X^2 for equal shares, by enumerating the partitions of N into at most
+    // m parts with their multinomial probabilities; the size is P(p-value <= alpha) under it.
+    // (With the two-moment chi-square these sizes reach about 2 alpha at one request per shard.)
+    const failures: string[] = [];
+    for (const [m, n] of [
+      [16, 16],
+      [16, 32],
+      [32, 16],
+      [32, 32],
+      [48, 48],
+      [40, 20],
+    ]) {
+      const law = exactEqualShareLaw(m, n);
+      for (const alpha of [0.05, 0.01, 0.001]) {
+        let size = 0;
+        for (const [x, p] of law) {
+          const counts = countsWithChiSquare(x, m, n);
+          if (Math.exp(spreadTest(makePlacement(n, m), counts).logProbability) <= alpha) size += p;
+        }
+        if (!(size <= 1.3 * alpha)) failures.push(`m ${m} N ${n} alpha ${alpha}: size ${size}`);
+      }
+    }
+    expect(failures).toEqual([]);
   });
 
   it('dispersion is 1 on average and the robust dispersion ignores one hot shard', () => {
@@ -69,3 +119,49 @@ describe('spread', () => {
     expect(CHI_SQUARE_ONE_MEDIAN).toBeCloseTo(0.4549364, 6);
   });
 });
+
+/** One count vector for each value of X^2 in the enumerated law (any with that value). */
+const exampleCounts = new Map<string, Float64Array>();
+
+function countsWithChiSquare(x: number, m: number, n: number): Float64Array {
+  return exampleCounts.get(`${m}/${n}/${x}`)!;
+}
+
+/** Exact law of X^2 under equal shares: value -> probability, by partitions of N. */
+function exactEqualShareLaw(m: number, n: number): Map<number, number> {
+  const law = new Map<number, number>();
+  const logFactorial = (k: number) => {
+    let s = 0;
+    for (let i = 2; i <= k; i++) s += Math.log(i);
+    return s;
+  };
+  const parts: number[] = [];
+  const visit = (left: number, largest: number) => {
+    if (left === 0) {
+      const multiplicity = new Map<number, number>();
+      for (const v of parts) multiplicity.set(v, (multiplicity.get(v) ?? 0) + 1);
+      let logP =
+        logFactorial(n) + logFactorial(m) - logFactorial(m - parts.length) - n * Math.log(m);
+      for (const v of parts) logP -= logFactorial(v);
+      for (const c of multiplicity.values()) logP -= logFactorial(c);
+      const sumSquares = parts.reduce((s, v) => s + v * v, 0);
+      const x = Math.round(((m / n) * sumSquares - n) * 1e9) / 1e9;
+      law.set(x, (law.get(x) ?? 0) + Math.exp(logP));
+      const key = `${m}/${n}/${x}`;
+      if (!exampleCounts.has(key)) {
+        const counts = new Float64Array(m);
+        parts.forEach((v, i) => (counts[i] = v));
+        exampleCounts.set(key, counts);
+      }
+      return;
+    }
+    if (parts.length === m) return;
+    for (let k = Math.min(left, largest); k >= 1; k--) {
+      parts.push(k);
+      visit(left - k, k);
+      parts.pop();
+    }
+  };
+  visit(n, n);
+  return law;
+}
