@@ -18,7 +18,7 @@ const alpha = 0.01;
 const limit = alpha + 3 * standardError(alpha, windows);
 
 describe('false findings under pure chance (64 equal shards, alpha 0.01, 2000 windows)', () => {
-  it.each([10, 1000])(
+  it.each([1, 10, 1000])(
     'N/m = %i: hotspot, fullest test, cold and uneven within alpha',
     (perShard) => {
       const [auto, exact] = chanceRates({ shards, perShard, windows, seed: 11 + perShard }, [
