@@ -1,6 +1,8 @@
 // Lint rules for the whole tree. The pure core (chance/, window/, judge/) may not
 // reach for node: modules, Kafka, prom-client or Ink (ARCHITECTURE.md), and only
-// cli/ may end the process.
+// cli/ may end the process. keys/ (hot keys versus placement) is pure too; it may use
+// the chance engine, judge/ types and the seeded draws of scenario/, and the core
+// imports nothing from it (judge/ defines the seam it implements).
 import tseslint from 'typescript-eslint';
 
 const pureCoreBans = {
@@ -19,8 +21,26 @@ const pureCoreBans = {
         '**/record/**',
         '**/review/**',
         '**/scenario/**',
+        '**/keys/**',
       ],
       message: 'The pure core imports only inward.',
+    },
+  ],
+};
+
+const keyAnalysisBans = {
+  patterns: [
+    ...pureCoreBans.patterns.slice(0, 2),
+    {
+      group: [
+        '**/ingest/**',
+        '**/exporter/**',
+        '**/ui/**',
+        '**/cli/**',
+        '**/record/**',
+        '**/review/**',
+      ],
+      message: 'Key analysis imports only inward (chance/, window/, judge/, scenario/ draws).',
     },
   ],
 };
@@ -44,5 +64,9 @@ export default tseslint.config(
   {
     files: ['src/chance/**', 'src/window/**', 'src/judge/**'],
     rules: { 'no-restricted-imports': ['error', pureCoreBans] },
+  },
+  {
+    files: ['src/keys/**'],
+    rules: { 'no-restricted-imports': ['error', keyAnalysisBans] },
   },
 );

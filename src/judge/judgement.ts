@@ -1,4 +1,5 @@
 import type { RejectionReason } from '../window/count-record.js';
+import type { KeyVerdict } from './key-verdict.js';
 
 /**
  * The verdict on one closed window: one line of `watch --no-ui`, and the core of each line
@@ -77,6 +78,11 @@ export interface Judgement {
   readonly alpha: number;
   /** Plain-language notes on what the numbers rest on (cold tests off, baseline learning). */
   readonly notes: readonly string[];
+  /**
+   * Hot keys versus placement: present only when key analysis runs and the window's records
+   * carried keys (absent, not null, otherwise, so count-report streams keep their shape).
+   */
+  readonly keys?: KeyVerdict;
 }
 
 export type Finding = 'hotspot' | 'cold' | 'uneven' | 'chance' | 'too little traffic';

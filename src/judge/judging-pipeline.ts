@@ -7,6 +7,7 @@ import {
 } from '../window/event-time-window.js';
 import type { ShardUniverse } from '../window/shard-universe.js';
 import type { Judge } from './judge.js';
+import type { WindowKeyAnalyst } from './key-verdict.js';
 import { PipelineEvents } from './pipeline-events.js';
 
 /**
@@ -30,32 +31,44 @@ export class JudgingPipeline {
   private lastArrival = Number.NaN;
   private stalled = false;
   private records = 0;
+  private readonly keys: WindowKeyAnalyst | null;
 
   /**
    * @param universe the shards records are counted under
    * @param windowOptions window length, hop, lateness (checked by the windows: UsageError)
    * @param judge judges each closed window
    * @param clock wall clock, epoch ms (only {@link tick} uses it)
+   * @param options `keys`: key analysis, fed every counted keyed request; its verdict goes
+   *   into each judgement as `keys` (src/keys/ provides one)
    */
   constructor(
     universe: ShardUniverse,
     windowOptions: WindowOptions,
     judge: Judge,
     clock: () => number = Date.now,
+    options: { keys?: WindowKeyAnalyst } = {},
   ) {
     this.judge = judge;
     this.clock = clock;
+    this.keys = options.keys ?? null;
     this.windows = new EventTimeWindows(universe, windowOptions, (window) =>
       this.judgeWindow(window),
     );
     this.stallAfterMs = this.windows.windowMs + this.windows.latenessMs;
   }
 
-  /** Counts a validated record. Allocation-free unless it opens or closes a window. */
-  record(ts: number, shard: string, count: number): void {
+  /**
+   * Counts a validated record; its `key`, if any, goes to the key analysis once the windows
+   * have counted the record. Allocation-free unless it opens or closes a window (or the key
+   * analysis meets a new shard or window).
+   */
+  record(ts: number, shard: string, count: number, key?: string): void {
     this.sawRecordSinceTick = true;
     this.records++;
-    this.windows.add(ts, shard, count);
+    const index = this.windows.add(ts, shard, count);
+    if (key !== undefined && index >= 0 && this.keys !== null) {
+      this.keys.record(ts, index, key, count);
+    }
   }
 
   /** Counts a rejected record; announced when someone listens. */
@@ -105,7 +118,9 @@ export class JudgingPipeline {
 
   private judgeWindow(window: ClosedWindow): void {
     this.events.emit('window closed', window);
-    const judgement = this.judge.judge(window);
+    const judged = this.judge.judge(window);
+    const keys = this.keys?.verdict(window, judged) ?? null;
+    const judgement = keys === null ? judged : { ...judged, keys };
     this.events.emit('window judged', { window, judgement });
     for (const incident of judgement.opened) this.events.emit('incident opened', incident);
     for (const incident of judgement.cleared) this.events.emit('incident cleared', incident);

@@ -196,17 +196,18 @@ export class EventTimeWindows {
    * An id outside a declared universe, or beyond a full growing one, is
    * rejected; a record whose window already closed is counted as late. May
    * close windows (calling `onClose`) when it advances the watermark.
-   * Allocation-free unless it opens a window.
+   * Allocation-free unless it opens a window. Returns the shard's index when the
+   * record was counted in at least one window, else -1 (rejected or too late).
    */
-  add(ts: number, shard: string, count: number): void {
+  add(ts: number, shard: string, count: number): number {
     if (!Number.isFinite(ts)) {
       this.reject('bad timestamp');
-      return;
+      return -1;
     }
     const index = this.universe.admit(shard);
     if (index < 0) {
       this.reject(index === outsideUniverse ? 'outside universe' : 'too many shards');
-      return;
+      return -1;
     }
     if (ts > this.newest) {
       this.newest = ts;
@@ -219,7 +220,7 @@ export class EventTimeWindows {
         window = this.windowFor(lastIndex);
         if (window === null) {
           this.countLate(count, true);
-          return;
+          return -1;
         }
       }
       addTo(window, index, count);
@@ -231,13 +232,14 @@ export class EventTimeWindows {
         else addTo(open, index, count);
       }
       if (missed > 0) this.countLate(count, missed === this.windowsPerRecord);
-      if (missed === this.windowsPerRecord) return;
+      if (missed === this.windowsPerRecord) return -1;
     }
     this.running.records++;
     this.running.load += count;
     if (this.currentWatermark >= this.dueAt) {
       this.closeThrough(Math.floor((this.currentWatermark - this.windowMs) / this.hopMs));
     }
+    return index;
   }
 
   /** Counts a rejected record by reason; it shows in the next closed window. */
