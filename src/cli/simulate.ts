@@ -20,13 +20,15 @@ import { durationOption, scenarioNamed, seedOption, startOption } from './scenar
 const help = `Usage: shardwise simulate --scenario NAME (--to FILE|- | --to kafka --brokers H:P --topic T) [options]
 
 Writes the records of a built-in simulated cluster: per-second count reports
-(or request events with keys, for zipf-keys) with planted hotspots, dead
-shards, lulls and uneven spreads, for demos, drills and alert tests. The same
+(or request events with keys, for zipf-keys, hot-key, biased-partitioner and
+keyed-failover) with planted hotspots, dead shards, lulls, uneven spreads, hot
+keys and a biased partitioner, for demos, drills and alert tests. The same
 scenario, seed, start and duration always give the same records. What was
 planted, and when, is printed on stderr.
 
   --scenario NAME         demo, chance, hotspot, dead-shard, failover,
-                          zipf-keys, weighted, diurnal
+                          zipf-keys, weighted, diurnal, hot-key,
+                          biased-partitioner, keyed-failover
   --to FILE|-             where to write; - is standard output
   --to kafka              produce to Kafka instead: one message per record, keyed
                           by shard, message time = the record's ts, in the pace
@@ -137,6 +139,10 @@ function describe(event: PlantedEvent): string {
       return `lull, traffic x ${event.factor}, ${when}`;
     case 'uneven':
       return `uneven spread, shares wobbling by ${event.amplitude}, ${when}`;
+    case 'hot key':
+      return `hot key ${JSON.stringify(event.key)} on ${event.shard}, ${event.share} of all traffic, ${when}`;
+    case 'biased partitioner':
+      return `biased partitioner sending ${event.factor}x its fair share of the keys to ${event.shard}, ${when}`;
   }
 }
 

@@ -161,10 +161,83 @@ const diurnal: ScenarioDefinition = {
   suggestedDurationMs: 24 * 60 * minute,
 };
 
+/**
+ * Keyed traffic for the three cause drills: 16 000 performances with Zipf(0.5)
+ * popularity, about 235 keys and 1000 requests per shard per 10 s window. The most
+ * popular performance, perf-1, takes 0.4% of all traffic (a quarter of a fair share), so
+ * its shard runs about 1.25x hot with nothing planted: a small hot key of its own.
+ */
+const performanceTraffic = {
+  kind: 'request events',
+  keyCount: 16_000,
+  zipfExponent: 0.5,
+  keyPrefix: 'perf-',
+} as const;
+
+const hotKey: ScenarioDefinition = {
+  name: 'hot-key',
+  summary:
+    'request events for 16000 performances; from 1:00 to 3:00 the presale code "presale:LFT-7781" takes 1.5% of all traffic (about twice its shard\'s fair share)',
+  shardIds: seatShardIds,
+  shares: { kind: 'equal' },
+  requestsPerSecond: baseRate,
+  tickMs: second,
+  traffic: performanceTraffic,
+  plants: [
+    { kind: 'hot key', key: 'presale:LFT-7781', share: 0.015, atMs: minute, forMs: 2 * minute },
+  ],
+  suggestedDurationMs: 4 * minute,
+};
+
+const biasedPartitioner: ScenarioDefinition = {
+  name: 'biased-partitioner',
+  summary:
+    'request events for 16000 performances; from 1:00 to 3:00 a bad partitioner deploy sends 1.8x its fair share of the keys to seat-17',
+  shardIds: seatShardIds,
+  shares: { kind: 'equal' },
+  requestsPerSecond: baseRate,
+  tickMs: second,
+  traffic: performanceTraffic,
+  plants: [
+    {
+      kind: 'biased partitioner',
+      shard: 'seat-17',
+      keyFactor: 1.8,
+      atMs: minute,
+      forMs: 2 * minute,
+    },
+  ],
+  suggestedDurationMs: 4 * minute,
+};
+
+const keyedFailover: ScenarioDefinition = {
+  name: 'keyed-failover',
+  summary:
+    'request events for 16000 performances; seat-42 dies from 1:00 to 3:00 and its keys fail over to seat-43',
+  shardIds: seatShardIds,
+  shares: { kind: 'equal' },
+  requestsPerSecond: baseRate,
+  tickMs: second,
+  traffic: performanceTraffic,
+  plants: [
+    { kind: 'dead', shard: 'seat-42', atMs: minute, forMs: 2 * minute, failoverTo: 'seat-43' },
+  ],
+  suggestedDurationMs: 4 * minute,
+};
+
 /** The built-in scenarios by name (`--scenario NAME`). */
 export const builtInScenarios: ReadonlyMap<string, ScenarioDefinition> = new Map(
-  [demo, chance, hotspot, deadShard, failover, zipfKeys, weighted, diurnal].map((definition) => [
-    definition.name,
-    definition,
-  ]),
+  [
+    demo,
+    chance,
+    hotspot,
+    deadShard,
+    failover,
+    zipfKeys,
+    weighted,
+    diurnal,
+    hotKey,
+    biasedPartitioner,
+    keyedFailover,
+  ].map((definition) => [definition.name, definition]),
 );

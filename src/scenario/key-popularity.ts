@@ -41,22 +41,40 @@ export interface KeyPlacement {
 }
 
 /**
+ * A biased partitioner: `keyFactor` times the fair share of the key space goes to shard
+ * `biased`, the rest by {@link shardOfKey}. A second FNV-1a hash (of `bias:` + key)
+ * decides which keys are diverted: the fraction (keyFactor - 1) / (m - 1) of them, so that
+ * the biased shard holds keyFactor / m of all keys. O(key length).
+ */
+export function biasedShardOfKey(
+  key: string,
+  shardCount: number,
+  biased: number,
+  keyFactor: number,
+): number {
+  const diverted = (keyFactor - 1) / (shardCount - 1);
+  if (shardOfKey(`bias:${key}`, 1_000_000) < diverted * 1_000_000) return biased;
+  return shardOfKey(key, shardCount);
+}
+
+/**
  * Places keys named `prefix + rank` with the given probabilities on
- * `shardCount` shards by {@link shardOfKey}. A shard's share is the summed
- * popularity of its keys: a few hot keys make their shards hot with perfect
- * hashing. O(keys).
+ * `shardCount` shards by {@link shardOfKey} (or the given partitioner). A
+ * shard's share is the summed popularity of its keys: a few hot keys make
+ * their shards hot with perfect hashing. O(keys).
  */
 export function placeKeys(
   prefix: string,
   probabilities: Float64Array,
   shardCount: number,
+  partition: (key: string) => number = (key) => shardOfKey(key, shardCount),
 ): KeyPlacement {
   const keys: string[][] = Array.from({ length: shardCount }, () => []);
   const weights: number[][] = Array.from({ length: shardCount }, () => []);
   const shares = new Float64Array(shardCount);
   probabilities.forEach((probability, index) => {
     const key = `${prefix}${index + 1}`;
-    const shard = shardOfKey(key, shardCount);
+    const shard = partition(key);
     keys[shard].push(key);
     weights[shard].push(probability);
     shares[shard] += probability;

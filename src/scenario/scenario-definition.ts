@@ -39,6 +39,30 @@ export type Plant =
     }
   | {
       /**
+       * One key takes `share` of all traffic (the rest shrinks in proportion): a presale
+       * code every client asks for at once. Only for request events; the key lands on the
+       * shard the partitioner gives it.
+       */
+      readonly kind: 'hot key';
+      readonly key: string;
+      readonly share: number;
+      readonly atMs: number;
+      readonly forMs: number;
+    }
+  | {
+      /**
+       * The partitioner sends `keyFactor` times its fair share of the key space to
+       * `shard` (a bad deploy of the hash function or the shard map): every key keeps its
+       * popularity, but too many keys land on one shard. Only for request events.
+       */
+      readonly kind: 'biased partitioner';
+      readonly shard: string;
+      readonly keyFactor: number;
+      readonly atMs: number;
+      readonly forMs: number;
+    }
+  | {
+      /**
        * Every share wobbles: shard i's share is multiplied by
        * 1 + amplitude * sin(2 pi * 3i / m), then renormalised. Broad
        * unevenness with no single shard standing out (a bad rebalance).
@@ -59,7 +83,8 @@ export type TrafficShape =
       /**
        * One request event per request, with a key. Keys `keyPrefix + rank`
        * have Zipf popularity and are hashed to shards, so shard shares are
-       * the keys' summed popularity.
+       * the keys' summed popularity. A dead shard's keys go to its
+       * `failoverTo` neighbour, or each to another live shard by a second hash.
        */
       readonly kind: 'request events';
       readonly keyCount: number;
@@ -126,10 +151,13 @@ export function checkDefinition(definition: ScenarioDefinition): void {
     if (!(amplitude >= 0 && amplitude < 1) || !(periodMs > 0))
       fail('has a diurnal swing outside [0, 1)');
   }
+  if (definition.plants.filter((plant) => plant.kind === 'biased partitioner').length > 1) {
+    fail('has more than one biased partitioner');
+  }
   for (const plant of definition.plants) {
     if (plant.atMs < 0) fail(`starts a ${plant.kind} plant before the scenario`);
     if (
-      (plant.kind === 'hotspot' || plant.kind === 'dead') &&
+      (plant.kind === 'hotspot' || plant.kind === 'dead' || plant.kind === 'biased partitioner') &&
       !definition.shardIds.includes(plant.shard)
     ) {
       fail(`plants a ${plant.kind} on unknown shard ${plant.shard}`);
@@ -142,6 +170,21 @@ export function checkDefinition(definition: ScenarioDefinition): void {
     if (plant.kind === 'hotspot' && !(plant.factor > 0))
       fail('has a hotspot factor not above zero');
     if (plant.kind === 'lull' && !(plant.factor >= 0)) fail('has a negative lull factor');
+    if (
+      (plant.kind === 'hot key' || plant.kind === 'biased partitioner') &&
+      definition.traffic.kind !== 'request events'
+    ) {
+      fail(`has a ${plant.kind} plant without request events`);
+    }
+    if (plant.kind === 'hot key' && !(plant.share > 0 && plant.share < 1)) {
+      fail('has a hot key share outside (0, 1)');
+    }
+    if (
+      plant.kind === 'biased partitioner' &&
+      !(plant.keyFactor >= 1 && plant.keyFactor <= shardCount)
+    ) {
+      fail('has a partitioner key factor outside [1, shards]');
+    }
     if (plant.kind === 'uneven' && !(plant.amplitude >= 0 && plant.amplitude < 1)) {
       fail('has an uneven amplitude outside [0, 1)');
     }

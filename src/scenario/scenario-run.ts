@@ -3,7 +3,14 @@ import { UsageError } from '../window/errors.js';
 import { ShardUniverse } from '../window/shard-universe.js';
 import { builtInScenarios } from './built-in-scenarios.js';
 import { ringShares } from './consistent-hash-ring.js';
-import { drawIndex, placeKeys, zipfProbabilities, type KeyPlacement } from './key-popularity.js';
+import {
+  biasedShardOfKey,
+  drawIndex,
+  placeKeys,
+  shardOfKey,
+  zipfProbabilities,
+  type KeyPlacement,
+} from './key-popularity.js';
 import { RandomDraws } from './random-draws.js';
 import {
   checkDefinition,
@@ -17,13 +24,22 @@ import {
 
 /** One planted occurrence, in absolute epoch ms: what a verdict should find. */
 export interface PlantedEvent {
-  /** `failover` is a dead shard whose traffic went to one neighbour (`to`). */
-  readonly kind: 'hotspot' | 'dead' | 'failover' | 'lull' | 'uneven';
-  /** The hot or dead shard. */
+  /**
+   * `failover` is a dead shard whose traffic went to one neighbour (`to`); `hot key` a
+   * key taking `share` of all traffic on `shard`; `biased partitioner` `factor` times the
+   * fair share of the keys sent to `shard`.
+   */
+  readonly kind:
+    'hotspot' | 'dead' | 'failover' | 'lull' | 'uneven' | 'hot key' | 'biased partitioner';
+  /** The hot or dead shard (for a hot key, the shard its key lands on). */
   readonly shard?: string;
+  /** The planted hot key. */
+  readonly key?: string;
+  /** Hot key: its share of all traffic. */
+  readonly share?: number;
   /** The neighbour that takes a failed-over shard's traffic. */
   readonly to?: string;
-  /** Hotspot: multiple of the fair share; lull: multiple of the rate. */
+  /** Hotspot: multiple of the fair share; lull: multiple of the rate; biased partitioner: multiple of the fair share of keys. */
   readonly factor?: number;
   /** Uneven: size of the share wobble. */
   readonly amplitude?: number;
@@ -84,6 +100,10 @@ export class ScenarioRun {
   readonly endMs: number;
   private readonly indexOf: ReadonlyMap<string, number>;
   private readonly keys: KeyPlacement | null;
+  /** Keys as a biased partitioner places them (while its plant is active), else null. */
+  private readonly biasedKeys: KeyPlacement | null;
+  /** For keyed traffic: the plants that act on shares (dead shards and hot keys route instead). */
+  private readonly shareDefinition: ScenarioDefinition;
 
   /** Use {@link runScenario}. */
   constructor(definition: ScenarioDefinition, options: ScenarioOptions) {
@@ -106,14 +126,34 @@ export class ScenarioRun {
     this.indexOf = new Map(definition.shardIds.map((id, index) => [id, index]));
     const declaredShares = declaredLayout(definition, new RandomDraws(seed));
     this.universe = ShardUniverse.fromWeights(definition.shardIds, Array.from(declaredShares));
-    this.keys =
+    const shardCount = definition.shardIds.length;
+    const popularity =
       definition.traffic.kind === 'request events'
-        ? placeKeys(
-            definition.traffic.keyPrefix,
-            zipfProbabilities(definition.traffic.keyCount, definition.traffic.zipfExponent),
-            definition.shardIds.length,
-          )
+        ? zipfProbabilities(definition.traffic.keyCount, definition.traffic.zipfExponent)
         : null;
+    const prefix = definition.traffic.kind === 'request events' ? definition.traffic.keyPrefix : '';
+    this.keys = popularity === null ? null : placeKeys(prefix, popularity, shardCount);
+    const bias = definition.plants.find((plant) => plant.kind === 'biased partitioner');
+    this.biasedKeys =
+      popularity === null || bias === undefined
+        ? null
+        : placeKeys(prefix, popularity, shardCount, (key) =>
+            biasedShardOfKey(
+              key,
+              shardCount,
+              this.indexOf.get(bias.shard) as number,
+              bias.keyFactor,
+            ),
+          );
+    this.shareDefinition =
+      popularity === null
+        ? definition
+        : {
+            ...definition,
+            plants: definition.plants.filter(
+              (plant) => plant.kind !== 'dead' && plant.kind !== 'hot key',
+            ),
+          };
     this.truth = {
       scenario: definition.name,
       seed,
@@ -132,13 +172,46 @@ export class ScenarioRun {
 
   /** Expected share of each shard at an instant, plants included. O(m x active plants). */
   expectedShares(ts: number): Float64Array {
-    return sharesAt(
-      this.definition,
-      this.truth.trafficShares,
+    const offset = ts - this.startMs;
+    const m = this.definition.shardIds.length;
+    if (this.keys === null) {
+      return sharesAt(
+        this.definition,
+        this.truth.trafficShares,
+        this.indexOf,
+        offset,
+        new Float64Array(m),
+      );
+    }
+    // Keyed traffic: the owners' shares, less the hot keys' part, plus the hot keys on
+    // their shards; then each dead shard's part to its neighbour (or evenly to the others,
+    // which is what rehashing its keys gives on average).
+    const placement = this.placementAt(offset);
+    const owners = sharesAt(
+      this.shareDefinition,
+      placement.shares,
       this.indexOf,
-      ts - this.startMs,
-      new Float64Array(this.definition.shardIds.length),
+      offset,
+      new Float64Array(m),
     );
+    const hot = this.hotKeysAt(offset);
+    const hotTotal = hot.reduce((sum, entry) => sum + entry.share, 0);
+    const shares = owners.map((share) => share * (1 - hotTotal));
+    for (const entry of hot) shares[entry.shard] += entry.share;
+    const dead = this.deadAt(offset);
+    for (const plant of this.definition.plants) {
+      if (plant.kind !== 'dead' || !dead.has(this.indexOf.get(plant.shard) as number)) continue;
+      const index = this.indexOf.get(plant.shard) as number;
+      const lost = shares[index];
+      shares[index] = 0;
+      if (plant.failoverTo !== undefined) {
+        shares[this.indexOf.get(plant.failoverTo) as number] += lost;
+      } else {
+        const live = m - dead.size;
+        for (let shard = 0; shard < m; shard++) if (!dead.has(shard)) shares[shard] += lost / live;
+      }
+    }
+    return shares;
   }
 
   /** Expected total requests per second at an instant. */
@@ -156,7 +229,7 @@ export class ScenarioRun {
     for (let index = firstCycle; index <= lastCycle; index++) {
       const cycleStart = this.startMs + index * (cycle ?? 0);
       for (const plant of this.definition.plants) {
-        const event = plantedEvent(plant, cycleStart);
+        const event = plantedEvent(plant, cycleStart, this.definition.shardIds);
         const endsAt = Math.min(event.endsAt, this.endMs);
         if (event.beginsAt < toMs && endsAt > fromMs && event.beginsAt < this.endMs) {
           events.push(event);
@@ -183,7 +256,8 @@ export class ScenarioRun {
     for (let tickStart = this.startMs; tickStart < this.endMs; tickStart += tickMs) {
       const tickLength = Math.min(tickMs, this.endMs - tickStart);
       const middle = tickStart - this.startMs + tickLength / 2;
-      sharesAt(this.definition, this.truth.trafficShares, this.indexOf, middle, shares);
+      const base = this.keys === null ? this.truth.trafficShares : this.placementAt(middle).shares;
+      sharesAt(this.shareDefinition, base, this.indexOf, middle, shares);
       const expected = (rateAt(this.definition, middle) * tickLength) / 1000;
       const dead = this.deadAt(middle);
       if (this.keys === null) {
@@ -196,35 +270,105 @@ export class ScenarioRun {
           };
         }
       } else {
-        yield* this.tickEvents(draws, tickStart, tickLength, expected, shares);
+        yield* this.tickEvents(draws, tickStart, tickLength, expected, shares, middle);
       }
     }
   }
 
+  /**
+   * One tick of request events. Per owner shard (the shard the partitioner gives a key) a
+   * Poisson count, each request's key drawn from the owner's keys by popularity; then the
+   * planted hot keys' own Poisson counts; every request is served by its owner unless the
+   * owner is dead (then by its failover neighbour, or by a second hash of the key over the
+   * live shards). With nothing planted this draws exactly what it always drew.
+   */
   private tickEvents(
     draws: RandomDraws,
     tickStart: number,
     tickLength: number,
     expected: number,
     shares: Float64Array,
+    middle: number,
   ): CountRecord[] {
     const events: CountRecord[] = [];
-    const byShard = (this.keys as KeyPlacement).byShard;
+    const byShard = this.placementAt(middle).byShard;
+    const shardIds = this.definition.shardIds;
+    const hot = this.hotKeysAt(middle);
+    const keep = 1 - hot.reduce((sum, entry) => sum + entry.share, 0);
+    const dead = this.deadAt(middle);
+    const serving = (owner: number, key: string | undefined): number =>
+      dead.has(owner) ? this.servingFor(owner, key, dead) : owner;
     for (let shard = 0; shard < shares.length; shard++) {
-      const requests = draws.poisson(expected * shares[shard]);
+      const requests = draws.poisson(expected * shares[shard] * keep);
       const { keys, cumulative } = byShard[shard];
       for (let request = 0; request < requests; request++) {
         const ts = tickStart + Math.floor(draws.uniform() * tickLength);
-        const shardId = this.definition.shardIds[shard];
-        events.push(
-          keys.length === 0
-            ? { ts, shard: shardId, count: 1 }
-            : { ts, shard: shardId, count: 1, key: keys[drawIndex(cumulative, draws.uniform())] },
-        );
+        if (keys.length === 0) {
+          events.push({ ts, shard: shardIds[serving(shard, undefined)], count: 1 });
+          continue;
+        }
+        const key = keys[drawIndex(cumulative, draws.uniform())];
+        events.push({ ts, shard: shardIds[serving(shard, key)], count: 1, key });
+      }
+    }
+    for (const entry of hot) {
+      const requests = draws.poisson(expected * entry.share);
+      const shardId = shardIds[serving(entry.shard, entry.key)];
+      for (let request = 0; request < requests; request++) {
+        const ts = tickStart + Math.floor(draws.uniform() * tickLength);
+        events.push({ ts, shard: shardId, count: 1, key: entry.key });
       }
     }
     // Array.prototype.sort is stable, so equal times keep their drawing order.
     return events.sort((left, right) => left.ts - right.ts);
+  }
+
+  /** The shard serving a dead owner's request: the failover neighbour, or a live shard by a second hash. */
+  private servingFor(owner: number, key: string | undefined, dead: ReadonlySet<number>): number {
+    const m = this.definition.shardIds.length;
+    for (const plant of this.definition.plants) {
+      if (plant.kind === 'dead' && this.indexOf.get(plant.shard) === owner) {
+        if (plant.failoverTo !== undefined) return this.indexOf.get(plant.failoverTo) as number;
+      }
+    }
+    let shard = shardOfKey(`again:${key ?? ''}`, m);
+    while (dead.has(shard) && dead.size < m) shard = (shard + 1) % m;
+    return shard;
+  }
+
+  /** The key placement in force at an offset: the biased partitioner's while it is planted. */
+  private placementAt(offsetMs: number): KeyPlacement {
+    const keys = this.keys as KeyPlacement;
+    if (this.biasedKeys === null) return keys;
+    const cycle = this.definition.cycleMs;
+    const cycleOffset = cycle === undefined ? offsetMs : offsetMs % cycle;
+    const active = this.definition.plants.some(
+      (plant) => plant.kind === 'biased partitioner' && plantStrength(plant, cycleOffset) > 0,
+    );
+    return active ? this.biasedKeys : keys;
+  }
+
+  /** The planted hot keys active at an offset, with the shard their key lands on. */
+  private hotKeysAt(offsetMs: number): { key: string; share: number; shard: number }[] {
+    const cycle = this.definition.cycleMs;
+    const cycleOffset = cycle === undefined ? offsetMs : offsetMs % cycle;
+    const hot: { key: string; share: number; shard: number }[] = [];
+    for (const plant of this.definition.plants) {
+      if (plant.kind === 'hot key' && plantStrength(plant, cycleOffset) > 0) {
+        hot.push({ key: plant.key, share: plant.share, shard: this.shardOf(plant.key, offsetMs) });
+      }
+    }
+    return hot;
+  }
+
+  /** The owner shard of a key under the partitioner in force at an offset. */
+  private shardOf(key: string, offsetMs: number): number {
+    const m = this.definition.shardIds.length;
+    const bias = this.definition.plants.find((plant) => plant.kind === 'biased partitioner');
+    if (bias !== undefined && this.placementAt(offsetMs) === this.biasedKeys) {
+      return biasedShardOfKey(key, m, this.indexOf.get(bias.shard) as number, bias.keyFactor);
+    }
+    return shardOfKey(key, m);
   }
 
   private deadAt(offsetMs: number): Set<number> {
@@ -272,7 +416,7 @@ function declaredLayout(definition: ScenarioDefinition, draws: RandomDraws): Flo
   return Float64Array.from(weights, (weight) => weight / total);
 }
 
-function plantedEvent(plant: Plant, cycleStart: number): PlantedEvent {
+function plantedEvent(plant: Plant, cycleStart: number, shardIds: readonly string[]): PlantedEvent {
   const beginsAt = cycleStart + plant.atMs;
   const endsAt = cycleStart + plantEndMs(plant);
   switch (plant.kind) {
@@ -323,5 +467,31 @@ function plantedEvent(plant: Plant, cycleStart: number): PlantedEvent {
         fullUntil: endsAt,
         endsAt,
       };
+    case 'hot key':
+      return {
+        kind: 'hot key',
+        key: plant.key,
+        share: plant.share,
+        shard: definitionShardOfKey(plant.key, shardIds),
+        beginsAt,
+        fullFrom: beginsAt,
+        fullUntil: endsAt,
+        endsAt,
+      };
+    case 'biased partitioner':
+      return {
+        kind: 'biased partitioner',
+        shard: plant.shard,
+        factor: plant.keyFactor,
+        beginsAt,
+        fullFrom: beginsAt,
+        fullUntil: endsAt,
+        endsAt,
+      };
   }
+}
+
+/** The shard a hot key lands on under plain hashing (a hot key plant never overlaps a biased partitioner in the built-ins). */
+function definitionShardOfKey(key: string, shardIds: readonly string[]): string {
+  return shardIds[shardOfKey(key, shardIds.length)];
 }
