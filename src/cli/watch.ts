@@ -10,6 +10,8 @@ import { readShardMapFile } from '../ingest/shard-map-file.js';
 import { Judge } from '../judge/judge.js';
 import type { JudgeSettings } from '../judge/judge-settings.js';
 import { JudgingPipeline } from '../judge/judging-pipeline.js';
+import { KeyAnalysis } from '../keys/key-analysis.js';
+import type { KeySketchSettings } from '../keys/window-key-stats.js';
 import type { Incident } from '../judge/judgement.js';
 import type { RecordedSettings } from '../record/recording-line.js';
 import { defaultRecordingMaxBytes, WindowRecorder } from '../record/window-recorder.js';
@@ -109,6 +111,21 @@ Judging:
   --clear J               consecutive clean windows that clear it (default 5)
   --max-flagged N         most shards listed per window (default 10)
 
+Keys (request events with "key"; Kafka message keys with --shard-from partition):
+  --no-keys               no key analysis
+  --key-counters K        heavy-hitter counters per shard and window (Space-Saving;
+                          default 16): a key's count is overstated by at most the
+                          stated overestimate, at most requests / K
+  --key-registers R       distinct-key registers per shard and window (HyperLogLog,
+                          a power of two, 16..65536; default 4096): exact up to R/16
+                          keys per shard, then a standard error of 1.04/sqrt(R)
+  --key-simulations S     most re-placement simulations per window (default 1000;
+                          also capped at 2e7 key placements per window)
+  Each hot shard gets a cause: "hot key" (one key surely carries at least half of
+  its excess), "moved" (a cold shard in the same window lost about what it gained)
+  or "placement" (the excess is spread over many keys, or its key count is off).
+  Memory per window at most shards x (K x 320 + R + 200) bytes.
+
 Output:
   --no-ui                 JSON Lines on stdout instead of the live screen (also
                           what runs, after a notice on stderr, when stdout is
@@ -162,6 +179,10 @@ export const watchOptions = {
   hop: { type: 'string' },
   lateness: { type: 'string' },
   ...judgeOptionSpec,
+  'no-keys': { type: 'boolean' },
+  'key-counters': { type: 'string' },
+  'key-registers': { type: 'string' },
+  'key-simulations': { type: 'string' },
   record: { type: 'string' },
   'record-max-size': { type: 'string' },
   'no-ui': { type: 'boolean' },
@@ -196,6 +217,8 @@ interface WatchPlan {
   readonly hopMs: number;
   readonly latenessMs: number;
   readonly judge: JudgeSettings;
+  /** Key analysis settings; null with --no-keys. */
+  readonly keys: { readonly sketch: KeySketchSettings; readonly simulations: number } | null;
   readonly recordPath: string | undefined;
   /** `--record-max-size`: the recording rotates to FILE.1 past this size. */
   readonly recordMaxBytes: number;
@@ -333,6 +356,7 @@ async function readPlan(values: Values, io: CommandIO): Promise<WatchPlan> {
   if (values['record-max-size'] !== undefined && values.record === undefined) {
     throw new UsageError('--record-max-size', values['record-max-size'], 'needs --record FILE');
   }
+  const keys = readKeyOptions(values);
   const metricsHostValue = metricsHost(values['metrics-host']);
   const metricsPortValue = metricsPort(values['metrics-port']);
   if (values['no-metrics'] === true) {
@@ -349,12 +373,56 @@ async function readPlan(values: Values, io: CommandIO): Promise<WatchPlan> {
     hopMs,
     latenessMs,
     judge,
+    keys,
     recordPath: values.record,
     recordMaxBytes,
     noUi: values['no-ui'] === true,
     metrics:
       values['no-metrics'] === true ? null : { host: metricsHostValue, port: metricsPortValue },
   };
+}
+
+/** The key options, checked; null with --no-keys (then none of them may be given). */
+function readKeyOptions(values: Values): WatchPlan['keys'] {
+  const names = ['key-counters', 'key-registers', 'key-simulations'] as const;
+  if (values['no-keys'] === true) {
+    for (const name of names) {
+      if (values[name] !== undefined) {
+        throw new UsageError(`--${name}`, values[name], 'cannot be combined with --no-keys');
+      }
+    }
+    return null;
+  }
+  const counters =
+    values['key-counters'] === undefined
+      ? 16
+      : wholeNumber('--key-counters', values['key-counters'], 1);
+  if (counters > 1024) {
+    throw new UsageError('--key-counters', values['key-counters'] as string, 'is above 1024');
+  }
+  const registers =
+    values['key-registers'] === undefined
+      ? 4096
+      : wholeNumber('--key-registers', values['key-registers'], 16);
+  if (registers > 65_536 || !Number.isInteger(Math.log2(registers))) {
+    throw new UsageError(
+      '--key-registers',
+      values['key-registers'] as string,
+      'is not a power of two from 16 to 65536',
+    );
+  }
+  const simulations =
+    values['key-simulations'] === undefined
+      ? 1000
+      : wholeNumber('--key-simulations', values['key-simulations'], 1);
+  if (simulations > 100_000) {
+    throw new UsageError(
+      '--key-simulations',
+      values['key-simulations'] as string,
+      'is above 100000',
+    );
+  }
+  return { sketch: { counters, registers }, simulations };
 }
 
 async function checkReadable(path: string): Promise<void> {
@@ -394,10 +462,24 @@ async function watch(plan: WatchPlan, io: CommandIO): Promise<number> {
   const universe = plan.universe ?? ShardUniverse.ofCount(kafkaInfo?.partitions ?? 1);
   // Built before the record file is opened, so a bad setting leaves no file behind.
   const judge = new Judge(universe, plan.judge);
+  const keyAnalysis =
+    plan.keys === null
+      ? undefined
+      : new KeyAnalysis(universe, {
+          windowMs: plan.windowMs,
+          hopMs: plan.hopMs,
+          sketch: plan.keys.sketch,
+          simulations: plan.keys.simulations,
+          alpha: plan.judge.alpha,
+          null: plan.judge.null,
+          maxFlagged: plan.judge.maxFlagged,
+        });
   const pipeline = new JudgingPipeline(
     universe,
     { windowMs: plan.windowMs, hopMs: plan.hopMs, latenessMs: plan.latenessMs },
     judge,
+    Date.now,
+    { keys: keyAnalysis },
   );
   // Bound before the record file is opened too: a port in use is a bad setting.
   const exporter =
@@ -518,7 +600,7 @@ async function watch(plan: WatchPlan, io: CommandIO): Promise<number> {
     for await (const batch of source.batches()) {
       for (const item of batch) {
         if (isRejection(item)) pipeline.reject(item.reason, item.line);
-        else pipeline.record(item.ts, item.shard, item.count);
+        else pipeline.record(item.ts, item.shard, item.count, item.key);
       }
       await output.drained();
       if (screen !== null) await screen.batchDone(batch);

@@ -10,7 +10,8 @@ import { checkEpochMs, parseIsoTimestamp } from './timestamp.js';
  * - `key`: the message key; the value is a record without a shard, or empty for one request;
  * - `partition`: the partition number; every message is one request at its
  *   Kafka timestamp and its value is not read, so any keyed topic can be
- *   judged on its own partitions;
+ *   judged on its own partitions; the message key (decoded as UTF-8) is the
+ *   request's key, so hot keys can be told from placement on the topic itself;
  * - `named-field`: the JSON field `field` of the value (`--shard-from field:NAME`).
  */
 export type ShardFrom =
@@ -56,7 +57,10 @@ export class KafkaMessageDecoder {
       case 'partition': {
         const ts = checkEpochMs(messageTs);
         if (Number.isNaN(ts)) sink.reject('bad timestamp');
-        else sink.record(ts, this.partitionId(partition), 1, undefined);
+        else {
+          const requestKey = key === null || key.length === 0 ? undefined : utf8.decode(key);
+          sink.record(ts, this.partitionId(partition), 1, requestKey);
+        }
         return;
       }
       case 'key': {

@@ -114,12 +114,12 @@ describe('KafkaMessageDecoder, --shard-from key', () => {
 });
 
 describe('KafkaMessageDecoder, --shard-from partition', () => {
-  it('counts every message as one request to its partition at the message time, value unread', () => {
+  it('counts every message as one request to its partition at the message time, value unread, the message key as its key', () => {
     expect(decode({ kind: 'partition' }, 'any payload at all', null, 7)).toEqual([
       { ts: stamp, shard: '7', count: 1, key: undefined },
     ]);
     expect(decode({ kind: 'partition' }, null, 'k', 0)).toEqual([
-      { ts: stamp, shard: '0', count: 1, key: undefined },
+      { ts: stamp, shard: '0', count: 1, key: 'k' },
     ]);
     expect(decode({ kind: 'partition' }, '{}', null, 1, Number.NaN)).toEqual([
       { reason: 'bad timestamp' },
