@@ -63,7 +63,16 @@ export const verdictMetricNames = [
   'shardwise_source_lag_seconds',
   'shardwise_source_stalled',
   'shardwise_last_window_end_timestamp_seconds',
+  'shardwise_keyed_requests',
+  'shardwise_distinct_keys',
+  'shardwise_key_p_value',
+  'shardwise_key_causes',
 ] as const;
+
+/** `test` label of `shardwise_key_p_value`. */
+const keyPValueTests = ['key_fullest', 'key_emptiest', 'replacement'] as const;
+/** `cause` label of `shardwise_key_causes`: the verdict stream's causes, spaces as `_`. */
+const keyCauseLabels = { 'hot key': 'hot_key', placement: 'placement', moved: 'moved' } as const;
 
 /**
  * Judging time buckets, seconds: a 64-shard window takes about 10 ms, a weighted one of
@@ -109,6 +118,10 @@ export class VerdictMetrics {
   private countedRecords: Record<RecordOutcome, number> = { accepted: 0, rejected: 0, late: 0 };
   private countedRejections: Partial<Record<RejectionReason, number>> = {};
 
+  private readonly keyedRequests: Gauge<ModelLabel>;
+  private readonly distinctKeys: Gauge<ModelLabel>;
+  private readonly keyPValue: Gauge<ModelLabel | 'test'>;
+  private readonly keyCauses: Gauge<ModelLabel | 'cause'>;
   private readonly requests: Gauge<ModelLabel>;
   private readonly shards: Gauge<ModelLabel>;
   private readonly fullest: Gauge<ModelLabel>;
@@ -251,6 +264,26 @@ export class VerdictMetrics {
       labelNames: ['null', 'spread', 'shard', 'finding'],
       registers,
     });
+    this.keyedRequests = windowGauge(
+      'shardwise_keyed_requests',
+      'Requests of the latest window that carried a key (absent when none did)',
+    );
+    this.distinctKeys = windowGauge(
+      'shardwise_distinct_keys',
+      'Distinct keys of the latest window summed over its shards: exact up to registers/16 per shard, then HyperLogLog with standard error 1.04/sqrt(registers)',
+    );
+    this.keyPValue = new Gauge({
+      name: 'shardwise_key_p_value',
+      help: 'Key tests of the latest window: test=key_fullest / key_emptiest P(max or min keys per shard this extreme) for K keys placed at random, replacement the Monte Carlo P(fullest load >= observed) were the observed key weights placed at random (absent without a hot shard)',
+      labelNames: ['null', 'spread', 'test'],
+      registers,
+    });
+    this.keyCauses = new Gauge({
+      name: 'shardwise_key_causes',
+      help: 'Shards of the latest window given each cause: hot_key (one key carries at least half the excess), placement (excess spread over many keys, or keys per shard off), moved (a cold shard lost what a hot one gained)',
+      labelNames: ['null', 'spread', 'cause'],
+      registers,
+    });
     this.records = new Counter({
       name: 'shardwise_records_total',
       help: 'Records read, by outcome: accepted (counted in every window it belongs to), late (missed a window that had closed), rejected (failed validation)',
@@ -382,6 +415,7 @@ export class VerdictMetrics {
     this.incidents.set({ ...model, finding: 'hotspot' }, hot);
     this.incidents.set({ ...model, finding: 'cold' }, cold);
     this.falseIncidents.set(model, judgement.falseIncidentsPerDay);
+    this.showKeys(judgement);
 
     const current = new Map<string, { shard: string; finding: string }>();
     for (const shard of judgement.flagged) {
@@ -396,6 +430,31 @@ export class VerdictMetrics {
       if (!current.has(key)) this.flagged.remove({ ...model, ...labels });
     }
     this.flaggedSeries = current;
+  }
+
+  /** The key gauges: set from a keyed window, removed (absent, never 0) otherwise. */
+  private showKeys(judgement: Judgement): void {
+    const model = this.model;
+    const keys = judgement.keys;
+    this.setOrRemove(this.keyedRequests, keys?.keyedRequests);
+    this.setOrRemove(this.distinctKeys, keys?.distinctKeys);
+    const values: Record<(typeof keyPValueTests)[number], number | null | undefined> = {
+      key_fullest: keys?.placement?.fullest.p,
+      key_emptiest: keys?.placement?.emptiest.p,
+      replacement: keys?.replacement?.p,
+    };
+    for (const test of keyPValueTests) {
+      const value = values[test];
+      if (value === null || value === undefined) this.keyPValue.remove({ ...model, test });
+      else this.keyPValue.set({ ...model, test }, value);
+    }
+    for (const [cause, label] of Object.entries(keyCauseLabels)) {
+      if (keys === undefined) this.keyCauses.remove({ ...model, cause: label });
+      else {
+        const count = keys.causes.filter((entry) => entry.cause === cause).length;
+        this.keyCauses.set({ ...model, cause: label }, count);
+      }
+    }
   }
 
   private setOrRemove(gauge: Gauge<ModelLabel>, value: number | null | undefined): void {

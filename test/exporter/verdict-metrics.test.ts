@@ -4,6 +4,8 @@ import { Judge } from '../../src/judge/judge.js';
 import { defaultJudgeSettings, type JudgeSettings } from '../../src/judge/judge-settings.js';
 import type { Judgement } from '../../src/judge/judgement.js';
 import { JudgingPipeline } from '../../src/judge/judging-pipeline.js';
+import { KeyAnalysis } from '../../src/keys/key-analysis.js';
+import { defaultKeySketchSettings } from '../../src/keys/window-key-stats.js';
 import { runScenario } from '../../src/scenario/scenario-run.js';
 import { ShardUniverse } from '../../src/window/shard-universe.js';
 import { parseExposition, sampleOf, samplesOf, type Sample } from './exposition.js';
@@ -17,6 +19,7 @@ function observed(
   universe: ShardUniverse,
   settings: Partial<JudgeSettings> = {},
   clock: () => number = () => startMs + 3_600_000,
+  withKeys = false,
 ) {
   const judgeSettings: JudgeSettings = {
     ...defaultJudgeSettings,
@@ -25,7 +28,20 @@ function observed(
     ...settings,
   };
   const judge = new Judge(universe, judgeSettings);
-  const pipeline = new JudgingPipeline(universe, { windowMs, latenessMs: 0 }, judge, clock);
+  const keys = withKeys
+    ? new KeyAnalysis(universe, {
+        windowMs,
+        hopMs: windowMs,
+        sketch: defaultKeySketchSettings,
+        simulations: 200,
+        alpha: judgeSettings.alpha,
+        null: judgeSettings.null,
+        maxFlagged: judgeSettings.maxFlagged,
+      })
+    : undefined;
+  const pipeline = new JudgingPipeline(universe, { windowMs, latenessMs: 0 }, judge, clock, {
+    keys,
+  });
   let ticks = 0;
   const timer = () => (ticks += 4);
   const metrics = new VerdictMetrics(pipeline, {
@@ -128,9 +144,13 @@ describe('VerdictMetrics', () => {
   });
 
   it('defines exactly the names it lists, and they follow the naming rules', async () => {
-    const universe = runScenario('hotspot', { seed: 5, startMs, durationMs: 1 }).universe;
-    const { pipeline, metrics } = observed(universe);
-    feedHotspot(pipeline, 70 * second);
+    // The keyed hot-key drill: from 1:00 its hot key makes a flagged hotspot and an
+    // incident, so every series, the key ones included, exists.
+    const run = runScenario('hot-key', { seed: 5, startMs, durationMs: 70 * second });
+    const { pipeline, metrics } = observed(run.universe, {}, undefined, true);
+    for (const record of run.records()) {
+      pipeline.record(record.ts, record.shard, record.count, record.key);
+    }
     const text = await metrics.registry.metrics();
     const names = new Set(
       parseExposition(text)
@@ -144,6 +164,42 @@ describe('VerdictMetrics', () => {
       const type = new RegExp(`^# TYPE ${name} (\\w+)$`, 'm').exec(text)?.[1];
       expect(type).toBeDefined();
       expect(name.endsWith('_total')).toBe(type === 'counter');
+    }
+  });
+
+  it('shows the key verdict of a keyed window, and no key series for count reports', async () => {
+    const run = runScenario('hot-key', { seed: 5, startMs, durationMs: 70 * second });
+    const { pipeline, judgements, scrape } = observed(run.universe, {}, undefined, true);
+    for (const record of run.records()) {
+      pipeline.record(record.ts, record.shard, record.count, record.key);
+    }
+    const keys = (judgements.at(-1) as Judgement).keys;
+    expect(keys?.causes.some((cause) => cause.cause === 'hot key')).toBe(true);
+    const samples = await scrape();
+    expect(sampleOf(samples, 'shardwise_keyed_requests', model).value).toBe(keys?.keyedRequests);
+    expect(sampleOf(samples, 'shardwise_distinct_keys', model).value).toBe(keys?.distinctKeys);
+    expect(
+      sampleOf(samples, 'shardwise_key_p_value', { ...model, test: 'replacement' }).value,
+    ).toBe(keys?.replacement?.p);
+    expect(sampleOf(samples, 'shardwise_key_causes', { ...model, cause: 'hot_key' }).value).toBe(
+      keys?.causes.filter((cause) => cause.cause === 'hot key').length,
+    );
+    // Keys are never labels: no series carries one.
+    for (const sample of samples) {
+      for (const value of Object.values(sample.labels)) expect(value).not.toContain('presale');
+    }
+
+    const universe = runScenario('hotspot', { seed: 5, startMs, durationMs: 1 }).universe;
+    const counted = observed(universe, {}, undefined, true);
+    feedHotspot(counted.pipeline, 20 * second);
+    const plain = await counted.scrape();
+    for (const name of [
+      'shardwise_keyed_requests',
+      'shardwise_distinct_keys',
+      'shardwise_key_p_value',
+      'shardwise_key_causes',
+    ]) {
+      expect(samplesOf(plain, name)).toEqual([]);
     }
   });
 
