@@ -1,4 +1,5 @@
 import type { Finding, Judgement } from '../judge/judgement.js';
+import type { KeyCause } from '../judge/key-verdict.js';
 import {
   loadHistogram,
   loadHistogramRange,
@@ -597,6 +598,14 @@ function verdictView(view: WindowView, context: ScreenContext, layout: ScreenLay
       text: `Fullest ${label(j.fullest.shard)}: ${formatCount(j.fullest.count)} req, ${formatRelative(j.fullest.relative)} fair share; chance ceiling ${formatRelative(j.ceiling.relative)}${inRequests}; p = ${formatP(j.fullest.p ?? 1)}`,
     });
   }
+  // What made it hot, from the keys: right after the fullest shard's sentence.
+  const cause = j.keys?.causes.find((entry) => entry.shard === hot?.shard) ?? j.keys?.causes[0];
+  if (cause !== undefined) {
+    sentences.push({
+      finding: cause.excess > 0 ? 'hotspot' : lead,
+      text: causeSentence(cause, wide),
+    });
+  }
   if (j.findings.includes('cold') && j.emptiest !== null && j.floor !== null) {
     const inRequests =
       wide && j.floor.requests !== null ? ` (${formatCount(j.floor.requests)} req)` : '';
@@ -679,6 +688,32 @@ function verdictView(view: WindowView, context: ScreenContext, layout: ScreenLay
     evidence,
     model: modelParts.join(' · '),
   };
+}
+
+/**
+ * The cause of a hot shard in one sentence, from its numbers; the key is escaped and cut
+ * like a shard id (keys come from the wire too). Words: "hot key", "moved", "placement",
+ * as in the verdict stream.
+ */
+function causeSentence(cause: KeyCause, wide: boolean): string {
+  const top =
+    cause.topKey === null
+      ? ''
+      : `top key ${wireLabel(cause.topKey.key, wide ? 32 : 16)} ≤ ${formatShare(cause.topKeyShareAtMost)} of the excess`;
+  switch (cause.cause) {
+    case 'hot key':
+      return `Cause: hot key ${wireLabel(cause.topKey?.key ?? '?', wide ? 32 : 20)} carries ≥ ${formatShare(cause.topKeyShare)} of ${label(cause.shard)}'s excess (${formatCount(cause.topKey?.count ?? 0)} req, ≤ ${formatCount(cause.topKey?.overestimate ?? 0)} overcounted)`;
+    case 'moved':
+      return `Cause: moved from ${label(cause.from?.shard)} (${formatCount(Math.round(cause.from?.deficit ?? 0))} req short) to ${label(cause.shard)}, ${formatPlain(cause.distinct / Math.max(cause.distinctExpected, 1e-300))}x the keys expected; ${top}`;
+    case 'placement':
+      return cause.basis === 'keys per shard'
+        ? `Cause: placement, ${label(cause.shard)} holds ${formatPlain(cause.distinct / Math.max(cause.distinctExpected, 1e-300))}x the keys random placement gives${top === '' ? '' : `; ${top}`}`
+        : `Cause: placement, ${cause.basis === 'weights' ? 'excess spread over many keys' : 'heavy keys share the shard'}${top === '' ? '' : `; ${top}`}`;
+  }
+}
+
+function formatShare(share: number): string {
+  return `${Math.round(share * 100)}%`;
 }
 
 /** A shard id for a sentence: escaped and cut to 24 cells. */
@@ -920,7 +955,7 @@ function helpView(context: ScreenContext): HelpView {
     panels: [
       {
         name: 'Verdict',
-        text: 'the finding for the window on show; its evidence: the fullest shard, its load, the chance ceiling (1 - alpha quantile under random placement) and the p-value.',
+        text: 'the finding for the window on show; its evidence: the fullest shard, its load, the chance ceiling (1 - alpha quantile under random placement) and the p-value; with keyed records its cause: hot key, moved or placement.',
       },
       {
         name: 'Shards',
