@@ -29,7 +29,7 @@ export interface HeavyHitter {
  * summary (capacity is small, 16 by default, so a scan beats a heap's bookkeeping).
  *
  * @example const top = new SpaceSaving(2); top.add('a', 1); top.add('b', 1); top.add('c', 1);
- *   top.top() // [{key: 'c', count: 2, overestimate: 1}, {key: 'a', count: 1, overestimate: 0}]
+ *   top.top() // [{key: 'c', count: 2, overestimate: 1}, {key: 'b', count: 1, overestimate: 0}]
  */
 export class SpaceSaving {
   readonly capacity: number;
