@@ -233,8 +233,16 @@ describe('shardwise watch: bad usage exits 2 with one line naming the option and
       'shardwise watch: --hop: "3s" does not divide --window 10s',
     ],
     [
+      ['watch', '--scenario', 'chance', '--key-registers', '1000'],
+      'shardwise watch: --key-registers: "1000" is not a power of two from 16 to 65536',
+    ],
+    [
+      ['watch', '--scenario', 'chance', '--no-keys', '--key-counters', '8'],
+      'shardwise watch: --key-counters: "8" cannot be combined with --no-keys',
+    ],
+    [
       ['watch', '--scenario', 'nope'],
-      'shardwise watch: --scenario: "nope" is not a built-in scenario (demo, chance, hotspot, dead-shard, failover, zipf-keys, weighted, diurnal)',
+      'shardwise watch: --scenario: "nope" is not a built-in scenario (demo, chance, hotspot, dead-shard, failover, zipf-keys, weighted, diurnal, hot-key, biased-partitioner, keyed-failover)',
     ],
     [
       ['watch', '--scenario', 'chance', '--pace', 'slow'],
@@ -315,4 +323,57 @@ describe('--help', () => {
       for (const option of named) expect(Object.keys(options)).toContain(option);
     },
   );
+});
+
+describe('shardwise watch with keys', () => {
+  it('a simulated hot-key file: the planted key is named in the verdict lines, and --no-keys leaves them out', async () => {
+    // Ground truth: the hot-key drill plants "presale:LFT-7781" from 1:00 to 3:00.
+    const file = join(dir, 'hot-key.jsonl');
+    const simulated = await run([
+      'simulate',
+      '--scenario',
+      'hot-key',
+      '--to',
+      file,
+      '--start',
+      start,
+      '--seed',
+      '7',
+      '--duration',
+      '80s',
+    ]);
+    expect(simulated.code).toBe(0);
+    expect(simulated.err).toContain('hot key "presale:LFT-7781"');
+    const judged = await run([
+      'watch',
+      '--input',
+      file,
+      '--shards',
+      'seat-00..seat-63',
+      '--no-ui',
+      '--key-simulations',
+      '200',
+    ]);
+    expect(judged.code).toBe(0);
+    const planted = verdicts(judged.out).filter(
+      (verdict) => verdict.window.start >= '2025-12-01T00:01:00.000Z',
+    );
+    expect(planted.length).toBeGreaterThan(0);
+    for (const verdict of planted) {
+      const cause = verdict.keys?.causes.find(
+        (entry) => entry.cause === 'hot key' && entry.topKey?.key === 'presale:LFT-7781',
+      );
+      expect(cause).toBeDefined();
+    }
+    const off = await run([
+      'watch',
+      '--input',
+      file,
+      '--shards',
+      'seat-00..seat-63',
+      '--no-ui',
+      '--no-keys',
+    ]);
+    for (const verdict of verdicts(off.out)) expect('keys' in verdict).toBe(false);
+  });
 });

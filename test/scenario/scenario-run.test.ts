@@ -71,7 +71,7 @@ describe('runScenario determinism', () => {
       UsageError,
     );
     expect(() => runScenario('nonsense', { seed: 1, startMs: start, durationMs: 1000 })).toThrow(
-      /--scenario: "nonsense" is not a built-in scenario \(demo, chance, hotspot, dead-shard, failover, zipf-keys, weighted, diurnal\)/,
+      /--scenario: "nonsense" is not a built-in scenario \(demo, chance, hotspot, dead-shard, failover, zipf-keys, weighted, diurnal, hot-key, biased-partitioner, keyed-failover\)/,
     );
     expect(() => runScenario('chance', { seed: -1, startMs: start, durationMs: 1000 })).toThrow(
       '--seed',
