@@ -38,7 +38,7 @@ export class SummaryMergeSource {
   private readonly windowMs: number;
   private merge: WindowMerge | null = null;
   private readonly coverages = new WeakMap<ClosedWindow, WindowCoverage>();
-  private readonly outcomes = { merged: 0, duplicate: 0, conflict: 0, afterVerdict: 0, refused: 0 };
+  private readonly outcomes = { merged: 0, duplicate: 0, afterVerdict: 0, refused: 0 };
   private stop: (() => void) | null = null;
   private closed = false;
   private readonly onIncomplete: (window: MergedWindow) => void;

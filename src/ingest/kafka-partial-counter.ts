@@ -322,7 +322,8 @@ export class KafkaPartialCounter {
       });
     await producer.send({ topic: this.options.summaryTopic, acks: -1, messages });
     this.counts.summaries += messages.length;
-    this.counts.parts += messages.reduce((sum, _m, i) => sum + [...byWindow.values()][i].length, 0);
+    const parts = [...byWindow.values()].reduce((sum, list) => sum + list.length, 0);
+    this.counts.parts += parts;
     try {
       await consumer.commitOffsets(
         commits.map(({ partition, offset, through }) => ({
@@ -340,7 +341,7 @@ export class KafkaPartialCounter {
     this.emit({
       type: 'published',
       windows: messages.length,
-      parts: [...byWindow.values()].reduce((sum, parts) => sum + parts.length, 0),
+      parts,
       committed: commits.map(({ partition, offset }) => ({ partition, offset })),
     });
   }
