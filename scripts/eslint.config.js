@@ -62,7 +62,7 @@ export default tseslint.config(
     rules: { 'no-restricted-properties': 'off' },
   },
   {
-    files: ['src/chance/**', 'src/window/**', 'src/judge/**'],
+    files: ['src/chance/**', 'src/window/**', 'src/judge/**', 'src/partials/**'],
     rules: { 'no-restricted-imports': ['error', pureCoreBans] },
   },
   {

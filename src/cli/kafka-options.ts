@@ -194,7 +194,7 @@ export function parseTopic(value: string): string {
   return value;
 }
 
-function parseGroup(value: string | undefined): string | undefined {
+export function parseGroup(value: string | undefined): string | undefined {
   if (value === undefined) return undefined;
   if (value.trim() === '' || value.length > 255 || /[\u0000-\u001f\u007f]/.test(value)) {
     throw new UsageError(

@@ -3,6 +3,7 @@ import { realpathSync } from 'node:fs';
 import { fileURLToPath } from 'node:url';
 import { UsageError } from '../window/errors.js';
 import type { Command, CommandIO } from './command.js';
+import { countCommand } from './count.js';
 import { oddsCommand } from './odds.js';
 import { planCommand } from './plan.js';
 import { reviewCommand } from './review.js';
@@ -20,6 +21,7 @@ const COMMANDS: readonly Command[] = [
   oddsCommand,
   planCommand,
   simulateCommand,
+  countCommand,
 ];
 
 function topHelp(): string {

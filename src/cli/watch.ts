@@ -28,10 +28,13 @@ import {
   parseKafkaSource,
   type ParsedKafkaSource,
 } from './kafka-options.js';
+import { mergeOptionSpec, mergeOptionsHelp, readMergeSettings } from './merge-options.js';
+import { MergeMetrics, SummaryMergeSource, type MergeSettings } from './watch-merge.js';
 import { durationOption, scenarioNamed, seedOption, startOption } from './scenario-options.js';
 import { chooseWatchOutput, WatchScreen } from './watch-screen.js';
 
-const help = `Usage: shardwise watch (--input FILE|- | --scenario NAME | --brokers H:P --topic T) [options]
+const help = `Usage: shardwise watch (--input FILE|- | --scenario NAME | --brokers H:P --topic T |
+                       --brokers H:P --merge SUMMARY_TOPIC) [options]
 
 Judges every closed window of per-shard request counts against random placement.
 On a terminal it draws the live screen (keys below); otherwise, and with --no-ui,
@@ -56,6 +59,7 @@ Source (exactly one):
     --pace real-time|fast real-time releases each second of traffic once it
                           has passed (default); fast replays at full speed
 ${kafkaOptionsHelp}
+${mergeOptionsHelp}
   With --group, offsets are committed only below windows still open, so a restart
   resumes after the last judged window; --from applies only to partitions the
   group has no position for. With --shard-from partition the universe is the
@@ -168,6 +172,7 @@ export const watchOptions = {
   input: { type: 'string' },
   scenario: { type: 'string' },
   ...kafkaSourceOptionSpec,
+  ...mergeOptionSpec,
   seed: { type: 'string' },
   duration: { type: 'string' },
   start: { type: 'string' },
@@ -197,6 +202,7 @@ type Values = ReturnType<typeof parseOptions<typeof watchOptions>>;
 type SourcePlan =
   | { readonly kind: 'file'; readonly path: string }
   | { readonly kind: 'kafka'; readonly kafka: ParsedKafkaSource }
+  | { readonly kind: 'merge'; readonly merge: MergeSettings }
   | {
       readonly kind: 'scenario';
       readonly name: string;
@@ -316,7 +322,11 @@ async function readPlan(values: Values, io: CommandIO): Promise<WatchPlan> {
         throw new UsageError(`--${name}`, values[name], 'applies only to --scenario');
       }
     }
-    if (values.brokers !== undefined) {
+    if (values.merge !== undefined || values['merge-deadline'] !== undefined) {
+      const { settings, warnings } = readMergeSettings(values, { env: io.env });
+      for (const warning of warnings) io.stderr.write(`shardwise watch: warning: ${warning}\n`);
+      source = { kind: 'merge', merge: settings };
+    } else if (values.brokers !== undefined) {
       const kafka = parseKafkaSource(values, { env: io.env });
       for (const warning of kafka.warnings)
         io.stderr.write(`shardwise watch: warning: ${warning}\n`);
@@ -459,6 +469,10 @@ async function watch(plan: WatchPlan, io: CommandIO): Promise<number> {
         })
       : null;
   const kafkaInfo = kafka === null ? null : await kafka.connect();
+  const merged =
+    plan.source.kind === 'merge'
+      ? { settings: plan.source.merge, source: null as SummaryMergeSource | null }
+      : null;
   const universe = plan.universe ?? ShardUniverse.ofCount(kafkaInfo?.partitions ?? 1);
   // Built before the record file is opened, so a bad setting leaves no file behind.
   const judge = new Judge(universe, plan.judge);
@@ -481,6 +495,30 @@ async function watch(plan: WatchPlan, io: CommandIO): Promise<number> {
     Date.now,
     { keys: keyAnalysis },
   );
+  if (merged !== null) {
+    merged.source = new SummaryMergeSource({
+      settings: merged.settings,
+      universe,
+      pipeline,
+      windowMs: plan.windowMs,
+      onIncomplete: (window) => {
+        const text = `window ${new Date(window.start).toISOString()} judged incomplete: partitions ${window.coverage.missing.join(', ')} of ${window.coverage.partitions} missing`;
+        if (screen !== null) {
+          screen.kafkaEvent({
+            type: 'client-log',
+            level: 'warn',
+            namespace: 'merge',
+            message: text,
+          });
+        } else io.stderr.write(`shardwise watch: ${text}\n`);
+      },
+      onRefused: (reason) => {
+        if (screen === null) io.stderr.write(`shardwise watch: summary refused: ${reason}\n`);
+      },
+    });
+  }
+  const mergeSource = merged?.source ?? null;
+  const mergeResume = mergeSource === null ? null : await mergeSource.connect();
   // Bound before the record file is opened too: a port in use is a bad setting.
   const exporter =
     plan.metrics === null
@@ -519,17 +557,19 @@ async function watch(plan: WatchPlan, io: CommandIO): Promise<number> {
         io,
         keys: choice.keys,
         ownsKeys: choice.ownsKeys,
-        sourceState: kafka === null ? 'reading' : 'connected',
-        judgedThrough: kafkaInfo?.judgedThrough ?? null,
+        sourceState: kafka === null && mergeSource === null ? 'reading' : 'connected',
+        judgedThrough: kafkaInfo?.judgedThrough ?? mergeResume,
         context: {
           sourceLabel:
             plan.source.kind === 'kafka'
               ? `topic ${plan.source.kafka.topic}`
-              : plan.source.kind === 'file'
-                ? plan.source.path === '-'
-                  ? 'standard input'
-                  : `file ${plan.source.path}`
-                : `scenario ${plan.source.name} (seed ${plan.source.seed})`,
+              : plan.source.kind === 'merge'
+                ? `summaries on ${plan.source.merge.topic}`
+                : plan.source.kind === 'file'
+                  ? plan.source.path === '-'
+                    ? 'standard input'
+                    : `file ${plan.source.path}`
+                  : `scenario ${plan.source.name} (seed ${plan.source.seed})`,
           windowMs: plan.windowMs,
           latenessMs: plan.latenessMs,
           confirm: plan.judge.confirm,
@@ -549,7 +589,15 @@ async function watch(plan: WatchPlan, io: CommandIO): Promise<number> {
     openAtEnd: [],
   };
   let windows = 0;
-  pipeline.events.on('window judged', ({ window, judgement }) => {
+  const mergeMetrics =
+    mergeSource === null || exporter === null
+      ? null
+      : new MergeMetrics(exporter.metrics.registry, mergeSource);
+  pipeline.events.on('window judged', ({ window, judgement: verdict }) => {
+    // A merged window's verdict also says which source partitions it rests on.
+    const coverage = mergeSource?.coverageOf(window);
+    if (coverage !== undefined) mergeMetrics?.observe(coverage);
+    const judgement = coverage === undefined ? verdict : { ...verdict, coverage };
     // After a resume with sliding windows, windows already judged by the last run close again.
     if (kafkaInfo?.judgedThrough != null && window.end <= kafkaInfo.judgedThrough) return;
     windows++;
@@ -559,6 +607,7 @@ async function watch(plan: WatchPlan, io: CommandIO): Promise<number> {
     recorder?.record(window, judgement, universe);
     // Last, once the verdict is out: Kafka may now commit past this window's records.
     kafka?.markJudgedUpTo(window.end);
+    mergeSource?.markJudgedUpTo(window.end);
   });
   pipeline.events.on('incident opened', (incident) => incidents.opened.push(incident));
   pipeline.events.on('incident cleared', () => incidents.cleared++);
@@ -571,16 +620,19 @@ async function watch(plan: WatchPlan, io: CommandIO): Promise<number> {
 
   const live =
     plan.source.kind === 'kafka' ||
+    plan.source.kind === 'merge' ||
     (plan.source.kind === 'scenario' ? plan.source.pace === 'real-time' : plan.source.path === '-');
   const source =
     plan.source.kind === 'kafka'
       ? kafka!
-      : plan.source.kind === 'file'
-        ? new FileSource(
-            plan.source.path,
-            plan.source.path === '-' ? { stream: io.stdin as unknown as Readable } : {},
-          )
-        : new ScenarioSource(plan.source.run, { pace: plan.source.pace });
+      : plan.source.kind === 'merge'
+        ? mergeSource!
+        : plan.source.kind === 'file'
+          ? new FileSource(
+              plan.source.path,
+              plan.source.path === '-' ? { stream: io.stdin as unknown as Readable } : {},
+            )
+          : new ScenarioSource(plan.source.run, { pace: plan.source.pace });
   let interrupted = false;
   const interrupt = () => {
     interrupted = true;
@@ -609,8 +661,8 @@ async function watch(plan: WatchPlan, io: CommandIO): Promise<number> {
     // An interrupted run keeps the windows already due and drops the partial ones: a
     // half-filled window would read as a lull.
     if (interrupted) {
-      if (kafka === null) pipeline.tick();
-    } else if (kafka === null) {
+      if (kafka === null && mergeSource === null) pipeline.tick();
+    } else if (kafka === null && mergeSource === null) {
       pipeline.finish();
     }
     // Read to its end, the run stays on the screen until the user quits.
@@ -646,19 +698,21 @@ function recordedSettings(plan: WatchPlan): RecordedSettings {
     source:
       plan.source.kind === 'file'
         ? { input: plan.source.path }
-        : plan.source.kind === 'kafka'
-          ? {
-              topic: plan.source.kafka.topic,
-              group: plan.source.kafka.groupId ?? null,
-              shardFrom: plan.source.kafka.shardFrom,
-            }
-          : {
-              scenario: plan.source.name,
-              seed: plan.source.seed,
-              start: new Date(plan.source.startMs).toISOString(),
-              durationMs: Number.isFinite(plan.source.durationMs) ? plan.source.durationMs : null,
-              pace: plan.source.pace,
-            },
+        : plan.source.kind === 'merge'
+          ? { merge: plan.source.merge.topic, group: plan.source.merge.groupId ?? null }
+          : plan.source.kind === 'kafka'
+            ? {
+                topic: plan.source.kafka.topic,
+                group: plan.source.kafka.groupId ?? null,
+                shardFrom: plan.source.kafka.shardFrom,
+              }
+            : {
+                scenario: plan.source.name,
+                seed: plan.source.seed,
+                start: new Date(plan.source.startMs).toISOString(),
+                durationMs: Number.isFinite(plan.source.durationMs) ? plan.source.durationMs : null,
+                pace: plan.source.pace,
+              },
     windowMs: plan.windowMs,
     latenessMs: plan.latenessMs,
     declaredUniverse: plan.universe === null ? true : plan.universe.declared,

@@ -106,6 +106,14 @@ export class JudgingPipeline {
     this.windows.closeAll();
   }
 
+  /**
+   * Judges a window closed elsewhere (`watch --merge` puts windows together from partial
+   * summaries): the same events as a window closed here, in the order given.
+   */
+  judgeClosed(window: ClosedWindow): void {
+    this.judgeWindow(window);
+  }
+
   /** Windows holding counts that have not closed (dropped if the run is interrupted). */
   get openWindows(): number {
     return this.windows.openWindows;

@@ -1,0 +1,79 @@
+import { describe, expect, it } from 'vitest';
+import { PartitionCounter } from '../../src/partials/partition-counter.js';
+
+// Source of truth: the records fed in below; each window's part must hold exactly the
+// records whose timestamps fall in it (arithmetic, by hand).
+
+function feed(counter: PartitionCounter, messages: [offset: number, ts: number, shard: string][]) {
+  for (const [offset, ts, shard] of messages) {
+    counter.offset = offset;
+    counter.record(ts, shard, 1);
+    counter.processed(offset);
+  }
+}
+
+describe('PartitionCounter', () => {
+  it('closes windows on its own watermark, empty ones included', () => {
+    const counter = new PartitionCounter(4, { windowMs: 10, latenessMs: 5 }, 100);
+    feed(counter, [
+      [100, 1, 'a'],
+      [101, 8, 'b'],
+      [102, 12, 'a'],
+    ]);
+    expect(counter.closeDue()).toEqual([]);
+    feed(counter, [[103, 37, 'a']]);
+    const parts = counter.closeDue();
+    expect(parts.map((p) => [p.start, p.records, p.counts, p.from, p.to])).toEqual([
+      [0, 2, { a: 1, b: 1 }, 100, 103],
+      [10, 1, { a: 1 }, 100, 103],
+      [20, 0, {}, 100, 103],
+    ]);
+    // The record at offset 103 is in the open window 30..40: commit no further.
+    expect(counter.commitOffset()).toBe(103);
+  });
+
+  it('counts a record for a closed window as late, not in any part', () => {
+    const counter = new PartitionCounter(0, { windowMs: 10, latenessMs: 0 }, 0);
+    feed(counter, [
+      [0, 1, 'a'],
+      [1, 15, 'a'],
+    ]);
+    expect(counter.closeDue().map((p) => p.records)).toEqual([1]);
+    feed(counter, [
+      [2, 3, 'a'],
+      [3, 25, 'a'],
+    ]);
+    const [part] = counter.closeDue();
+    expect([part.start, part.records, part.late, part.rejected]).toEqual([
+      10,
+      1,
+      1,
+      { 'too late': 1 },
+    ]);
+  });
+
+  it('after a takeover drops replayed records of windows already published, and starts after them', () => {
+    // The previous owner published through 20 and committed offset 7.
+    const counter = new PartitionCounter(2, { windowMs: 10, latenessMs: 0 }, 7, 20);
+    feed(counter, [
+      [7, 18, 'a'],
+      [8, 21, 'b'],
+      [9, 45, 'b'],
+    ]);
+    const parts = counter.closeDue();
+    expect(parts.map((p) => [p.start, p.records, p.late])).toEqual([
+      [20, 1, 0],
+      [30, 0, 0],
+    ]);
+    expect(counter.alreadyCounted).toBe(1);
+    expect(counter.commitOffset()).toBe(9);
+  });
+
+  it('a caught-up idle partition closes on a watermark handed in', () => {
+    const counter = new PartitionCounter(1, { windowMs: 10, latenessMs: 0 }, 0);
+    feed(counter, [[0, 3, 'a']]);
+    expect(counter.closeDue()).toEqual([]);
+    expect(counter.closeDue(20).map((p) => p.start)).toEqual([0, 10]);
+    expect(counter.commitOffset()).toBe(1);
+  });
+});
