@@ -1,4 +1,5 @@
 import type { Finding } from '../judge/judgement.js';
+import type { KeyCauseName } from '../judge/key-verdict.js';
 import type { ReviewWindow } from './review-window.js';
 
 /** A finding that held in consecutive windows: per shard for hotspot and cold, else window-wide. */
@@ -32,6 +33,14 @@ export interface Episode {
   readonly leastP: number | null;
   /** Windows of the episode that also showed the failover pattern (cold and hotspot). */
   readonly failoverWindows: number;
+  /**
+   * What made the shard hot, from the keys of its requests (hot key, placement, moved): each
+   * cause with the number of the episode's windows that gave it, most frequent first. Empty
+   * when the records carried no keys, and for cold and window-wide episodes.
+   */
+  readonly causes: readonly { readonly cause: KeyCauseName; readonly windows: number }[];
+  /** The key-cause sentence (with its numbers) of the episode's peak window, if any. */
+  readonly peakCause: string | null;
 }
 
 interface OpenEpisode {
@@ -48,6 +57,8 @@ interface OpenEpisode {
   leastP: number;
   failoverWindows: number;
   seenAt: number;
+  causes: Map<KeyCauseName, number>;
+  peakCause: string | null;
 }
 
 const windowWide: readonly Finding[] = ['uneven', 'too little traffic'];
@@ -80,6 +91,7 @@ export class EpisodeFinder {
     const index = this.windowIndex++;
     const failover = judgement.pattern === 'failover';
     const m = window.counts.length;
+    const causes = new Map((judgement.keys?.causes ?? []).map((c) => [c.shard, c]));
     for (const flagged of judgement.flagged) {
       const fair = this.fairShare(window, flagged.shard, m);
       const hot = flagged.finding === 'hotspot';
@@ -89,9 +101,16 @@ export class EpisodeFinder {
         shard: flagged.shard,
         peakRelative: flagged.relative,
       }));
-      if (hot ? flagged.relative > episode.peakRelative : flagged.relative < episode.peakRelative) {
+      const cause = hot ? causes.get(flagged.shard) : undefined;
+      if (cause !== undefined)
+        episode.causes.set(cause.cause, (episode.causes.get(cause.cause) ?? 0) + 1);
+      const newPeak =
+        episode.windows === 1 ||
+        (hot ? flagged.relative > episode.peakRelative : flagged.relative < episode.peakRelative);
+      if (newPeak) {
         episode.peakRelative = flagged.relative;
         episode.peakAt = window.start;
+        episode.peakCause = cause?.summary ?? null;
       }
       episode.aboveFairShare += flagged.count - fair;
       if (level === undefined || level === null) episode.beyondKnown = false;
@@ -151,6 +170,8 @@ export class EpisodeFinder {
         leastP: 1,
         failoverWindows: 0,
         seenAt: index,
+        causes: new Map(),
+        peakCause: null,
       };
       this.open.set(key, episode);
     }
@@ -189,5 +210,9 @@ function finished(episode: OpenEpisode): Episode {
     beyondChance: perShard && episode.beyondKnown ? episode.beyondChance : null,
     leastP: perShard ? episode.leastP : null,
     failoverWindows: episode.failoverWindows,
+    causes: [...episode.causes]
+      .map(([cause, windows]) => ({ cause, windows }))
+      .sort((a, b) => b.windows - a.windows || a.cause.localeCompare(b.cause)),
+    peakCause: episode.peakCause,
   };
 }

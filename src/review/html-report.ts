@@ -2,6 +2,7 @@ import type { RenderedChart } from './report-charts.js';
 import type { ReviewModel } from './review-model.js';
 import {
   caution,
+  causeLines,
   episodeCells,
   episodeColumns,
   escapeHtml,
@@ -46,6 +47,14 @@ ${model.episodes
   .join('\n')}
 </tbody>
 </table>`;
+  const causes = causeLines(model);
+  const causeList =
+    causes.length === 0
+      ? ''
+      : `<h3>What made the shards hot (from the keys)</h3>
+<ul id="key-causes">
+${causes.map((line) => `<li>${h(line)}</li>`).join('\n')}
+</ul>`;
   const figures = charts
     .map(
       (chart) => `<figure id="chart-${h(chart.id)}" class="chart">
@@ -125,6 +134,7 @@ ${peakText}
 <section id="episodes">
 <h2>Episodes</h2>
 ${episodes}
+${causeList}
 </section>
 <section id="charts">
 <h2>Charts</h2>

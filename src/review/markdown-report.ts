@@ -1,6 +1,7 @@
 import type { ReviewModel } from './review-model.js';
 import {
   caution,
+  causeLines,
   episodeCells,
   episodeColumns,
   escapeMarkdown,
@@ -36,6 +37,11 @@ export function markdownReport(model: ReviewModel, generatedAt: Date): string {
     for (const episode of model.episodes) {
       lines.push(`| ${episodeCells(episode).map(m).join(' | ')} |`);
     }
+  }
+  const causes = causeLines(model);
+  if (causes.length > 0) {
+    lines.push('', '## What made the shards hot (from the keys)', '');
+    for (const line of causes) lines.push(`- ${m(line)}`);
   }
   lines.push('', '## Method', '');
   for (const { heading, text } of methodParagraphs(model)) {

@@ -79,6 +79,7 @@ export const episodeColumns = [
   'requests above fair share',
   'requests beyond the chance level',
   'least p',
+  'cause from keys',
 ] as const;
 
 /** One episode as the cells of {@link episodeColumns}. */
@@ -96,7 +97,23 @@ export function episodeCells(episode: Episode): string[] {
     episode.aboveFairShare === null ? 'n/a' : signed(episode.aboveFairShare),
     episode.beyondChance === null ? 'n/a' : signed(episode.beyondChance),
     formatP(episode.leastP),
+    episode.causes.length === 0
+      ? 'n/a'
+      : episode.causes.map((c) => `${c.cause} (${c.windows} of ${episode.windows})`).join(', '),
   ];
+}
+
+/**
+ * What made each hot episode's shard hot, from the keys of its requests: one line per
+ * episode that has a key cause, with the sentence (and numbers) of its peak window.
+ */
+export function causeLines(model: ReviewModel): string[] {
+  return model.episodes
+    .filter((episode) => episode.peakCause !== null)
+    .map(
+      (episode) =>
+        `${episode.shard ?? 'all shards'}, ${formatTime(episode.start)} to ${formatTime(episode.end)}: ${episode.peakCause}`,
+    );
 }
 
 function signed(value: number): string {

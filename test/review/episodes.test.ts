@@ -30,6 +30,28 @@ function reviewOf(judged: JudgedScenario) {
 // Ground truth: the plants of the built-in scenarios (src/scenario/built-in-scenarios.ts),
 // as the scenario run reports them (ScenarioRun.truth.events). An episode must start and
 // end within one window of its plant.
+describe('episodes carry what made the shard hot, from the keys (the keyed drills)', () => {
+  it('hot-key: the episode on the planted shard names the hot key in most of its windows', () => {
+    // Ground truth: the hot-key drill plants one key (ScenarioRun.truth.events) on one shard.
+    const judged = judgeScenario('hot-key', { keys: true, seed: 7 });
+    const [plant] = judged.run.truth.events;
+    const review = reviewOf(judged);
+    const hot = review.episodes.filter((e) => e.finding === 'hotspot' && e.shard === plant.shard);
+    expect(hot).toHaveLength(1);
+    expect(hot[0].causes[0].cause).toBe('hot key');
+    expect(hot[0].causes[0].windows).toBeGreaterThanOrEqual(Math.ceil(hot[0].windows / 2));
+    expect(hot[0].peakCause).toContain('hot key');
+  });
+
+  it('without keys an episode has no cause', () => {
+    const review = reviewOf(judgeScenario('hotspot'));
+    for (const episode of review.episodes) {
+      expect(episode.causes).toEqual([]);
+      expect(episode.peakCause).toBeNull();
+    }
+  });
+});
+
 describe('episodes match the planted faults', () => {
   it('hotspot: one hotspot episode on seat-17 from 1:00 to 3:00', () => {
     const judged = judgeScenario('hotspot');

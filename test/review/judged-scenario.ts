@@ -5,6 +5,8 @@ import { defaultJudgeSettings, type JudgeSettings } from '../../src/judge/judge-
 import type { Judgement } from '../../src/judge/judgement.js';
 import { JudgingPipeline } from '../../src/judge/judging-pipeline.js';
 import type { RecordedSettings } from '../../src/record/recording-line.js';
+import { KeyAnalysis } from '../../src/keys/key-analysis.js';
+import { defaultKeySketchSettings } from '../../src/keys/window-key-stats.js';
 import { runScenario, type ScenarioRun } from '../../src/scenario/scenario-run.js';
 import type { ClosedWindow } from '../../src/window/event-time-window.js';
 import type { ShardUniverse } from '../../src/window/shard-universe.js';
@@ -26,6 +28,8 @@ export function judgeScenario(
     durationMs?: number;
     windowMs?: number;
     judge?: Partial<JudgeSettings>;
+    /** Run key analysis on the records' keys, as watch does by default. */
+    keys?: boolean;
   } = {},
 ): JudgedScenario {
   const windowMs = options.windowMs ?? 10_000;
@@ -40,14 +44,28 @@ export function judgeScenario(
     ...options.judge,
     hopMs: windowMs,
   };
+  const keys = options.keys
+    ? new KeyAnalysis(run.universe, {
+        windowMs,
+        hopMs: windowMs,
+        sketch: defaultKeySketchSettings,
+        simulations: 300,
+        alpha: settings.alpha,
+        null: settings.null,
+        maxFlagged: settings.maxFlagged,
+      })
+    : undefined;
   const pipeline = new JudgingPipeline(
     run.universe,
     { windowMs, hopMs: windowMs, latenessMs: 2000 },
     new Judge(run.universe, settings),
+    Date.now,
+    keys === undefined ? {} : { keys },
   );
   const windows: { window: ClosedWindow; judgement: Judgement }[] = [];
   pipeline.events.on('window judged', (judged) => windows.push(judged));
-  for (const record of run.records()) pipeline.record(record.ts, record.shard, record.count);
+  for (const record of run.records())
+    pipeline.record(record.ts, record.shard, record.count, options.keys ? record.key : undefined);
   pipeline.finish();
   return {
     run,
