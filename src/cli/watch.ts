@@ -717,6 +717,14 @@ function recordedSettings(plan: WatchPlan): RecordedSettings {
     latenessMs: plan.latenessMs,
     declaredUniverse: plan.universe === null ? true : plan.universe.declared,
     ...plan.judge,
+    keys:
+      plan.keys === null
+        ? null
+        : {
+            counters: plan.keys.sketch.counters,
+            registers: plan.keys.sketch.registers,
+            simulations: plan.keys.simulations,
+          },
   };
 }
 

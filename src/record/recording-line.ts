@@ -37,6 +37,15 @@ export interface RecordedSettings {
   readonly null: Judgement['null'];
   readonly spread: 'exact' | 'robust' | 'auto';
   readonly baselineWindows: number;
+  /**
+   * Key analysis in force: sketch sizes and the re-placement simulations, or null when it
+   * was off (--no-keys). Absent in recordings made before key analysis existed.
+   */
+  readonly keys?: {
+    readonly counters: number;
+    readonly registers: number;
+    readonly simulations: number;
+  } | null;
 }
 
 /** The version this build writes and reads. */
