@@ -64,6 +64,18 @@ export interface BoxOptions {
    * cheap.
    */
   readonly firstOrder?: boolean;
+  /**
+   * The caller takes 1 minus this box (a tail by complement): the box's relative error is
+   * magnified by Q / (1 - Q) there, and the choice between the exact and the Edgeworth
+   * branch weighs the error after that magnification.
+   */
+  readonly forComplement?: boolean;
+  /**
+   * Relative error the caller is content with (default 1e-9): an affordable exact
+   * convolution is skipped when the Edgeworth expansion's neglected term (after any
+   * complement magnification) is already below it.
+   */
+  readonly tolerance?: number;
 }
 
 /** Work above which the exact convolution gives way to the Edgeworth expansion. */
@@ -72,6 +84,8 @@ const EXACT_BUDGET = 3e6;
 const EXACT_BUDGET_WHEN_NEEDED = 4e8;
 /** Third-order Edgeworth size above which we prefer the exact convolution. */
 const EDGEWORTH_TOLERANCE = 1e-5;
+/** Default third-order Edgeworth size below which an affordable exact convolution is skipped. */
+const EDGEWORTH_NEGLIGIBLE = 1e-9;
 
 interface TiltedGroup {
   readonly group: ShardGroup;
@@ -400,8 +414,15 @@ export function boxLogProbability(
   const logPrefactor = -logPoissonDensity(total, rate);
   const edgeworth = edgeworthLogDensity(sum, total);
   const work = exactWork(tilted, total);
+  // Exact when cheap, unless the Edgeworth expansion's neglected term is already below
+  // rounding-level noise (then the exact convolution buys nothing and can cost milliseconds).
+  const logEstimate = logPrefactor + logMassSum + edgeworth.logDensity;
+  const magnification = options.forComplement
+    ? Math.exp(logEstimate - log1mExp(Math.min(logEstimate, -1e-300)))
+    : 1;
   const exactWanted =
-    work <= EXACT_BUDGET ||
+    (work <= EXACT_BUDGET &&
+      edgeworth.remainder * magnification > (options.tolerance ?? EDGEWORTH_NEGLIGIBLE)) ||
     (edgeworth.remainder > EDGEWORTH_TOLERANCE &&
       work <= (options.quick ? EXACT_BUDGET : EXACT_BUDGET_WHEN_NEEDED));
   if (exactWanted) {

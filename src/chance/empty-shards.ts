@@ -82,9 +82,12 @@ function logEmptyExactly(total: number, shards: number, empty: number): number {
   const occupied = shards - empty;
   if (occupied === 0) return total === 0 ? 0 : -Infinity;
   if (occupied > total) return -Infinity;
-  const allHit = boxLogProbability(total, [
-    { share: 1 / occupied, count: occupied, lower: 1, upper: Infinity },
-  ]);
+  // The terms are summed (all positive): 1e-5 relative each is 100 times under the bar.
+  const allHit = boxLogProbability(
+    total,
+    [{ share: 1 / occupied, count: occupied, lower: 1, upper: Infinity }],
+    { tolerance: 1e-5 },
+  );
   return logChoose(shards, empty) + total * Math.log1p(-empty / shards) + allHit.logProbability;
 }
 

@@ -115,7 +115,7 @@ function complementLogTail(
       ? { share: g.share, count: g.count, lower: 0, upper: g.threshold - 1 }
       : { share: g.share, count: g.count, lower: g.threshold + 1, upper: Infinity },
   );
-  const none = boxLogProbability(total, box, options);
+  const none = boxLogProbability(total, box, { ...options, forComplement: true });
   if (none.method === 'impossible')
     return { logProbability: 0, method: 'certain', relativeError: 0 };
   const logP = log1mExp(none.logProbability);
