@@ -71,7 +71,7 @@ const blockSize = 1 << 16;
 
 export const simulateCommand: Command = {
   name: 'simulate',
-  summary: 'write seeded synthetic traffic with planted faults to a file or stdout',
+  summary: 'write seeded synthetic traffic with planted faults to a file, stdout or Kafka',
   help,
   async run(argv, io) {
     const values = parseOptions(argv, simulateOptions);

@@ -238,7 +238,7 @@ const livePollMs = 250;
 
 export const watchCommand: Command = {
   name: 'watch',
-  summary: 'judge each window of per-shard counts from a file, stdin or a simulated cluster',
+  summary: 'judge each window of per-shard counts from a file, stdin, Kafka or a simulated cluster',
   help,
   async run(argv, io) {
     return watch(await readPlan(parseOptions(argv, watchOptions), io), io);
