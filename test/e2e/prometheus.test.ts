@@ -144,11 +144,24 @@ describe('a real Prometheus server scraping shardwise watch', () => {
     const windows = await query(prometheus.url, 'shardwise_windows_closed_total{job="chance"}');
     // 54 s replayed (27 windows) plus one window per 2 s since.
     expect(Number(windows[0].value[1])).toBeGreaterThanOrEqual(27 + Math.floor(elapsed / 4000));
-    const verdicts = await query(
-      prometheus.url,
-      'count_over_time(shardwise_finding{job="chance",finding="chance"}[1m])',
-    );
-    expect(Number(verdicts[0].value[1])).toBeGreaterThan(5);
+    // The chance run's verdicts were scraped again and again (one sample per 1 s scrape).
+    // The alert can fire within a few seconds of Prometheus starting, before six scrapes
+    // have happened, so wait (at most 20 s) for them rather than race the scraper.
+    const chanceVerdicts = async () =>
+      Number(
+        (
+          await query(
+            prometheus.url,
+            'count_over_time(shardwise_finding{job="chance",finding="chance"}[1m])',
+          )
+        )[0]?.value[1] ?? 0,
+      );
+    let scraped = await chanceVerdicts();
+    for (const waitUntil = Date.now() + 20_000; scraped <= 5 && Date.now() < waitUntil;) {
+      await sleep(1000);
+      scraped = await chanceVerdicts();
+    }
+    expect(scraped).toBeGreaterThan(5);
     const flagged = await query(
       prometheus.url,
       'shardwise_flagged_shard_relative_load{job="hotspot"}',
