@@ -118,18 +118,20 @@ function rootGap(logBound: number, logTail: number): number {
   return root(-logBound) - root(-logTail);
 }
 
-/** The quick search stops at this relative width (the accurate one starts from there). */
+/** The quick search stops at this relative width (the accurate one starts from there)... */
 const QUICK_WIDTH = 1e-6;
+/** ...or once an end's root gap is this close to zero. */
+const QUICK_GAP = 3e-3;
 /**
  * Weighted shares: the answer is one shard's breakpoint, or, where breakpoints crowd closer
  * than this relative width, the upper end of a bracket this narrow.
  */
-const ANSWER_WIDTH = 1e-8;
+const ANSWER_WIDTH = 1e-6;
 
 /**
  * Smallest relative load t at which `gap(t)` stops being positive, where gap falls with t
  * (positive below the answer). For equal shares the answer is a whole count; for weighted
- * shares it is the breakpoint of one shard's threshold, or located to a relative 1e-8
+ * shares it is the breakpoint of one shard's threshold, or located to a relative 1e-6
  * where breakpoints crowd closer than that.
  */
 function searchRelative(
@@ -206,18 +208,28 @@ function searchRelative(
       }
     }
   }
-  for (let i = 0; i < 200 && b.hi - b.lo > QUICK_WIDTH * b.hi; i++) narrowOnce(quickGap, b);
+  // The quick phase stops at a narrow bracket, or once an end is within QUICK_GAP of the
+  // bound (root units: about 2% of the tail at level 1e-3): closer than that the quick bound is no
+  // better than the accurate phase that follows, and with many shards its steps are noise.
+  for (
+    let i = 0;
+    i < 200 &&
+    b.hi - b.lo > QUICK_WIDTH * b.hi &&
+    !(Math.min(Math.abs(b.gapLo), Math.abs(b.gapHi)) < QUICK_GAP);
+    i++
+  )
+    narrowOnce(quickGap, b);
   // Full accuracy from a bracket around the quick answer c: the accurate gap at c, over the
   // local slope of the quick gap, says how far off c is (the quick gap is the first
   // Bonferroni bound, off by about the level itself); the bracket grows if that was short.
   const slope = (b.gapLo - b.gapHi) / Math.max(b.hi - b.lo, 1e-300);
-  const center = b.hi;
+  const center = Math.abs(b.gapLo) < Math.abs(b.gapHi) ? b.lo : b.hi;
   const gapCenter = accurateGap(center);
   const offset =
     Number.isFinite(slope) && slope > 0 && Number.isFinite(gapCenter)
       ? (2 * Math.abs(gapCenter)) / slope
       : 2e-3 * center;
-  let width = Math.max(b.hi - b.lo, 1e-9 * center, offset);
+  let width = Math.max(QUICK_WIDTH * center, offset);
   b.latest = 0;
   if (gapCenter > 0) {
     b.lo = center;
