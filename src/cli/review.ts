@@ -3,7 +3,6 @@ import type { Readable } from 'node:stream';
 import { FileSource } from '../ingest/file-source.js';
 import { describeKafkaEvent } from '../ingest/kafka-events.js';
 import { KafkaSource } from '../ingest/kafka-source.js';
-import { readShardMapFile } from '../ingest/shard-map-file.js';
 import { parseIsoTimestamp } from '../ingest/timestamp.js';
 import { Judge } from '../judge/judge.js';
 import type { JudgeSettings } from '../judge/judge-settings.js';
@@ -28,8 +27,9 @@ import {
   parseShardFrom,
   parseTopic,
 } from './kafka-options.js';
-import { duration, parseOptions, wholeNumber } from './option-values.js';
+import { duration, parseOptions } from './option-values.js';
 import { ProgressLine } from './progress-line.js';
+import { readUniverseOptions, readWindowOptions } from './window-options.js';
 
 const help = `Usage: shardwise review (--recording FILE... | --input FILE|- | --brokers H:P --topic T --since TIME [--until TIME]) [options]
 
@@ -403,30 +403,7 @@ async function reviewRecords(
   progress: ProgressLine,
   onNote: (note: string) => void,
 ): Promise<ReviewBuilder | null> {
-  const windowMs = values.window === undefined ? 10_000 : duration('--window', values.window);
-  const hopMs = values.hop === undefined ? windowMs : duration('--hop', values.hop);
-  if (hopMs > windowMs || windowMs % hopMs !== 0) {
-    throw new UsageError(
-      '--hop',
-      values.hop as string,
-      `does not divide --window ${values.window ?? '10s'}`,
-    );
-  }
-  const latenessMs =
-    values.lateness === undefined
-      ? 2_000
-      : duration('--lateness', values.lateness, { allowZero: true });
-  const maxShards =
-    values['max-shards'] === undefined
-      ? undefined
-      : wholeNumber('--max-shards', values['max-shards'], 1);
-  if (values.shards !== undefined && values['shard-map'] !== undefined) {
-    throw new UsageError(
-      '--shards',
-      values.shards,
-      'cannot be combined with --shard-map (one universe at a time)',
-    );
-  }
+  const { windowMs, hopMs, latenessMs, maxShards } = readWindowOptions(values);
   const kafka = values.brokers !== undefined ? kafkaRange(values, io) : null;
   if (kafka === null) {
     for (const name of ['since', 'until', 'topic', 'shard-from'] as const) {
@@ -440,18 +417,10 @@ async function reviewRecords(
     }
     if (values.input !== '-') await checkReadable('--input', values.input as string);
   }
-  let universe: ShardUniverse | null;
-  let sharesDeclared = false;
-  if (values['shard-map'] !== undefined) {
-    universe = await readShardMapFile(values['shard-map'], { maxShards });
-    sharesDeclared = true;
-  } else if (values.shards !== undefined) {
-    universe = ShardUniverse.fromShardsOption(values.shards, { maxShards });
-  } else if (kafka?.shardFrom.kind === 'partition') {
-    universe = null;
-  } else {
-    universe = ShardUniverse.growing({ maxShards });
-  }
+  const { universe, sharesDeclared } = await readUniverseOptions(values, {
+    maxShards,
+    byPartition: kafka?.shardFrom.kind === 'partition',
+  });
   const settings = readJudgeSettings(values, { sharesDeclared, hopMs });
   const source =
     kafka === null

@@ -6,7 +6,6 @@ import { FileSource } from '../ingest/file-source.js';
 import { describeKafkaEvent } from '../ingest/kafka-events.js';
 import { KafkaSource } from '../ingest/kafka-source.js';
 import { ScenarioSource } from '../ingest/scenario-source.js';
-import { readShardMapFile } from '../ingest/shard-map-file.js';
 import { Judge } from '../judge/judge.js';
 import type { JudgeSettings } from '../judge/judge-settings.js';
 import { JudgingPipeline } from '../judge/judging-pipeline.js';
@@ -20,8 +19,9 @@ import { isRejection, rejectionReasons, type RejectionReason } from '../window/c
 import { UsageError } from '../window/errors.js';
 import { ShardUniverse } from '../window/shard-universe.js';
 import type { Command, CommandIO } from './command.js';
+import { readUniverseOptions, readWindowOptions } from './window-options.js';
 import { judgeOptionSpec, readJudgeSettings } from './judge-options.js';
-import { byteSize, duration, parseOptions, wholeNumber } from './option-values.js';
+import { byteSize, parseOptions, wholeNumber } from './option-values.js';
 import {
   kafkaOptionsHelp,
   kafkaSourceOptionSpec,
@@ -270,23 +270,7 @@ async function readPlan(values: Values, io: CommandIO): Promise<WatchPlan> {
       'is missing: give --input FILE|-, --scenario NAME or --brokers H:P --topic T (see --help)',
     );
   }
-  const windowMs = values.window === undefined ? 10_000 : duration('--window', values.window);
-  const hopMs = values.hop === undefined ? windowMs : duration('--hop', values.hop);
-  if (hopMs > windowMs || windowMs % hopMs !== 0) {
-    throw new UsageError(
-      '--hop',
-      values.hop as string,
-      `does not divide --window ${values.window ?? '10s'}`,
-    );
-  }
-  const latenessMs =
-    values.lateness === undefined
-      ? 2_000
-      : duration('--lateness', values.lateness, { allowZero: true });
-  const maxShards =
-    values['max-shards'] === undefined
-      ? undefined
-      : wholeNumber('--max-shards', values['max-shards'], 1);
+  const { windowMs, hopMs, latenessMs, maxShards } = readWindowOptions(values);
 
   let source: SourcePlan;
   let universe: ShardUniverse | null;
@@ -336,26 +320,10 @@ async function readPlan(values: Values, io: CommandIO): Promise<WatchPlan> {
       if (path !== '-') await checkReadable(path);
       source = { kind: 'file', path };
     }
-    if (values.shards !== undefined && values['shard-map'] !== undefined) {
-      throw new UsageError(
-        '--shards',
-        values.shards,
-        'cannot be combined with --shard-map (one universe at a time)',
-      );
-    }
-    if (values['shard-map'] !== undefined) {
-      universe = await readShardMapFile(values['shard-map'], { maxShards });
-      sharesDeclared = true;
-    } else if (values.shards !== undefined) {
-      universe = ShardUniverse.fromShardsOption(values.shards, { maxShards });
-      sharesDeclared = false;
-    } else if (source.kind === 'kafka' && source.kafka.shardFrom.kind === 'partition') {
-      universe = null;
-      sharesDeclared = false;
-    } else {
-      universe = ShardUniverse.growing({ maxShards });
-      sharesDeclared = false;
-    }
+    ({ universe, sharesDeclared } = await readUniverseOptions(values, {
+      maxShards,
+      byPartition: source.kind === 'kafka' && source.kafka.shardFrom.kind === 'partition',
+    }));
   }
 
   const judge = readJudgeSettings(values, { sharesDeclared, hopMs });
