@@ -262,27 +262,51 @@ function exactLogDensity(tilted: readonly TiltedGroup[], at: number): number {
   return Math.log(result.values[index]);
 }
 
-function exactWork(tilted: readonly TiltedGroup[], at: number): number {
+/** Work of one product of two lattices of these widths (direct, or FFT when both are long). */
+function productCost(x: number, y: number): number {
+  return x > FFT_FROM && y > FFT_FROM ? 6 * (x + y) * Math.log2(x + y) : x * y;
+}
+
+/**
+ * Work of the exact branch for groups of `count` pieces of spread `sd` and allowed span
+ * `span`: repeated squaring up to each group's width, then one product with the running
+ * result. O(groups).
+ */
+function convolutionWork(
+  pieces: Iterable<{ count: number; sd: number; span: number }>,
+  at: number,
+): number {
   let width = 0;
   let work = 0;
-  const productCost = (x: number, y: number) =>
-    x > FFT_FROM && y > FFT_FROM ? 6 * (x + y) * Math.log2(x + y) : x * y;
-  for (const t of tilted) {
-    const sd = Math.sqrt(Math.max(t.cumulants[1], 1e-12));
-    const span = t.group.upper < Infinity ? t.group.upper - t.group.lower + 1 : Infinity;
+  for (const { count, sd, span } of pieces) {
     const pieceWidth = Math.min(span, at + 1, Math.ceil(28 * sd + 30));
     const groupWidth = Math.min(
       at + 1,
-      t.group.count * pieceWidth,
-      Math.ceil(28 * Math.sqrt(t.group.count) * sd) + pieceWidth,
+      count * pieceWidth,
+      Math.ceil(28 * Math.sqrt(count) * sd) + pieceWidth,
     );
-    // Repeated squaring up to the group's width, then one product with the running result.
     work +=
-      2 * Math.log2(t.group.count + 1) * productCost(groupWidth, groupWidth) +
+      2 * Math.log2(count + 1) * productCost(groupWidth, groupWidth) +
       productCost(width, groupWidth);
     width = Math.min(at + 1, width + groupWidth);
+    if (work > 1e12) return work;
   }
   return work;
+}
+
+function spanOf(group: ShardGroup): number {
+  return group.upper < Infinity ? group.upper - group.lower + 1 : Infinity;
+}
+
+function exactWork(tilted: readonly TiltedGroup[], at: number): number {
+  return convolutionWork(
+    tilted.map((t) => ({
+      count: t.group.count,
+      sd: Math.sqrt(Math.max(t.cumulants[1], 1e-12)),
+      span: spanOf(t.group),
+    })),
+    at,
+  );
 }
 
 /**
@@ -291,27 +315,12 @@ function exactWork(tilted: readonly TiltedGroup[], at: number): number {
  * asking for an exact box that cannot be afforded (for many distinct shares and large N).
  */
 export function exactBoxWorkEstimate(total: number, groups: readonly ShardGroup[]): number {
-  let width = 0;
-  let work = 0;
-  for (const g of groups) {
-    if (g.count === 0 || g.share === 0) continue;
-    const sd = Math.sqrt(total * g.share);
-    const span = g.upper < Infinity ? g.upper - g.lower + 1 : Infinity;
-    const pieceWidth = Math.min(span, total + 1, Math.ceil(28 * sd + 30));
-    const groupWidth = Math.min(
-      total + 1,
-      g.count * pieceWidth,
-      Math.ceil(28 * Math.sqrt(g.count) * sd) + pieceWidth,
-    );
-    const productCost = (x: number, y: number) =>
-      x > FFT_FROM && y > FFT_FROM ? 6 * (x + y) * Math.log2(x + y) : x * y;
-    work +=
-      2 * Math.log2(g.count + 1) * productCost(groupWidth, groupWidth) +
-      productCost(width, groupWidth);
-    width = Math.min(total + 1, width + groupWidth);
-    if (work > 1e12) return work;
-  }
-  return work;
+  return convolutionWork(
+    groups
+      .filter((g) => g.count > 0 && g.share > 0)
+      .map((g) => ({ count: g.count, sd: Math.sqrt(total * g.share), span: spanOf(g) })),
+    total,
+  );
 }
 
 /** The routine budget of the exact branch (for callers deciding whether to ask). */

@@ -66,12 +66,16 @@ function exactComplementMayBeCheap(
   total: number,
   groups: readonly ThresholdGroup[],
 ): boolean {
-  const box: ShardGroup[] = groups.map((g) =>
+  return exactBoxWorkEstimate(total, complementBox(side, groups)) <= 10 * ROUTINE_EXACT_BUDGET;
+}
+
+/** The box "no shard reaches its threshold": a ceiling below it (high) or a floor above it (low). */
+function complementBox(side: Side, groups: readonly ThresholdGroup[]): ShardGroup[] {
+  return groups.map((g) =>
     side === 'high'
       ? { share: g.share, count: g.count, lower: 0, upper: g.threshold - 1 }
       : { share: g.share, count: g.count, lower: g.threshold + 1, upper: Infinity },
   );
-  return exactBoxWorkEstimate(total, box) <= 10 * ROUTINE_EXACT_BUDGET;
 }
 
 function singleLogTail(side: Side, total: number, g: ThresholdGroup): number {
@@ -110,12 +114,10 @@ function complementLogTail(
   groups: readonly ThresholdGroup[],
   options: BoxOptions,
 ): TailProbability {
-  const box: ShardGroup[] = groups.map((g) =>
-    side === 'high'
-      ? { share: g.share, count: g.count, lower: 0, upper: g.threshold - 1 }
-      : { share: g.share, count: g.count, lower: g.threshold + 1, upper: Infinity },
-  );
-  const none = boxLogProbability(total, box, { ...options, forComplement: true });
+  const none = boxLogProbability(total, complementBox(side, groups), {
+    ...options,
+    forComplement: true,
+  });
   if (none.method === 'impossible')
     return { logProbability: 0, method: 'certain', relativeError: 0 };
   const logP = log1mExp(none.logProbability);
