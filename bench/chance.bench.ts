@@ -14,7 +14,7 @@ function measure(
   runs: number,
 ): void {
   const { placement, counts } = build();
-  for (let i = 0; i < Math.min(3, runs); i++) summarizeWindow(placement, counts, 0.001);
+  for (let i = 0; i < 5; i++) summarizeWindow(placement, counts, 0.001);
   const times: number[] = [];
   for (let i = 0; i < runs; i++) {
     const t = performance.now();
@@ -64,5 +64,5 @@ measure(
 measure(
   'weighted shares (16 tokens per shard), m = 1e5, N = 1e9',
   () => windowOf(1e5, 1e9, ringWeights(1e5, 4), 5),
-  2,
+  20,
 );

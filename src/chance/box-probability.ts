@@ -161,7 +161,7 @@ function hermite(z: number): Float64Array {
  * for an integer-valued W of span 1. Returns log P and the size of the neglected
  * third-order term (estimated by the largest standardised cumulant product of that order).
  */
-function edgeworthLogDensity(
+export function edgeworthLogDensity(
   cumulants: Float64Array,
   at: number,
 ): { logDensity: number; remainder: number } {
@@ -321,6 +321,27 @@ export function exactBoxWorkEstimate(total: number, groups: readonly ShardGroup[
       .map((g) => ({ count: g.count, sd: Math.sqrt(total * g.share), span: spanOf(g) })),
     total,
   );
+}
+
+/**
+ * The Edgeworth branch from sums already formed elsewhere (the share sweep): Levin's
+ * prefactor 1 / P(Poisson(rate) = N), the summed log masses of the cuts and P(W = N) from
+ * the summed cumulants of W. `extraError` is the caller's own relative error (added to the
+ * Edgeworth remainder). O(1).
+ */
+export function edgeworthBoxFromSums(
+  total: number,
+  rate: number,
+  logMassSum: number,
+  cumulants: Float64Array,
+  extraError: number,
+): BoxProbability {
+  const edgeworth = edgeworthLogDensity(cumulants, total);
+  return {
+    logProbability: -logPoissonDensity(total, rate) + logMassSum + edgeworth.logDensity,
+    method: 'edgeworth',
+    relativeError: Math.max(edgeworth.remainder, 1e-12) + extraError,
+  };
 }
 
 /** The routine budget of the exact branch (for callers deciding whether to ask). */

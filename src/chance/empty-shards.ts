@@ -31,7 +31,12 @@ export interface EmptyShardsTail {
  */
 export function emptyShardMoments(placement: Placement): { mean: number; variance: number } {
   const n = placement.total;
-  const classes = shareClasses(placement);
+  // Classes come in ascending share, so q = (1 - p)^N falls along them; once it underflows
+  // (log below -746) every later class and every pair term with it is exactly 0 in doubles.
+  const all = shareClasses(placement);
+  let live = 0;
+  while (live < all.length && n * Math.log1p(-all[live].share) > -746) live++;
+  const classes = live === all.length ? all : all.slice(0, live);
   let mean = 0;
   let variance = 0;
   const logQ = classes.map((c) => n * Math.log1p(-c.share));

@@ -1,12 +1,22 @@
 import {
   boxLogProbability,
+  edgeworthBoxFromSums,
   exactBoxWorkEstimate,
+  type BoxProbability,
   ROUTINE_EXACT_BUDGET,
   type BoxOptions,
   type ShardGroup,
 } from './box-probability.js';
 import { logChoose } from './discrete-densities.js';
 import { log1mExp, logAddExp, logDifference } from './log-space.js';
+import {
+  PRUNE_EXACT,
+  PRUNE_QUICK,
+  sweepCuts,
+  sweepTails,
+  type ShareSweep,
+  type TailSums,
+} from './share-sweep.js';
 import { logBinomialAtLeast, logBinomialAtMost } from './tails.js';
 
 /**
@@ -114,10 +124,13 @@ function complementLogTail(
   groups: readonly ThresholdGroup[],
   options: BoxOptions,
 ): TailProbability {
-  const none = boxLogProbability(total, complementBox(side, groups), {
-    ...options,
-    forComplement: true,
-  });
+  return tailFromComplement(
+    boxLogProbability(total, complementBox(side, groups), { ...options, forComplement: true }),
+  );
+}
+
+/** 1 minus the box "no shard reaches its threshold", with the error that magnifies. */
+function tailFromComplement(none: BoxProbability): TailProbability {
   if (none.method === 'impossible')
     return { logProbability: 0, method: 'certain', relativeError: 0 };
   const logP = log1mExp(none.logProbability);
@@ -232,9 +245,6 @@ export function anyShardTail(
     };
   }
   if (live.length > FEW_GROUPS && s1 <= MANY_GROUPS_SWITCH) {
-    // S2 under independence is sum_{i<j} t_i t_j = (S1^2 - sum t_i^2) / 2; multinomial cells
-    // are negatively associated, so the true S2 is below it. The ratio true/independent is
-    // taken from the pair with the largest tails.
     let logSumSquares = -Infinity;
     let top = 0;
     let second = -1;
@@ -247,23 +257,188 @@ export function anyShardTail(
         second = i;
       }
     }
-    const logIndependent = logDifference(2 * logS1, logSumSquares) - Math.LN2;
-    const pairGroups =
+    const pair =
       live[top].count >= 2
-        ? [{ ...live[top], count: 2 }]
-        : [
-            { ...live[top], count: 1 },
-            { ...live[second], count: 1 },
-          ];
-    const logPairProduct =
-      live[top].count >= 2 ? 2 * logTails[top] : logTails[top] + logTails[second];
-    const logRatio = Math.min(0, jointLogTail(side, total, pairGroups, options) - logPairProduct);
-    const value = logDifference(logS1, logIndependent + logRatio);
-    return {
-      logProbability: value,
-      method: 'inclusion-exclusion',
-      relativeError: Math.max(1e-9, s1 / 2),
-    };
+        ? { groups: [{ ...live[top], count: 2 }], logProduct: 2 * logTails[top] }
+        : {
+            groups: [
+              { ...live[top], count: 1 },
+              { ...live[second], count: 1 },
+            ],
+            logProduct: logTails[top] + logTails[second],
+          };
+    return pairEstimatedTail(side, total, logS1, logSumSquares, pair, options);
   }
   return complementLogTail(side, total, live, options);
+}
+
+/**
+ * S1 - S2 for many shards. S2 under independence is sum_{i<j} t_i t_j = (S1^2 - sum t_i^2) / 2;
+ * multinomial cells are negatively associated, so the true S2 is below it. The ratio
+ * true/independent is taken from the pair with the largest tails (one joint tail).
+ */
+function pairEstimatedTail(
+  side: Side,
+  total: number,
+  logS1: number,
+  logSumSquares: number,
+  pair: { groups: ThresholdGroup[]; logProduct: number },
+  options: BoxOptions,
+): TailProbability {
+  const logIndependent = logDifference(2 * logS1, logSumSquares) - Math.LN2;
+  const logRatio = Math.min(0, jointLogTail(side, total, pair.groups, options) - pair.logProduct);
+  const value = logDifference(logS1, logIndependent + logRatio);
+  return {
+    logProbability: value,
+    method: 'inclusion-exclusion',
+    relativeError: Math.max(1e-9, Math.exp(logS1) / 2),
+  };
+}
+
+/** Error allowed for the sweep's per-shard tails (interpolation and series, relative). */
+const SWEEP_ERROR = 1e-8;
+
+/**
+ * The same question for many weighted shards, answered from share sweeps (share-sweep.ts)
+ * instead of one tail per distinct share: S1 and the pair estimate from a binomial sweep;
+ * the complement from Poisson sweeps at Levin's rate and the Edgeworth step. The branches
+ * and switch-overs are anyShardTail's for many groups. Null when a sweep refuses (the
+ * caller then asks anyShardTail). O(m) per sweep, about 1-4 sweeps.
+ */
+export function sweptShardTail(
+  side: Side,
+  sweep: ShareSweep,
+  relative: number,
+  options: BoxOptions = {},
+): TailProbability | null {
+  const total = sweep.total;
+  // A single question (not a search, which asks about extreme levels) is most often about a
+  // load whose tail is not small: the Poisson sweep of the complement then also decides the
+  // regime (its tail sum is S1's Poisson twin, within about 1e-4 of it), and the binomial
+  // sweep is needed only when that sum is small.
+  if (options.quick === undefined && !options.firstOrder) {
+    const first = sweptComplementBox(side, sweep, relative);
+    if (first === null) return null;
+    if (first.tailSum > MANY_GROUPS_SWITCH) return tailFromComplement(first.box);
+  }
+  // A quick first-order bound (bracketing only) prunes the walk more tightly.
+  const sums = lastTails(
+    side,
+    sweep,
+    relative,
+    options.firstOrder && options.quick ? PRUNE_QUICK : PRUNE_EXACT,
+  );
+  if (sums === null) return null;
+  if (sums.certain) return { logProbability: 0, method: 'certain', relativeError: 0 };
+  const logS1 = sums.logSum;
+  if (logS1 === -Infinity)
+    return { logProbability: -Infinity, method: 'impossible', relativeError: 0 };
+  if (options.firstOrder)
+    return { logProbability: logS1, method: 'first-order-bound', relativeError: Infinity };
+  if (Math.exp(logS1) <= MANY_GROUPS_SWITCH) {
+    const [a, b] = sums.top;
+    const pair = {
+      groups: [
+        { share: a.share, count: 1, threshold: a.threshold },
+        { share: b.share, count: 1, threshold: b.threshold },
+      ],
+      logProduct: a.logTail + b.logTail,
+    };
+    return pairEstimatedTail(side, total, logS1, sums.logSumSquares, pair, options);
+  }
+  const none = sweptComplementBox(side, sweep, relative);
+  return none === null ? null : tailFromComplement(none.box);
+}
+
+/** The latest binomial sweep, kept: a search asks for the same load quickly and accurately. */
+let latest: {
+  sweep: ShareSweep;
+  side: Side;
+  relative: number;
+  margin: number;
+  sums: TailSums | null;
+} | null = null;
+
+function lastTails(
+  side: Side,
+  sweep: ShareSweep,
+  relative: number,
+  margin: number,
+): TailSums | null {
+  if (
+    latest?.sweep === sweep &&
+    latest.side === side &&
+    latest.relative === relative &&
+    latest.margin >= margin
+  )
+    return latest.sums;
+  const sums = sweepTails(side, sweep, relative, margin);
+  latest = { sweep, side, relative, margin, sums };
+  return sums;
+}
+
+/**
+ * Levin's box "no shard reaches its threshold" from Poisson sweeps. The saddle point s
+ * (E[W] = N) is one Newton step from s = N in log s (d E[W] / d log s = Var W): where that
+ * step is tiny, the sums are carried to it to first order instead of being swept again,
+ * since for the cut Poisson laws d kappa_r / d log s = kappa_(r+1) (an exponential family
+ * in log s) and d(log mass) / d log s = -u0 (the sweep's own sum); the neglected second
+ * order is below 1e-8. Otherwise Newton steps sweep again until E[W] is within 1e-3
+ * standard deviations of N. Then the Edgeworth step. Null when a sweep refuses.
+ */
+function sweptComplementBox(
+  side: Side,
+  sweep: ShareSweep,
+  relative: number,
+): { box: BoxProbability; tailSum: number } | null {
+  const total = sweep.total;
+  const shareSum = sweep.prefix[sweep.shares.length];
+  let logRate = Math.log(total);
+  let tailSum = NaN;
+  for (let step = 0; step < 8; step++) {
+    const rate = Math.exp(logRate);
+    const cuts = sweepCuts(side, sweep, relative, rate);
+    if (cuts === null) return null;
+    if (step === 0) tailSum = cuts.tailSum;
+    if (cuts.empty)
+      return {
+        box: { logProbability: -Infinity, method: 'impossible', relativeError: 0 },
+        tailSum: Infinity,
+      };
+    const kappa = cuts.cumulants;
+    const gap = total - kappa[0];
+    const variance = kappa[1];
+    if (!(variance > 0)) return null;
+    if (Math.abs(gap) <= 1e-3 * Math.sqrt(variance) || step === 7)
+      return {
+        box: edgeworthBoxFromSums(total, rate * shareSum, cuts.logMassSum, kappa, SWEEP_ERROR),
+        tailSum,
+      };
+    const delta = gap / variance;
+    // Second-order terms: kappa_(r+2) delta^2 / 2 for the cumulants (kappa_1 moves by about
+    // N delta^2 / 2, far inside 1e-3 sd), and d(sum u0)/dlog s delta^2 / 2 for the log mass,
+    // where d u0 / dlog s is about u0 (2 elasticity + 1).
+    if (
+      cuts.uSpread * delta * delta <= 1e-8 &&
+      (kappa[0] * delta * delta) / 2 <= 1e-4 * Math.sqrt(variance)
+    ) {
+      // kappa_6 stands in for kappa_7 (a cut Poisson law's cumulants are all near its mean).
+      const moved = Float64Array.from(
+        kappa,
+        (k, r) => k + (r < 5 ? kappa[r + 1] : kappa[5]) * delta,
+      );
+      return {
+        box: edgeworthBoxFromSums(
+          total,
+          Math.exp(logRate + delta) * shareSum,
+          cuts.logMassSum - cuts.uSum * delta,
+          moved,
+          SWEEP_ERROR + cuts.uSpread * delta * delta,
+        ),
+        tailSum,
+      };
+    }
+    logRate += delta;
+  }
+  return null;
 }

@@ -12,6 +12,13 @@ export interface Placement {
   readonly shares: Float64Array | null;
 }
 
+/**
+ * Tolerance for turning a relative load back into a count (rounding of t N p): a threshold
+ * is ceil(t N p - 1e-9 max(1, t N p)) on the high side and floor(t N p + ...) on the low side,
+ * so that a shard's own relative load maps back to its own count.
+ */
+export const EXTREME_ROUNDING = 1e-9;
+
 /** Shards sharing a share value, with their positions in the universe. */
 export interface ShareClass {
   readonly share: number;

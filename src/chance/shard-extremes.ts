@@ -1,6 +1,12 @@
 import type { BoxOptions } from './box-probability.js';
-import { anyShardTail, type TailProbability, type ThresholdGroup } from './extreme-load.js';
-import { shareClasses, type Placement } from './placement.js';
+import {
+  anyShardTail,
+  sweptShardTail,
+  type TailProbability,
+  type ThresholdGroup,
+} from './extreme-load.js';
+import { shareSweep, thresholdAt, type ShareSweep } from './share-sweep.js';
+import { EXTREME_ROUNDING, shareClasses, type Placement } from './placement.js';
 
 /**
  * The fullest and the emptiest shard of a window under random placement: tail
@@ -14,17 +20,14 @@ import { shareClasses, type Placement } from './placement.js';
 /** Tail levels up to this are bracketed with the first Bonferroni bound (weighted shares). */
 const FIRST_ORDER_LEVEL = 0.03;
 
-/** Tolerance for turning a relative load back into a count (rounding of t N p). */
-const ROUNDING = 1e-9;
-
 function groups(placement: Placement, relative: number, side: 'high' | 'low'): ThresholdGroup[] {
   return shareClasses(placement).map((c) => {
     const expected = placement.total * c.share;
     const scaled = relative * expected;
     const threshold =
       side === 'high'
-        ? Math.ceil(scaled - ROUNDING * Math.max(1, scaled))
-        : Math.floor(scaled + ROUNDING * Math.max(1, scaled));
+        ? Math.ceil(scaled - EXTREME_ROUNDING * Math.max(1, scaled))
+        : Math.floor(scaled + EXTREME_ROUNDING * Math.max(1, scaled));
     return { share: c.share, count: c.count, threshold };
   });
 }
@@ -43,6 +46,9 @@ export function fullestTail(
 ): TailProbability {
   if (placement.total === 0 || relative <= 0)
     return { logProbability: 0, method: 'certain', relativeError: 0 };
+  const sweep = shareSweep(placement);
+  const swept = sweep && sweptShardTail('high', sweep, relative, options);
+  if (swept) return swept;
   return anyShardTail('high', placement.total, groups(placement, relative, 'high'), options);
 }
 
@@ -58,6 +64,9 @@ export function emptiestTail(
 ): TailProbability {
   if (relative < 0) return { logProbability: -Infinity, method: 'impossible', relativeError: 0 };
   if (placement.total === 0) return { logProbability: 0, method: 'certain', relativeError: 0 };
+  const sweep = shareSweep(placement);
+  const swept = sweep && sweptShardTail('low', sweep, relative, options);
+  if (swept) return swept;
   return anyShardTail('low', placement.total, groups(placement, relative, 'low'), options);
 }
 
@@ -81,11 +90,13 @@ export function fullestQuantile(placement: Placement, level: number): number {
   // within S1^2/2 of it) is close enough and costs one pass over the shards.
   const firstOrder = placement.shares !== null && 1 - level <= FIRST_ORDER_LEVEL;
   const logBound = Math.log1p(-level);
+  const logShards = Math.log(placement.shardCount);
   // Above zero while t is below the quantile (the tail still exceeds 1 - level).
   const excess = (quick: boolean) => (t: number) =>
     rootGap(
       logBound,
       fullestTail(placement, t, { quick, firstOrder: quick && firstOrder }).logProbability,
+      logShards,
     );
   return searchRelative(placement, excess, 'high');
 }
@@ -99,23 +110,26 @@ export function emptiestQuantile(placement: Placement, level: number): number {
   if (placement.total === 0) return 0;
   const firstOrder = placement.shares !== null && level <= FIRST_ORDER_LEVEL;
   const logBound = Math.log(level);
+  const logShards = Math.log(placement.shardCount);
   // Above zero while u is below the quantile: P(min r <= u) < level.
   const shortfall = (quick: boolean) => (u: number) =>
     -rootGap(
       logBound,
       emptiestTail(placement, u, { quick, firstOrder: quick && firstOrder }).logProbability,
+      logShards,
     );
   return searchRelative(placement, shortfall, 'low');
 }
 
 /**
- * sqrt(-log bound) - sqrt(-log tail), signed: positive while the tail is above the bound.
- * The log tail of an extreme falls about quadratically in the distance from the fair share,
- * so its root is nearly straight and interpolation converges in a few steps.
+ * sqrt(log m - log bound) - sqrt(log m - log tail), signed: positive while the tail is above
+ * the bound. The tail of an extreme is about m times one shard's tail, whose log falls
+ * about quadratically in the distance from the fair share; so the root of the log of the
+ * tail per shard is nearly straight in the load and interpolation converges in a few steps.
  */
-function rootGap(logBound: number, logTail: number): number {
+function rootGap(logBound: number, logTail: number, logShards: number): number {
   const root = (x: number) => Math.sign(x) * Math.sqrt(Math.abs(x));
-  return root(-logBound) - root(-logTail);
+  return root(logShards - logBound) - root(logShards - logTail);
 }
 
 /** The quick search stops at this relative width (the accurate one starts from there)... */
@@ -124,14 +138,17 @@ const QUICK_WIDTH = 1e-6;
 const QUICK_GAP = 3e-3;
 /**
  * Weighted shares: the answer is one shard's breakpoint, or, where breakpoints crowd closer
- * than this relative width, the upper end of a bracket this narrow.
+ * than this relative width, the upper end of a bracket this narrow (an upper bound of the
+ * quantile; 0.1 request at a fair share of 10 000). With 1e5 shards and N = 1e9 a few
+ * shards carry the tail and each of their threshold steps moves it by about 0.5%, so no
+ * estimate is better than about 2e-5 there and every halving below that costs a full pass.
  */
-const ANSWER_WIDTH = 1e-6;
+const ANSWER_WIDTH = 1e-5;
 
 /**
  * Smallest relative load t at which `gap(t)` stops being positive, where gap falls with t
  * (positive below the answer). For equal shares the answer is a whole count; for weighted
- * shares it is the breakpoint of one shard's threshold, or located to a relative 1e-6
+ * shares it is the breakpoint of one shard's threshold, or located to a relative 1e-5
  * where breakpoints crowd closer than that.
  */
 function searchRelative(
@@ -179,33 +196,61 @@ function searchRelative(
   // First guess from the normal law of the most spread shard, z = sqrt(2 ln(1000 m)) standard
   // deviations out (a family-wise level near 1e-3); the bracket grows from there if needed.
   const guess = Math.sqrt(2 * Math.log(1000 * placement.shardCount) * step);
-  const b: Bracket = { lo: floorT, hi: 1, gapLo: NaN, gapHi: NaN, latest: 0 };
+  const b: Bracket = {
+    lo: floorT,
+    hi: 1,
+    gapLo: NaN,
+    gapHi: NaN,
+    latest: 0,
+    stalls: 0,
+    recent: [],
+  };
+  const quick = (t: number) => probe(quickGap, b, t);
   if (side === 'high') {
     b.hi = 1 + Math.max(step, guess);
-    b.gapHi = quickGap(b.hi);
-    b.gapLo = quickGap(1);
+    b.gapHi = quick(b.hi);
+    // The second point also in the tail, where the gap is nearly straight; t = 1 (the
+    // fair share, always reached) only when that is still past the answer.
+    const inner = 1 + 0.6 * (b.hi - 1);
+    const gapInner = b.gapHi > 0 ? NaN : quick(inner);
+    if (gapInner > 0) {
+      b.lo = inner;
+      b.gapLo = gapInner;
+    } else if (b.gapHi <= 0) {
+      b.hi = inner;
+      b.gapHi = gapInner;
+      b.gapLo = quick(1);
+    } else b.gapLo = quick(1);
     while (b.gapHi > 0) {
       b.lo = b.hi;
       b.gapLo = b.gapHi;
       b.hi = 1 + 2 * (b.hi - 1);
       if (b.hi > 1e12) break;
-      b.gapHi = quickGap(b.hi);
+      b.gapHi = quick(b.hi);
     }
   } else {
-    b.gapLo = quickGap(0);
+    b.gapLo = quick(0);
     if (!(b.gapLo > 0)) return 0;
-    b.hi = 1;
-    b.gapHi = quickGap(1);
+    // As on the high side: two points in the tail first, u = 1 only when both are short.
     const low = Math.max(0, 1 - guess);
-    if (low > 0) {
-      const gapLow = quickGap(low);
-      if (gapLow > 0) {
-        b.lo = low;
-        b.gapLo = gapLow;
+    const gapLow = low > 0 ? quick(low) : b.gapLo;
+    if (gapLow > 0) {
+      b.lo = low;
+      b.gapLo = gapLow;
+      const inner = 1 - 0.6 * (1 - low);
+      const gapInner = quick(inner);
+      if (gapInner > 0) {
+        b.lo = inner;
+        b.gapLo = gapInner;
+        b.hi = 1;
+        b.gapHi = quick(1);
       } else {
-        b.hi = low;
-        b.gapHi = gapLow;
+        b.hi = inner;
+        b.gapHi = gapInner;
       }
+    } else {
+      b.hi = low;
+      b.gapHi = gapLow;
     }
   }
   // The quick phase stops at a narrow bracket, or once an end is within QUICK_GAP of the
@@ -219,42 +264,36 @@ function searchRelative(
     i++
   )
     narrowOnce(quickGap, b);
-  // Full accuracy from a bracket around the quick answer c: the accurate gap at c, over the
-  // local slope of the quick gap, says how far off c is (the quick gap is the first
-  // Bonferroni bound, off by about the level itself); the bracket grows if that was short.
-  const slope = (b.gapLo - b.gapHi) / Math.max(b.hi - b.lo, 1e-300);
-  const center = Math.abs(b.gapLo) < Math.abs(b.gapHi) ? b.lo : b.hi;
-  const gapCenter = accurateGap(center);
-  const offset =
-    Number.isFinite(slope) && slope > 0 && Number.isFinite(gapCenter)
-      ? (2 * Math.abs(gapCenter)) / slope
-      : 2e-3 * center;
-  let width = Math.max(QUICK_WIDTH * center, offset);
+  // Full accuracy from the quick answer: the secant root of the last two quick points
+  // (the accurate gap runs parallel to the quick one, which is the first Bonferroni bound,
+  // off by about the level itself). Steps away from it double until the accurate gap changes
+  // sign, starting at half of ANSWER_WIDTH, so a good estimate settles in two passes.
+  const [p, q] = b.recent;
+  const secant =
+    q !== undefined && p.gap !== q.gap ? p.t - (p.gap * (p.t - q.t)) / (p.gap - q.gap) : NaN;
+  const estimate =
+    secant > b.lo && secant < b.hi ? secant : Math.abs(b.gapLo) < Math.abs(b.gapHi) ? b.lo : b.hi;
+  b.recent = [];
   b.latest = 0;
-  if (gapCenter > 0) {
-    b.lo = center;
-    b.gapLo = gapCenter;
-    b.hi = center + width;
-    b.gapHi = accurateGap(b.hi);
-    while (b.gapHi > 0) {
-      b.lo = b.hi;
-      b.gapLo = b.gapHi;
-      width *= 4;
-      b.hi += width;
-      b.gapHi = accurateGap(b.hi);
+  b.stalls = 0;
+  const settle = (t: number) => probe(accurateGap, b, t);
+  const gapEstimate = settle(estimate);
+  let stride = (ANSWER_WIDTH * estimate) / 2;
+  // Outward from the estimate (up while the gap is positive, else down) until it changes sign.
+  const up = gapEstimate > 0;
+  let inner = estimate;
+  let gapInner = gapEstimate;
+  for (;;) {
+    const t = up ? inner + stride : Math.max(floorT, inner - stride);
+    const g = settle(t);
+    if (up ? !(g > 0) : g > 0 || t === floorT) {
+      if (up) Object.assign(b, { lo: inner, gapLo: gapInner, hi: t, gapHi: g });
+      else Object.assign(b, { lo: t, gapLo: g, hi: inner, gapHi: gapInner });
+      break;
     }
-  } else {
-    b.hi = center;
-    b.gapHi = gapCenter;
-    b.lo = Math.max(floorT, center - width);
-    b.gapLo = accurateGap(b.lo);
-    while (b.lo > floorT && !(b.gapLo > 0)) {
-      b.hi = b.lo;
-      b.gapHi = b.gapLo;
-      width *= 4;
-      b.lo = Math.max(floorT, b.lo - width);
-      b.gapLo = accurateGap(b.lo);
-    }
+    inner = t;
+    gapInner = g;
+    stride *= 2;
   }
   // The tail only changes where some t N p_i is a whole count: narrow until exactly one
   // shard's threshold changes between the ends; the answer is then its breakpoint.
@@ -280,6 +319,11 @@ function singleBreakpoint(
   hi: number,
   side: 'high' | 'low',
 ): number | null {
+  // About N (hi - lo) thresholds change in the bracket (sum_i N p_i (hi - lo)); with more
+  // than 64 expected, one alone has a chance below e^-60.
+  if (placement.total * (hi - lo) > 64) return null;
+  const sweep = shareSweep(placement);
+  if (sweep !== null) return sweptSingleBreakpoint(sweep, lo, hi, side);
   const low = groups(placement, lo, side);
   const high = groups(placement, hi, side);
   let changed = -1;
@@ -296,6 +340,25 @@ function singleBreakpoint(
     : high[changed].threshold / expected;
 }
 
+/** singleBreakpoint over a sweep's sorted shares, without building groups. O(m). */
+function sweptSingleBreakpoint(
+  sweep: ShareSweep,
+  lo: number,
+  hi: number,
+  side: 'high' | 'low',
+): number | null {
+  let found: number | null = null;
+  for (let i = 0; i < sweep.shares.length; i++) {
+    const expected = sweep.total * sweep.shares[i];
+    const a = thresholdAt(side, lo * expected);
+    const b = thresholdAt(side, hi * expected);
+    if (a === b) continue;
+    if (found !== null || Math.abs(b - a) !== 1) return null;
+    found = side === 'high' ? (b - 1) / expected : b / expected;
+  }
+  return found;
+}
+
 /** A bracket [lo, hi] of a falling gap: gap(lo) > 0 >= gap(hi). */
 interface Bracket {
   lo: number;
@@ -304,24 +367,45 @@ interface Bracket {
   gapHi: number;
   /** Which end the latest point replaced (1 high, -1 low, 0 none yet). */
   latest: number;
+  /** Consecutive steps that did not halve the gap. */
+  stalls: number;
+  /** The last two points evaluated, newest first (true gaps, unlike the rescaled ends). */
+  recent: { t: number; gap: number }[];
+}
+
+/** The gap at t, remembered as the bracket's newest point. */
+function probe(gap: (t: number) => number, b: Bracket, t: number): number {
+  const value = gap(t);
+  b.recent.unshift({ t, gap: value });
+  b.recent.length = Math.min(b.recent.length, 2);
+  return value;
 }
 
 /**
- * One step of regula falsi with the Anderson-Bjorck modification (Anderson and Bjorck 1973,
- * "A new high order method of regula falsi type", BIT 13): when the new point lands on the
- * same side as the previous one, the kept end's gap is scaled by 1 - g_new / g_previous, so
- * the bracket closes from both sides with order about 1.7 where the gap is smooth (many
- * shards). Where a gap is not finite, or the tail is a coarse step function (few shards)
- * and a step keeps most of the bracket, the step is a bisection. One gap per step.
+ * One step of a safeguarded secant search. The secant through the two latest points is
+ * taken when it lands inside the bracket (order about 1.6 where the gap is smooth, from
+ * either side); otherwise regula falsi with the Anderson-Bjorck modification (Anderson and
+ * Bjorck 1973, "A new high order method of regula falsi type", BIT 13: when the new point
+ * lands on the same side as the previous one, the kept end's gap is scaled by
+ * 1 - g_new / g_previous). Where gaps are not finite, or two steps in a row failed to halve
+ * the gap (the tail is a coarse step function there: few shards), the step is a bisection.
+ * One gap per step.
  */
 function narrowOnce(gap: (t: number) => number, b: Bracket): void {
   const width = b.hi - b.lo;
   let mid = (b.lo + b.hi) / 2;
-  if (Number.isFinite(b.gapLo) && Number.isFinite(b.gapHi) && b.gapLo > b.gapHi) {
-    const falsi = b.lo + width * (b.gapLo / (b.gapLo - b.gapHi));
-    if (falsi > b.lo && falsi < b.hi) mid = falsi;
+  const inside = (t: number) => t > b.lo && t < b.hi;
+  if (b.stalls < 2) {
+    const [p, q] = b.recent;
+    const secant =
+      q !== undefined && p.gap !== q.gap ? p.t - (p.gap * (p.t - q.t)) / (p.gap - q.gap) : NaN;
+    if (inside(secant)) mid = secant;
+    else if (Number.isFinite(b.gapLo) && Number.isFinite(b.gapHi) && b.gapLo > b.gapHi) {
+      const falsi = b.lo + width * (b.gapLo / (b.gapLo - b.gapHi));
+      if (inside(falsi)) mid = falsi;
+    }
   }
-  const value = gap(mid);
+  const value = probe(gap, b, mid);
   if (value > 0) {
     if (b.latest === -1) {
       const m = 1 - value / b.gapLo;
@@ -339,12 +423,10 @@ function narrowOnce(gap: (t: number) => number, b: Bracket): void {
     b.gapHi = value;
     b.latest = 1;
   }
-  // A step function can defeat interpolation: then the ends are forgotten as if unknown,
-  // and the next step bisects.
-  if (b.hi - b.lo > 0.9 * width) {
-    if (b.latest === 1) b.gapLo = NaN;
-    else b.gapHi = NaN;
-  }
+  // A stall: the step did not halve the gap of the point before it.
+  const before = b.recent[1];
+  b.stalls =
+    before !== undefined && !(Math.abs(value) <= 0.5 * Math.abs(before.gap)) ? b.stalls + 1 : 0;
 }
 
 /**

@@ -1,0 +1,1162 @@
+import { logBinomialDensity, logPoissonDensity } from './discrete-densities.js';
+import { EXTREME_ROUNDING, type Placement } from './placement.js';
+import {
+  logBinomialAtLeast,
+  logBinomialAtMost,
+  logPoissonAtLeast,
+  logPoissonAtMost,
+} from './tails.js';
+
+/**
+ * Sums over many weighted shards of their single-shard tails at one relative load, with no
+ * special-function call per shard.
+ *
+ * The question "does some shard reach t?" gives shard i the threshold k_i = ceil(t N p_i)
+ * (side high) or floor(t N p_i) (side low). Every shard with threshold k has its position
+ * x_i = t N p_i within one count of it, so its tail is the tail at the middle of that count,
+ * x_c = k -+ 1/2, moved by e_i = x_i - x_c (|e_i| <= 1/2) along the law's parameter. The move
+ * is a short Taylor series whose coefficients are closed-form:
+ * d/dlambda P(Y >= k) = P(Y = k - 1) for Poisson(lambda), and
+ * d/dp P(X >= k) = N P(X' = k - 1) with X' ~ Binomial(N - 1, p); each further derivative is
+ * a backward difference of the densities (d/dp of a Binomial(M, p) density at j is
+ * M [P_{M-1}(j - 1) - P_{M-1}(j)]; d/dlambda of a Poisson density is P(j - 1) - P(j)). So
+ *   T(k, x_c + e) = T(k, x_c) (1 + sum_n a_n(k) e^n),  a_n = T^(n) (dtheta/de)^n / (n! T),
+ *   log T(k, x_c + e) = g_0(k) + sum_n b_n(k) e^n  (the series of log(1 + A)),
+ * each cut where its next term is below 1e-11 at |e| = 1/2. The a-series gives the tail
+ * itself (one exponential per threshold, not per shard), the b-series its elasticity; where
+ * the a-series does not settle in 16 terms the tail is exp(g_0 + B(e)).
+ *
+ * g_0, b_n and a_n are smooth in k. Where the thresholds of all shards span few counts,
+ * every count is a node (exact tails there; a count's positions are cut into up to 16 parts
+ * where the series needs it). Otherwise they are interpolated in log(k + 1) by the
+ * barycentric formula through 17 to 65 exact nodes at rounded Chebyshev points (checked
+ * against exact nodes halfway between), and tabulated as cubic cells of about 2% relative
+ * width (checked against the interpolant at every cell's midpoint). A sweep is refused
+ * (null: the grouped engine answers) when a check misses by more than 1e-9.
+ *
+ * A sweep costs about 25 exact tails plus a few dozen flops per distinct threshold and per
+ * shard; shards are walked in ascending share, so thresholds and cells only move forward.
+ * (Method ours; tested against the per-shard tails of tails.ts and the grouped engine.)
+ */
+
+export type Side = 'high' | 'low';
+
+/** The law of one shard's count in a sweep. */
+export type SweepLaw =
+  | { readonly kind: 'binomial' }
+  /** Poisson with mean rate * share (the pieces of Levin's representation). */
+  | { readonly kind: 'poisson'; readonly rate: number };
+
+/** Weighted shares sorted for sweeping. */
+export interface ShareSweep {
+  readonly total: number;
+  /** Shares in ascending order, all above zero. */
+  readonly shares: Float64Array;
+  /** prefix[i] = sum of the i smallest shares. */
+  readonly prefix: Float64Array;
+}
+
+/** Fewer shards than this are left to the grouped engine (exact where affordable). */
+export const SWEEP_FROM = 500;
+
+const sweepCache = new WeakMap<Float64Array, ShareSweep | null>();
+
+/**
+ * The sweep of a weighted placement, or null when shares are equal, the shards are few, a
+ * share is zero, or the largest share is above 1e-2 (the grouped engine handles those).
+ * O(m log m) once per placement (cached).
+ */
+export function shareSweep(placement: Placement): ShareSweep | null {
+  const shares = placement.shares;
+  if (shares === null || placement.shardCount < SWEEP_FROM) return null;
+  const cached = sweepCache.get(shares);
+  if (cached !== undefined && cached?.total === placement.total) return cached;
+  const sorted = Float64Array.from(shares).sort();
+  const sweep =
+    sorted[0] > 0 && sorted[sorted.length - 1] <= 1e-2
+      ? { total: placement.total, shares: sorted, prefix: prefixSums(sorted) }
+      : null;
+  sweepCache.set(shares, sweep);
+  return sweep;
+}
+
+function prefixSums(values: Float64Array): Float64Array {
+  const prefix = new Float64Array(values.length + 1);
+  for (let i = 0; i < values.length; i++) prefix[i + 1] = prefix[i] + values[i];
+  return prefix;
+}
+
+/**
+ * At a fixed relative load a shard's tail falls as its share grows (on both sides: the
+ * relative spread of its count shrinks as 1 / sqrt(N p)), up to the lattice wobble of one
+ * count. So a walk in ascending share can stop once a tail is this far (in log) below the
+ * largest so far: each shard left out is below e^-40 of that tail.
+ */
+export const PRUNE_EXACT = 40;
+/** A looser margin for bracketing a quantile (answers are settled with PRUNE_EXACT). */
+export const PRUNE_QUICK = 15;
+
+/** The threshold of a shard whose threshold position is x, rounded as the grouped engine does. */
+export function thresholdAt(side: Side, x: number): number {
+  return side === 'high'
+    ? Math.ceil(x - EXTREME_ROUNDING * Math.max(1, x))
+    : Math.floor(x + EXTREME_ROUNDING * Math.max(1, x));
+}
+
+/** Largest Taylor order in e. */
+const MAX_ORDER = 16;
+/** A term of an e-series below this (at the largest |e|) ends it. */
+const SERIES_TAIL = 1e-11;
+/** Thresholds spanning at most this many counts make every count a node. */
+const DIRECT_COUNTS = 48;
+/** Up to this many counts, direct nodes are the fallback when the smooth interpolant fails. */
+const DIRECT_FALLBACK = 1024;
+/** Largest number of parts a direct bucket is cut into. */
+const MAX_PARTS = 16;
+/** Interpolants tried, by number of Chebyshev intervals. */
+const SMOOTH_DEGREES = [16, 32, 64];
+/** An interpolant or a cell off by more than this at a check (log tail, series) is refused. */
+const CHECK = 1e-9;
+/** Relative width of the cubic cells tabulated from the smooth interpolant. */
+const TABLE_WIDTH = 0.02;
+
+/** A full node: [g_0, b_1..b_MAX, a_1..a_MAX]. */
+const FULL = 1 + 2 * MAX_ORDER;
+
+const densityScratch = new Float64Array(MAX_ORDER * MAX_ORDER);
+
+/**
+ * The full node at threshold k and expansion centre xc (a position), or false when a
+ * density or tail is not finite (the sweep is then refused).
+ */
+function nodeAt(
+  side: Side,
+  law: SweepLaw,
+  total: number,
+  scale: number,
+  k: number,
+  xc: number,
+  out: Float64Array,
+): boolean {
+  const share = xc / scale;
+  const sign = side === 'high' ? 1 : -1;
+  // The densities differenced: high side from k - 1 down, low side from k down.
+  const j0 = side === 'high' ? k - 1 : k;
+  let g0: number;
+  let logBase: number;
+  const density = densityScratch;
+  if (law.kind === 'poisson') {
+    const mean = law.rate * share;
+    g0 = side === 'high' ? logPoissonAtLeast(k, mean) : logPoissonAtMost(k, mean);
+    logBase = logPoissonDensity(j0, mean);
+    // The same densities for every order: P(j0 - j) = P(j0 - j + 1) (j0 - j + 1) / mean.
+    let d = 1;
+    for (let j = 0; j < MAX_ORDER; j++) {
+      if (j > 0) d *= Math.max(0, j0 - j + 1) / mean;
+      for (let n = 1; n <= MAX_ORDER; n++) density[(n - 1) * MAX_ORDER + j] = d;
+    }
+  } else {
+    g0 = side === 'high' ? logBinomialAtLeast(k, total, share) : logBinomialAtMost(k, total, share);
+    logBase = logBinomialDensity(j0, total - 1, share);
+    const q = 1 - share;
+    // Row n holds Binomial(N - n, p) densities at j0 - j, relative to the (N - 1, j0) one:
+    // P_{M-1}(i) = P_M(i) (M - i) / (M q) and P_M(i - 1) = P_M(i) i q / ((M - i + 1) p).
+    let head = 1;
+    for (let n = 1; n <= MAX_ORDER; n++) {
+      const trials = total - n;
+      if (n > 1) head *= Math.max(0, trials + 1 - j0) / ((trials + 1) * q);
+      let d = head;
+      for (let j = 0; j < n; j++) {
+        if (j > 0) {
+          const i = j0 - j + 1;
+          d *= (Math.max(0, i) * q) / ((trials - i + 1) * share);
+        }
+        density[(n - 1) * MAX_ORDER + j] = d;
+      }
+    }
+  }
+  if (!Number.isFinite(g0)) return false;
+  out[0] = g0;
+  const ratio = j0 >= 0 && Number.isFinite(logBase) ? Math.exp(logBase - g0) : 0;
+  // a_n: (dtheta/de)^n, times the falling factorial N (N-1)...(N-n+1) for the binomial, over n!.
+  const step = law.kind === 'poisson' ? law.rate / scale : 1 / scale;
+  const A = 1 + MAX_ORDER;
+  let factor = 1;
+  for (let n = 1; n <= MAX_ORDER; n++) {
+    factor *= (step * (law.kind === 'poisson' ? 1 : total - n + 1)) / n;
+    // (E^-1 - 1)^(n-1) applied at j0: sum_j C(n-1, j) (-1)^(n-1-j) P(j0 - j).
+    let difference = 0;
+    let binomial = 1;
+    for (let j = 0; j < n; j++) {
+      if (j > 0) binomial = (binomial * (n - j)) / j;
+      const term = binomial * density[(n - 1) * MAX_ORDER + j];
+      difference += (n - 1 - j) % 2 === 0 ? term : -term;
+    }
+    out[A + n - 1] = sign * ratio * factor * difference;
+  }
+  // log(1 + A(e)) = sum b_n e^n: b_n = a_n - (1/n) sum_{j<n} j b_j a_{n-j}.
+  for (let n = 1; n <= MAX_ORDER; n++) {
+    let convolution = 0;
+    for (let j = 1; j < n; j++) convolution += j * out[j] * out[A + n - j - 1];
+    out[n] = out[A + n - 1] - convolution / n;
+  }
+  for (let n = 0; n < FULL; n++) if (!Number.isFinite(out[n])) return false;
+  return true;
+}
+
+/** Orders kept of the two series: b (log tail) and a (tail; 0 when it does not settle). */
+interface Orders {
+  readonly b: number;
+  readonly a: number;
+}
+
+/** The order a series (at offset `from` of a full node) needs at |e| <= h, or MAX_ORDER. */
+function seriesOrder(node: Float64Array, from: number, h: number): number {
+  let order = MAX_ORDER;
+  while (order > 1 && Math.abs(node[from + order - 1]) * h ** order < SERIES_TAIL) order--;
+  return order;
+}
+
+function ordersOf(node: Float64Array, h: number, seen: Orders): Orders {
+  const b = Math.max(seen.b, seriesOrder(node, 1, h));
+  const a = seen.a < 0 ? -1 : seriesOrder(node, 1 + MAX_ORDER, h);
+  return { b, a: a < 0 || a >= MAX_ORDER ? -1 : Math.max(seen.a, a) };
+}
+
+/** Width of a packed node: [g_0, b_1..b_B, a_1..a_A]. */
+function packedWidth(orders: Orders): number {
+  return 1 + orders.b + Math.max(orders.a, 0);
+}
+
+function pack(full: Float64Array, orders: Orders, out: Float64Array, at: number): void {
+  out[at] = full[0];
+  for (let n = 1; n <= orders.b; n++) out[at + n] = full[n];
+  for (let n = 1; n <= orders.a; n++) out[at + orders.b + n] = full[MAX_ORDER + n];
+}
+
+/** B(e) of a packed node. */
+function bSeries(node: ArrayLike<number>, orders: Orders, e: number): number {
+  let s = 0;
+  for (let n = orders.b; n >= 1; n--) s = (s + node[n]) * e;
+  return s;
+}
+
+/** 1 + A(e) of a packed node (exp(B(e)) when there is no a-series). */
+function aSeries(node: ArrayLike<number>, orders: Orders, e: number): number {
+  if (orders.a < 0) return Math.exp(bSeries(node, orders, e));
+  let s = 0;
+  for (let n = orders.a; n >= 1; n--) s = (s + node[orders.b + n]) * e;
+  return 1 + s;
+}
+
+/** Largest disagreement of two packed nodes at e = +-h (log tail, and tail relative). */
+function nodeMiss(x: ArrayLike<number>, y: ArrayLike<number>, orders: Orders, h: number): number {
+  return Math.max(
+    Math.abs(x[0] - y[0]),
+    Math.abs(bSeries(x, orders, h) - bSeries(y, orders, h)),
+    Math.abs(bSeries(x, orders, -h) - bSeries(y, orders, -h)),
+    Math.abs(aSeries(x, orders, h) / aSeries(y, orders, h) - 1),
+    Math.abs(aSeries(x, orders, -h) / aSeries(y, orders, -h) - 1),
+  );
+}
+
+/**
+ * The coefficients of one sweep. Direct: a packed node for every count from `first` and
+ * every one of `sub` equal parts of its bucket. Cells: cubic cells in the threshold.
+ */
+interface Coefficients {
+  /** The relative load the table was built at (positions e are measured at it). */
+  readonly relative: number;
+  /** The largest |e| its series are good for (1/2, or 2 for a table reused nearby). */
+  readonly reach: number;
+  /** Cells: the threshold range covered. */
+  readonly last: number;
+  readonly orders: Orders;
+  readonly width: number;
+  readonly direct: boolean;
+  readonly first: number;
+  readonly sub: number;
+  /** Largest g_0 over the exact nodes (the scale of the sums). */
+  readonly peak: number;
+  /** Direct: packed nodes at [(k - first) sub + part]. */
+  readonly nodes: Float64Array;
+  /** Cells: start thresholds (ascending). */
+  readonly starts: Int32Array;
+  /** Cells: the Newton nodes y1, y2 (offsets from the start). */
+  readonly y1: Float64Array;
+  readonly y2: Float64Array;
+  /** Cells: per cell and packed component, f0, d1, d2, d3 (Newton form). */
+  readonly newton: Float64Array;
+}
+
+/** Where a count's bucket of positions starts: (k - 1, k] on side high, [k, k + 1) on side low. */
+function bucketBase(side: Side, k: number): number {
+  return side === 'high' ? k - 1 : k;
+}
+
+/** Every count a node, each bucket cut into as few parts as make the series settle. */
+function directCoefficients(
+  side: Side,
+  law: SweepLaw,
+  total: number,
+  scale: number,
+  first: number,
+  last: number,
+): Coefficients | null {
+  const node = new Float64Array(FULL);
+  const counts = last - first + 1;
+  for (let sub = 1; sub <= MAX_PARTS; sub *= 2) {
+    const all = new Float64Array(counts * sub * FULL);
+    let orders: Orders = { b: 1, a: 1 };
+    let peak = -Infinity;
+    for (let i = 0; i < counts && orders.b < MAX_ORDER; i++) {
+      const k = first + i;
+      for (let part = 0; part < sub; part++) {
+        const xc = bucketBase(side, k) + (part + 0.5) / sub;
+        if (!nodeAt(side, law, total, scale, k, xc, node)) return null;
+        orders = ordersOf(node, 0.5 / sub, orders);
+        peak = Math.max(peak, node[0]);
+        all.set(node, (i * sub + part) * FULL);
+      }
+    }
+    if (orders.b >= MAX_ORDER) continue;
+    // Binomial sweeps feed tails only: the a-series is all they read when it settles.
+    if (law.kind === 'binomial' && orders.a > 0) orders = { b: 0, a: orders.a };
+    const width = packedWidth(orders);
+    const nodes = new Float64Array(counts * sub * width);
+    for (let j = 0; j < counts * sub; j++)
+      pack(all.subarray(j * FULL, (j + 1) * FULL), orders, nodes, j * width);
+    const none = new Float64Array(0);
+    return {
+      relative: scale / total,
+      reach: 0.5 / sub,
+      last,
+      orders,
+      width,
+      direct: true,
+      first,
+      sub,
+      peak,
+      nodes,
+      starts: new Int32Array(0),
+      y1: none,
+      y2: none,
+      newton: none,
+    };
+  }
+  return null;
+}
+
+/**
+ * A smooth interpolant of packed nodes over thresholds: barycentric interpolation in
+ * v = log(k + 1) through exact nodes at Chebyshev points of the second kind rounded to whole
+ * counts (Berrut and Trefethen 2004, "Barycentric Lagrange interpolation", SIAM Review
+ * 46(3); the weights for arbitrary distinct nodes, their formula 3.3).
+ */
+interface SmoothFit {
+  /** Nodes, scaled to [-1, 1]. */
+  readonly at: Float64Array;
+  readonly weights: Float64Array;
+  /** Packed node values, `width` numbers each. */
+  readonly values: Float64Array;
+  readonly width: number;
+  readonly centre: number;
+  readonly radius: number;
+}
+
+function smoothValue(fit: SmoothFit, k: number, out: Float64Array): void {
+  const x = (Math.log(k + 1) - fit.centre) / fit.radius;
+  const { at, weights, values, width } = fit;
+  out.fill(0, 0, width);
+  let denominator = 0;
+  for (let j = 0; j < at.length; j++) {
+    const d = x - at[j];
+    if (d === 0) {
+      for (let n = 0; n < width; n++) out[n] = values[j * width + n];
+      return;
+    }
+    const w = weights[j] / d;
+    denominator += w;
+    for (let n = 0; n < width; n++) out[n] += w * values[j * width + n];
+  }
+  for (let n = 0; n < width; n++) out[n] /= denominator;
+}
+
+/**
+ * Cubic cells in the threshold, tabulated from a smooth interpolant that is checked against
+ * exact nodes halfway between its own. Null when no interpolant up to 64 intervals passes.
+ */
+function cellCoefficients(
+  side: Side,
+  law: SweepLaw,
+  total: number,
+  scale: number,
+  first: number,
+  last: number,
+  reach: number,
+): Coefficients | null {
+  const node = new Float64Array(FULL);
+  const centreOf = (k: number) => bucketBase(side, k) + 0.5;
+  const low = Math.log(first + 1);
+  const high = Math.log(last + 1);
+  const centre = (low + high) / 2;
+  const radius = (high - low) / 2;
+  const countAt = (angle: number) =>
+    Math.min(last, Math.max(first, Math.round(Math.exp(centre + radius * Math.cos(angle)) - 1)));
+  for (const degree of SMOOTH_DEGREES) {
+    const ks: number[] = [];
+    for (let j = degree; j >= 0; j--) {
+      const k = countAt((Math.PI * j) / degree);
+      if (ks.length === 0 || k > ks[ks.length - 1]) ks.push(k);
+    }
+    const full: Float64Array[] = [];
+    let orders: Orders = { b: 1, a: 1 };
+    let peak = -Infinity;
+    for (const k of ks) {
+      if (!nodeAt(side, law, total, scale, k, centreOf(k), node)) return null;
+      orders = ordersOf(node, reach, orders);
+      peak = Math.max(peak, node[0]);
+      full.push(Float64Array.from(node));
+    }
+    if (orders.b >= MAX_ORDER) return null;
+    // Binomial sweeps feed tails only: the a-series is all they read when it settles.
+    if (law.kind === 'binomial' && orders.a > 0) orders = { b: 0, a: orders.a };
+    const width = packedWidth(orders);
+    const at = Float64Array.from(ks, (k) => (Math.log(k + 1) - centre) / radius);
+    const weights = new Float64Array(ks.length);
+    for (let j = 0; j < ks.length; j++) {
+      let product = 1;
+      for (let i = 0; i < ks.length; i++) if (i !== j) product *= at[j] - at[i];
+      weights[j] = 1 / product;
+    }
+    const values = new Float64Array(ks.length * width);
+    full.forEach((v, j) => pack(v, orders, values, j * width));
+    const fit: SmoothFit = { at, weights, values, width, centre, radius };
+    // Check halfway between nodes, at eight places spread over the range.
+    const fitted = new Float64Array(width);
+    const exact = new Float64Array(width);
+    let miss = 0;
+    for (let q = 0; q < 8; q++) {
+      const j = Math.floor((degree * (q + 0.5)) / 8);
+      const k = countAt((Math.PI * (j + 0.5)) / degree);
+      if (ks.includes(k)) continue;
+      if (!nodeAt(side, law, total, scale, k, centreOf(k), node)) return null;
+      pack(node, orders, exact, 0);
+      smoothValue(fit, k, fitted);
+      miss = Math.max(miss, nodeMiss(fitted, exact, orders, reach));
+    }
+    if (!(miss <= CHECK)) continue;
+    for (let cellWidth = TABLE_WIDTH; cellWidth > TABLE_WIDTH / 16; cellWidth /= 2) {
+      const co = tabulate(fit, orders, peak, first, last, cellWidth, scale / total, reach);
+      if (co !== null) return co;
+    }
+    return null;
+  }
+  return null;
+}
+
+/** Cell boundaries from `first` to `last` of the given relative width (at least 3 counts). */
+function cellStarts(first: number, last: number, width: number): number[] {
+  const starts: number[] = [];
+  let k = first;
+  while (k < last) {
+    starts.push(k);
+    const next = k + Math.max(3, Math.round(width * Math.max(k, 1)));
+    k = next >= last - 2 ? last : next;
+  }
+  return starts;
+}
+
+/** Cubic cells from a smooth interpolant, or null when a cell misses it at its midpoint. */
+function tabulate(
+  fit: SmoothFit,
+  orders: Orders,
+  peak: number,
+  first: number,
+  last: number,
+  relativeWidth: number,
+  relative: number,
+  reach: number,
+): Coefficients | null {
+  const width = fit.width;
+  const starts = cellStarts(first, last, relativeWidth);
+  const cells = starts.length;
+  const newton = new Float64Array(cells * width * 4);
+  const y1 = new Float64Array(cells);
+  const y2 = new Float64Array(cells);
+  const co: Coefficients = {
+    relative,
+    reach,
+    last,
+    orders,
+    width,
+    direct: false,
+    first,
+    sub: 1,
+    peak,
+    nodes: new Float64Array(0),
+    starts: Int32Array.from(starts),
+    y1,
+    y2,
+    newton,
+  };
+  let f0 = new Float64Array(width);
+  const f1 = new Float64Array(width);
+  const f2 = new Float64Array(width);
+  let f3 = new Float64Array(width);
+  const fitted = new Float64Array(width);
+  const cubic = new Float64Array(width);
+  smoothValue(fit, first, f0);
+  for (let c = 0; c < cells; c++) {
+    const start = starts[c];
+    const end = c + 1 < cells ? starts[c + 1] : last;
+    const a = Math.round((end - start) / 3);
+    const b = Math.round((2 * (end - start)) / 3);
+    const h = end - start;
+    y1[c] = a;
+    y2[c] = b;
+    smoothValue(fit, start + a, f1);
+    smoothValue(fit, start + b, f2);
+    smoothValue(fit, end, f3);
+    for (let n = 0; n < width; n++) {
+      // Newton divided differences through the four nodes 0, a, b, h.
+      const d10 = (f1[n] - f0[n]) / a;
+      const d11 = (f2[n] - f1[n]) / (b - a);
+      const d12 = (f3[n] - f2[n]) / (h - b);
+      const d20 = (d11 - d10) / b;
+      const d21 = (d12 - d11) / (h - a);
+      const base = (c * width + n) * 4;
+      newton[base] = f0[n];
+      newton[base + 1] = d10;
+      newton[base + 2] = d20;
+      newton[base + 3] = (d21 - d20) / h;
+    }
+    const swap = f0;
+    f0 = f3;
+    f3 = swap;
+    const mid = Math.round((start + end) / 2);
+    if (mid === start + a || mid === start + b) continue;
+    smoothValue(fit, mid, fitted);
+    cellValue(co, c, mid, cubic);
+    if (!(nodeMiss(fitted, cubic, orders, reach) <= CHECK)) return null;
+  }
+  return co;
+}
+
+/** The packed node of threshold k from cell c. */
+function cellValue(co: Coefficients, c: number, k: number, out: Float64Array): void {
+  const y = k - co.starts[c];
+  const y1 = co.y1[c];
+  const y2 = co.y2[c];
+  const newton = co.newton;
+  for (let n = 0; n < co.width; n++) {
+    const b = (c * co.width + n) * 4;
+    out[n] =
+      newton[b] + y * (newton[b + 1] + (y - y1) * (newton[b + 2] + (y - y2) * newton[b + 3]));
+  }
+}
+
+/** Reach of a table built to be reused at nearby loads (accurate binomial sweeps). */
+const REUSE_REACH = 2;
+
+const reusable = new WeakMap<ShareSweep, { high?: Coefficients; low?: Coefficients }>();
+
+/**
+ * The coefficients for one sweep. Accurate binomial sweeps (a quantile search settling its
+ * answer probes loads within about 1e-4 of each other) share one table: a shard's tail
+ * T(k, p) does not depend on the load, only its threshold does, so a table built at load
+ * t0 with series good for |e| <= 2 serves any load t at which every shard's offset from its
+ * bucket centre, measured at t0, stays within 2, i.e. 1/2 + x_max |t / t0 - 1| <= 2, and
+ * whose thresholds stay inside the table.
+ */
+function prepare(
+  side: Side,
+  law: SweepLaw,
+  sweep: ShareSweep,
+  relative: number,
+  reuse: boolean,
+): Coefficients | null {
+  const shares = sweep.shares;
+  const scale = relative * sweep.total;
+  if (!(scale > 0)) return null;
+  const first = thresholdAt(side, relative * (sweep.total * shares[0]));
+  const last = thresholdAt(side, relative * (sweep.total * shares[shares.length - 1]));
+  // Thresholds must sit inside the law's support with room for the differences.
+  if (side === 'high' && first < 1) return null;
+  if (side === 'low' && first < 0) return null;
+  if (last > sweep.total - MAX_ORDER - 2) return null;
+  const counts = last - first + 1;
+  const kept = reuse ? reusable.get(sweep)?.[side] : undefined;
+  if (kept !== undefined) {
+    const drift =
+      kept.relative *
+      sweep.total *
+      shares[shares.length - 1] *
+      Math.abs(relative / kept.relative - 1);
+    if (0.5 + drift <= kept.reach && first >= kept.first && last <= kept.last) {
+      return kept;
+    }
+  }
+  if (reuse && counts > DIRECT_COUNTS) {
+    const low = Math.max(side === 'high' ? 1 : 0, first - 3);
+    const high = Math.min(sweep.total - MAX_ORDER - 2, last + 3);
+    const co = cellCoefficients(side, law, sweep.total, scale, low, high, REUSE_REACH);
+    if (co !== null) {
+      const entry = reusable.get(sweep) ?? {};
+      entry[side] = co;
+      reusable.set(sweep, entry);
+      return co;
+    }
+  }
+  return (
+    (counts > DIRECT_COUNTS
+      ? cellCoefficients(side, law, sweep.total, scale, first, last, 0.5)
+      : null) ??
+    (counts <= DIRECT_FALLBACK
+      ? directCoefficients(side, law, sweep.total, scale, first, last)
+      : null)
+  );
+}
+
+/** What a binomial sweep returns: the first Bonferroni sum and what its pair estimate needs. */
+export interface TailSums {
+  /** log sum_i P(X_i reaches its threshold). */
+  readonly logSum: number;
+  /** log sum_i P(...)^2. */
+  readonly logSumSquares: number;
+  /** The two shards with the largest tails: share, threshold and log tail. */
+  readonly top: readonly { share: number; threshold: number; logTail: number }[];
+  /** Some shard reaches its threshold surely. */
+  readonly certain: boolean;
+}
+
+/** What a Poisson sweep returns: the pieces of Levin's representation of "no shard reaches". */
+export interface CutSums {
+  /** log prod_i P(Y_i does not reach its threshold). */
+  readonly logMassSum: number;
+  /** Sums over the shards of the first six cumulants of the cut Y_i. */
+  readonly cumulants: Float64Array;
+  /** Some cut holds nothing (a shard always reaches): the box is empty. */
+  readonly empty: boolean;
+  /** sum_i u0_i = sum_i mean_i dT_i/dmean_i / mass_i: minus d(log mass sum) / d(log s). */
+  readonly uSum: number;
+  /** sum_i |u0_i| (|elasticity_i| + 1): about the size of d(sum u0) / d(log s). */
+  readonly uSpread: number;
+  /** sum_i P(Y_i reaches its threshold): the Poisson twin of the first Bonferroni sum. */
+  readonly tailSum: number;
+}
+
+/** Running sums of a binomial walk; tails are kept as multiples of e^reference. */
+interface TailAccumulator {
+  reference: number;
+  sum: number;
+  squares: number;
+  first: number;
+  firstTail: number;
+  firstK: number;
+  second: number;
+  secondTail: number;
+  secondK: number;
+}
+
+/** Running sums of a Poisson walk. */
+interface CutAccumulator {
+  readonly rate: number;
+  /** edge + 1 - k: 0 on side high (ceiling k - 1), 1 on side low (floor k + 1). */
+  readonly edgeShift: number;
+  logMassSum: number;
+  means: number;
+  readonly u: Float64Array;
+  empty: boolean;
+  uSpread: number;
+  tailSum: number;
+}
+
+function addTail(acc: TailAccumulator, i: number, k: number, scaled: number): void {
+  acc.sum += scaled;
+  acc.squares += scaled * scaled;
+  rankTail(acc, i, k, scaled);
+}
+
+/** Keep shard i among the two largest tails seen. */
+function rankTail(acc: TailAccumulator, i: number, k: number, scaled: number): void {
+  if (scaled > acc.secondTail) {
+    if (scaled > acc.firstTail) {
+      acc.second = acc.first;
+      acc.secondTail = acc.firstTail;
+      acc.secondK = acc.firstK;
+      acc.first = i;
+      acc.firstTail = scaled;
+      acc.firstK = k;
+    } else {
+      acc.second = i;
+      acc.secondTail = scaled;
+      acc.secondK = k;
+    }
+  }
+}
+
+/**
+ * A Poisson shard's cut into Levin's sums: its log mass and the Taylor coefficients
+ * u_0..u_5 of the Riccati solution of truncated-poisson.ts (cutCumulants), written out for
+ * six orders: u' = u (edge + 1 - mean e^t + u), u_0 = mean dT/dmean / mass.
+ */
+function addCut(
+  acc: CutAccumulator,
+  share: number,
+  k: number,
+  tail: number,
+  elasticity: number,
+): void {
+  if (!(tail < 1)) {
+    acc.empty = true;
+    return;
+  }
+  const mass = 1 - tail;
+  acc.tailSum += tail;
+  // log(1 - T): four terms of its series are exact to rounding below 1e-4.
+  acc.logMassSum +=
+    tail < 1e-4 ? -tail * (1 + tail * (0.5 + tail * (1 / 3 + tail * 0.25))) : Math.log1p(-tail);
+  const mean = acc.rate * share;
+  acc.means += mean;
+  const e1 = k + acc.edgeShift;
+  const u0 = (tail * elasticity) / mass;
+  acc.uSpread += Math.abs(u0) * (Math.abs(elasticity) + 1);
+  const u1 = e1 * u0 - mean * u0 + u0 * u0;
+  const u2 = (e1 * u1 - (mean * u1 + mean * u0) + 2 * u0 * u1) / 2;
+  const u3 = (e1 * u2 - (mean * u2 + mean * u1 + (mean / 2) * u0) + (2 * u0 * u2 + u1 * u1)) / 3;
+  const u4 =
+    (e1 * u3 -
+      (mean * u3 + mean * u2 + (mean / 2) * u1 + (mean / 6) * u0) +
+      (2 * u0 * u3 + 2 * u1 * u2)) /
+    4;
+  const u5 =
+    (e1 * u4 -
+      (mean * u4 + mean * u3 + (mean / 2) * u2 + (mean / 6) * u1 + (mean / 24) * u0) +
+      (2 * u0 * u4 + 2 * u1 * u3 + u2 * u2)) /
+    5;
+  const u = acc.u;
+  u[0] += u0;
+  u[1] += u1;
+  u[2] += u2;
+  u[3] += u3;
+  u[4] += u4;
+  u[5] += u5;
+}
+
+/**
+ * One pass over the shards in ascending share: each shard's threshold and tail (and, for
+ * cuts, the tail's elasticity theta dlog T/dtheta = x B'(e), since de/dtheta = x/theta),
+ * handed to the accumulator. At relative load 0 (side low, every threshold 0) the tails are
+ * direct: (1 - p)^N for the binomial, e^-mean for the Poisson. The walk stops at the first
+ * threshold whose g_0 is `margin` below the largest so far (see PRUNE_EXACT) and returns how
+ * many shards it walked; null when the sweep refuses.
+ */
+function walk(
+  side: Side,
+  law: SweepLaw,
+  sweep: ShareSweep,
+  relative: number,
+  margin: number,
+  tails: TailAccumulator | null,
+  cuts: CutAccumulator | null,
+  given: Coefficients | null = null,
+  store: TailState | null = null,
+): number | null {
+  const shares = sweep.shares;
+  const total = sweep.total;
+  if (side === 'low' && relative === 0) {
+    const logTailOf = (share: number) =>
+      law.kind === 'poisson' ? -law.rate * share : total * Math.log1p(-share);
+    const peak = logTailOf(shares[0]);
+    if (tails) tails.reference = peak;
+    for (let i = 0; i < shares.length; i++) {
+      const logTail = logTailOf(shares[i]);
+      if (logTail < peak - margin) return i;
+      if (tails) addTail(tails, i, 0, Math.exp(logTail - peak));
+      if (cuts) addCut(cuts, shares[i], 0, Math.exp(logTail), logTail);
+    }
+    return shares.length;
+  }
+  const co =
+    given ?? prepare(side, law, sweep, relative, law.kind === 'binomial' && margin >= PRUNE_EXACT);
+  if (co === null) return null;
+  // Positions e are measured at the table's own load.
+  const tableRelative = co.relative;
+  const { orders, width, newton, nodes, sub } = co;
+  const reference = tails ? co.peak : 0;
+  if (tails) tails.reference = reference;
+  const high = side === 'high';
+  const base0 = high ? -1 : 0;
+  const cells = co.starts.length;
+  const bOrder = orders.b;
+  const aOrder = orders.a;
+  // A tails walk with an a-series reads g_0 and the a-series only.
+  const skipB = cuts === null && aOrder > 0 ? bOrder : 0;
+  const node = new Float64Array(width);
+  const unrolled = aOrder > 0 && aOrder <= 8 && bOrder <= 6;
+  let a1 = 0;
+  let a2 = 0;
+  let a3 = 0;
+  let a4 = 0;
+  let a5 = 0;
+  let a6 = 0;
+  let a7 = 0;
+  let a8 = 0;
+  let b1 = 0;
+  let b2 = 0;
+  let b3 = 0;
+  let b4 = 0;
+  let b5 = 0;
+  let b6 = 0;
+  let lastG0 = NaN;
+  // The tails accumulator's sums, kept in locals through the loop.
+  let sum = 0;
+  let squares = 0;
+  let first = -1;
+  let firstTail = -1;
+  let firstK = 0;
+  let second = -1;
+  let secondTail = -1;
+  let secondK = 0;
+  let c = 0;
+  let next = cells > 1 ? co.starts[1] : Infinity;
+  let nodeK = -1;
+  let nodePart = -1;
+  let scale = 0;
+  let peak = -Infinity;
+  for (let i = 0; i < shares.length; i++) {
+    const share = shares[i];
+    const x = relative * (total * share);
+    const k = high
+      ? Math.ceil(x - EXTREME_ROUNDING * Math.max(1, x))
+      : Math.floor(x + EXTREME_ROUNDING * Math.max(1, x));
+    let centre: number;
+    let changed = false;
+    if (co.direct) {
+      const from = k + base0;
+      const part = Math.min(sub - 1, Math.max(0, Math.floor((x - from) * sub)));
+      centre = from + (part + 0.5) / sub;
+      if (k !== nodeK || part !== nodePart) {
+        const at = ((k - co.first) * sub + part) * width;
+        for (let n = 0; n < width; n++) node[n] = nodes[at + n];
+        nodeK = k;
+        nodePart = part;
+        changed = true;
+      }
+    } else {
+      centre = k + base0 + 0.5;
+      if (k !== nodeK) {
+        while (k >= next) {
+          c++;
+          next = c + 1 < cells ? co.starts[c + 1] : Infinity;
+        }
+        const y = k - co.starts[c];
+        const y1 = co.y1[c];
+        const y2 = co.y2[c];
+        for (let n = 0; n < width; n = n === 0 ? n + 1 + skipB : n + 1) {
+          const b = (c * width + n) * 4;
+          node[n] =
+            newton[b] + y * (newton[b + 1] + (y - y1) * (newton[b + 2] + (y - y2) * newton[b + 3]));
+        }
+        nodeK = k;
+        changed = true;
+      }
+    }
+    if (changed) {
+      const g0 = node[0];
+      if (g0 > peak) peak = g0;
+      else if (g0 < peak - margin) {
+        if (store) store.count = i;
+        if (tails)
+          storeTails(tails, sum, squares, first, firstTail, firstK, second, secondTail, secondK);
+        return i;
+      }
+      // Neighbouring thresholds differ little in g_0: e^d from six terms of its series
+      // (relative error below 2e-15 for |d| <= 0.02), so one exponential per cell or jump.
+      const d = g0 - lastG0;
+      scale =
+        d > -0.02 && d < 0.02
+          ? scale * (1 + d * (1 + d * (0.5 + d * (1 / 6 + d * (1 / 24 + d * (1 / 120 + d / 720))))))
+          : Math.exp(g0 - reference);
+      lastG0 = g0;
+    }
+    if (changed && unrolled) {
+      // Short series: coefficients in locals, zeros past their orders.
+      a1 = aOrder >= 1 ? node[bOrder + 1] : 0;
+      a2 = aOrder >= 2 ? node[bOrder + 2] : 0;
+      a3 = aOrder >= 3 ? node[bOrder + 3] : 0;
+      a4 = aOrder >= 4 ? node[bOrder + 4] : 0;
+      a5 = aOrder >= 5 ? node[bOrder + 5] : 0;
+      a6 = aOrder >= 6 ? node[bOrder + 6] : 0;
+      a7 = aOrder >= 7 ? node[bOrder + 7] : 0;
+      a8 = aOrder >= 8 ? node[bOrder + 8] : 0;
+      if (cuts) {
+        b1 = node[1];
+        b2 = bOrder >= 2 ? 2 * node[2] : 0;
+        b3 = bOrder >= 3 ? 3 * node[3] : 0;
+        b4 = bOrder >= 4 ? 4 * node[4] : 0;
+        b5 = bOrder >= 5 ? 5 * node[5] : 0;
+        b6 = bOrder >= 6 ? 6 * node[6] : 0;
+      }
+    }
+    const e = tableRelative * (total * share) - centre;
+    let factor: number;
+    let slope = 0;
+    if (unrolled) {
+      // Estrin's scheme: the same polynomial with a dependency depth of four, not eight.
+      const e2 = e * e;
+      factor =
+        1 + e * (a1 + a2 * e + (a3 + a4 * e) * e2 + (a5 + a6 * e + (a7 + a8 * e) * e2) * (e2 * e2));
+      if (cuts) slope = b1 + e * (b2 + e * (b3 + e * (b4 + e * (b5 + e * b6))));
+    } else {
+      if (aOrder > 0) {
+        let s = node[bOrder + aOrder];
+        for (let n = aOrder - 1; n >= 1; n--) s = s * e + node[bOrder + n];
+        factor = 1 + s * e;
+      } else {
+        let s = 0;
+        for (let n = bOrder; n >= 1; n--) s = (s + node[n]) * e;
+        factor = Math.exp(s);
+      }
+      if (cuts) {
+        slope = bOrder * node[bOrder];
+        for (let n = bOrder - 1; n >= 1; n--) slope = slope * e + n * node[n];
+      }
+    }
+    const tail = scale * factor;
+    if (store) {
+      store.threshold[i] = k;
+      store.tail[i] = tail;
+    }
+    if (tails) {
+      sum += tail;
+      squares += tail * tail;
+      if (tail > secondTail) {
+        if (tail > firstTail) {
+          second = first;
+          secondTail = firstTail;
+          secondK = firstK;
+          first = i;
+          firstTail = tail;
+          firstK = k;
+        } else {
+          second = i;
+          secondTail = tail;
+          secondK = k;
+        }
+      }
+    }
+    if (cuts) addCut(cuts, share, k, tail, tableRelative * (total * share) * slope);
+  }
+  if (store) store.count = shares.length;
+  if (tails) storeTails(tails, sum, squares, first, firstTail, firstK, second, secondTail, secondK);
+  return shares.length;
+}
+
+function storeTails(
+  acc: TailAccumulator,
+  sum: number,
+  squares: number,
+  first: number,
+  firstTail: number,
+  firstK: number,
+  second: number,
+  secondTail: number,
+  secondK: number,
+): void {
+  acc.sum = sum;
+  acc.squares = squares;
+  acc.first = first;
+  acc.firstTail = firstTail;
+  acc.firstK = firstK;
+  acc.second = second;
+  acc.secondTail = secondTail;
+  acc.secondK = secondK;
+}
+
+/**
+ * The thresholds and tails (as multiples of e^peak) of the latest accurate binomial sweep
+ * on a reusable table, so that the next sweep on the same table only revisits the shards
+ * whose threshold moved (about N |t2 - t1| of them).
+ */
+interface TailState {
+  readonly co: Coefficients;
+  count: number;
+  readonly threshold: Float64Array;
+  readonly tail: Float64Array;
+  sum: number;
+  squares: number;
+}
+
+const tailStates = new WeakMap<ShareSweep, { high?: TailState; low?: TailState }>();
+
+/**
+ * Binomial sweep: the first Bonferroni sum S1 = sum_i P(X_i reaches its threshold) and what
+ * the pair estimate of S2 needs, X_i ~ Binomial(N, p_i). Null when the sweep cannot be
+ * trusted (the grouped engine then answers). O(nodes + m); on a table kept from the
+ * previous accurate sweep, O(m) threshold comparisons plus a table lookup per moved shard.
+ */
+export function sweepTails(
+  side: Side,
+  sweep: ShareSweep,
+  relative: number,
+  margin = PRUNE_EXACT,
+): TailSums | null {
+  const acc: TailAccumulator = {
+    reference: 0,
+    sum: 0,
+    squares: 0,
+    first: -1,
+    firstTail: -1,
+    firstK: 0,
+    second: -1,
+    secondTail: -1,
+    secondK: 0,
+  };
+  const law: SweepLaw = { kind: 'binomial' };
+  const accurate = margin >= PRUNE_EXACT && !(side === 'low' && relative === 0);
+  const co = accurate ? prepare(side, law, sweep, relative, true) : null;
+  const kept = tailStates.get(sweep)?.[side];
+  if (co !== null && kept !== undefined && kept.co === co) {
+    updateTails(side, sweep, relative, kept, acc);
+  } else {
+    let store: TailState | null = null;
+    if (co !== null && co === reusable.get(sweep)?.[side]) {
+      const m = sweep.shares.length;
+      store = {
+        co,
+        count: 0,
+        threshold: new Float64Array(m),
+        tail: new Float64Array(m),
+        sum: 0,
+        squares: 0,
+      };
+    }
+    const count = walk(side, law, sweep, relative, margin, acc, null, co, store);
+    if (count === null) return null;
+    if (store) {
+      store.sum = acc.sum;
+      store.squares = acc.squares;
+      const entry = tailStates.get(sweep) ?? {};
+      entry[side] = store;
+      tailStates.set(sweep, entry);
+    }
+  }
+  if (!Number.isFinite(acc.sum) || acc.first < 0) return null;
+  const shard = (i: number, k: number, tail: number) => ({
+    share: sweep.shares[i],
+    threshold: k,
+    logTail: acc.reference + Math.log(tail),
+  });
+  const first = shard(acc.first, acc.firstK, acc.firstTail);
+  const second = acc.second < 0 ? first : shard(acc.second, acc.secondK, acc.secondTail);
+  return {
+    logSum: acc.reference + Math.log(acc.sum),
+    logSumSquares: 2 * acc.reference + Math.log(acc.squares),
+    top: [first, second],
+    certain: first.logTail >= 0,
+  };
+}
+
+/**
+ * The kept sweep moved to a new load on the same table: each shard whose threshold changed
+ * gets its tail from the table (positions measured at the table's load), the sums change by
+ * the differences, and the two largest tails are found again. The shards pruned by the kept
+ * sweep stay out (their tails were below e^-40 of the largest and move by a few percent).
+ */
+function updateTails(
+  side: Side,
+  sweep: ShareSweep,
+  relative: number,
+  kept: TailState,
+  acc: TailAccumulator,
+): void {
+  const { co, threshold, tail } = kept;
+  const shares = sweep.shares;
+  const total = sweep.total;
+  const high = side === 'high';
+  const base0 = high ? -1 : 0;
+  const node = new Float64Array(co.width);
+  const orders = co.orders;
+  let c = 0;
+  let sum = kept.sum;
+  let squares = kept.squares;
+  for (let i = 0; i < kept.count; i++) {
+    const x = relative * (total * shares[i]);
+    const k = high
+      ? Math.ceil(x - EXTREME_ROUNDING * Math.max(1, x))
+      : Math.floor(x + EXTREME_ROUNDING * Math.max(1, x));
+    if (k === threshold[i]) continue;
+    while (c + 1 < co.starts.length && k >= co.starts[c + 1]) c++;
+    cellValue(co, c, k, node);
+    const e = co.relative * (total * shares[i]) - (k + base0 + 0.5);
+    const value = Math.exp(node[0] - co.peak) * aSeries(node, orders, e);
+    sum += value - tail[i];
+    squares += value * value - tail[i] * tail[i];
+    tail[i] = value;
+    threshold[i] = k;
+  }
+  kept.sum = sum;
+  kept.squares = squares;
+  acc.reference = co.peak;
+  acc.sum = sum;
+  acc.squares = squares;
+  for (let i = 0; i < kept.count; i++) rankTail(acc, i, threshold[i], tail[i]);
+}
+
+/**
+ * Poisson sweep at Levin's rate s: for each shard the cut "does not reach its threshold"
+ * of Y_i ~ Poisson(s p_i) (a ceiling at k_i - 1 on side high, a floor at k_i + 1 on side
+ * low), its log mass and its first six cumulants, summed. u0 = mean dT/dmean / mass is
+ * mean P(Y = k - 1) / P(Y <= k - 1) on side high and -mean P(Y = k) / P(Y >= k + 1) on side
+ * low (see addCut). O(nodes + m).
+ */
+export function sweepCuts(
+  side: Side,
+  sweep: ShareSweep,
+  relative: number,
+  rate: number,
+): CutSums | null {
+  const acc: CutAccumulator = {
+    rate,
+    edgeShift: side === 'high' ? 0 : 1,
+    logMassSum: 0,
+    means: 0,
+    u: new Float64Array(6),
+    empty: false,
+    uSpread: 0,
+    tailSum: 0,
+  };
+  const count = walk(side, { kind: 'poisson', rate }, sweep, relative, PRUNE_EXACT, null, acc);
+  if (count === null || Number.isNaN(acc.logMassSum)) return null;
+  if (acc.empty)
+    return {
+      logMassSum: -Infinity,
+      cumulants: new Float64Array(6),
+      empty: true,
+      uSum: 0,
+      uSpread: 0,
+      tailSum: Infinity,
+    };
+  // kappa_r = mean - (r - 1)! u_{r-1}; a pruned shard's cut holds all but e^-40 of its
+  // tail's mass, so it is its plain Poisson law (every cumulant the mean).
+  const means = acc.means + rate * (sweep.prefix[sweep.shares.length] - sweep.prefix[count]);
+  const u = acc.u;
+  const cumulants = Float64Array.of(
+    means - u[0],
+    means - u[1],
+    means - 2 * u[2],
+    means - 6 * u[3],
+    means - 24 * u[4],
+    means - 120 * u[5],
+  );
+  return {
+    logMassSum: acc.logMassSum,
+    cumulants,
+    empty: false,
+    uSum: u[0],
+    uSpread: acc.uSpread,
+    tailSum: acc.tailSum,
+  };
+}
