@@ -1,10 +1,10 @@
 import { pnorm } from 'lib-r-math.js';
 import { boxLogProbability } from './box-probability.js';
 import { logChoose } from './discrete-densities.js';
-import { anyShardTail } from './extreme-load.js';
 import { log1mExp, logAddExp } from './log-space.js';
 import { logBinomialAtLeast, logBinomialAtMost, logPoissonAtLeast } from './tails.js';
 import { shareClasses, type Placement } from './placement.js';
+import { emptiestTail } from './shard-extremes.js';
 
 /**
  * The number of empty shards E = #{i : x_i = 0} under random placement (the classical
@@ -167,14 +167,9 @@ export function emptyShardsTail(placement: Placement, observed: number): EmptySh
   if (observed > m - (n > 0 ? 1 : 0)) return { logProbability: -Infinity, method: 'exact' };
   if (placement.shares !== null) {
     if (observed === 1) {
-      return {
-        logProbability: anyShardTail(
-          'low',
-          n,
-          shareClasses(placement).map((c) => ({ ...c, threshold: 0 })),
-        ).logProbability,
-        method: 'exact',
-      };
+      // P(E >= 1) is P(some shard is empty), the emptiest shard's tail at load 0 (which
+      // sweeps the shares when they are many).
+      return { logProbability: emptiestTail(placement, 0).logProbability, method: 'exact' };
     }
     const { mean, variance } = emptyShardMoments(placement);
     // The occupancy count is under-dispersed (variance below its mean); a binomial law

@@ -14,6 +14,7 @@ import {
   PRUNE_QUICK,
   sweepCuts,
   sweepTails,
+  thresholdAt,
   type ShareSweep,
   type TailSums,
 } from './share-sweep.js';
@@ -296,7 +297,7 @@ function pairEstimatedTail(
 }
 
 /** Error allowed for the sweep's per-shard tails (interpolation and series, relative). */
-const SWEEP_ERROR = 1e-8;
+const SWEEP_ERROR = 2e-8;
 
 /**
  * The same question for many weighted shards, answered from share sweeps (share-sweep.ts)
@@ -312,6 +313,10 @@ export function sweptShardTail(
   options: BoxOptions = {},
 ): TailProbability | null {
   const total = sweep.total;
+  // A threshold of 0 on side high (a load within rounding of 0 on the smallest share): that
+  // shard surely reaches it.
+  if (side === 'high' && thresholdAt('high', relative * (total * sweep.shares[0])) <= 0)
+    return { logProbability: 0, method: 'certain', relativeError: 0 };
   // A single question (not a search, which asks about extreme levels) is most often about a
   // load whose tail is not small: the Poisson sweep of the complement then also decides the
   // regime (its tail sum is S1's Poisson twin, within about 1e-4 of it), and the binomial

@@ -271,8 +271,9 @@ function searchRelative(
   const [p, q] = b.recent;
   const secant =
     q !== undefined && p.gap !== q.gap ? p.t - (p.gap * (p.t - q.t)) / (p.gap - q.gap) : NaN;
-  const estimate =
-    secant > b.lo && secant < b.hi ? secant : Math.abs(b.gapLo) < Math.abs(b.gapHi) ? b.lo : b.hi;
+  // Otherwise the evaluated point nearest the root (the ends' gaps may be rescaled).
+  const nearest = q !== undefined && Math.abs(q.gap) < Math.abs(p.gap) ? q : p;
+  const estimate = secant > b.lo && secant < b.hi ? secant : nearest.t;
   b.recent = [];
   b.latest = 0;
   b.stalls = 0;
