@@ -2,6 +2,7 @@
  * Speed of one full window summary (fullest and emptiest p-values, chance ceiling and floor,
  * empty-shard test, spread) at the sizes MODEL.md sets: equal shares m = 1e5, N = 1e9
  * (target < 10 ms) and weighted shares m = 1e5 (target < 50 ms).
+ * Then the weighted summary at m = 1e5 across share spreads and totals (N = 1e6 to 1e9).
  * Run: npx tsx bench/chance.bench.ts   (not part of npm test)
  */
 import { makePlacement } from '../src/chance/placement.js';
@@ -66,3 +67,42 @@ measure(
   () => windowOf(1e5, 1e9, ringWeights(1e5, 4), 5),
   20,
 );
+
+// Weighted universes of 1e5 shards across share spreads and totals: ring hash ranges with
+// 16, 4 and 1 tokens per shard (coefficient of variation 1/4, 1/2 and 1: exponential
+// shares), and shares uniform on [0.5, 1.5]. Demo data; 7 runs each after 3 warm-ups.
+function spreadWeights(m: number, spread: string, seed: number): Float64Array {
+  if (spread !== 'uniform') return ringWeightsWith(m, Number(spread), seed);
+  const draws = new RandomDraws(seed);
+  return Float64Array.from({ length: m }, () => 0.5 + draws.uniform());
+}
+function ringWeightsWith(m: number, tokens: number, seed: number): Float64Array {
+  const draws = new RandomDraws(seed);
+  const weights = new Float64Array(m);
+  for (let i = 0; i < m; i++) {
+    let w = 0;
+    for (let t = 0; t < tokens; t++) w -= Math.log(1 - draws.uniform());
+    weights[i] = w;
+  }
+  return weights;
+}
+console.log('');
+console.log('| weighted, m = 1e5 | N = 1e6 | N = 1e7 | N = 1e8 | N = 1e9 |');
+console.log('| --- | --- | --- | --- | --- |');
+for (const spread of ['uniform', '16', '4', '1']) {
+  const cells: string[] = [];
+  for (const n of [1e6, 1e7, 1e8, 1e9]) {
+    const { placement, counts } = windowOf(1e5, n, spreadWeights(1e5, spread, 7), 8);
+    for (let i = 0; i < 3; i++) summarizeWindow(placement, counts, 0.001);
+    const times: number[] = [];
+    for (let i = 0; i < 7; i++) {
+      const t = performance.now();
+      summarizeWindow(placement, counts, 0.001);
+      times.push(performance.now() - t);
+    }
+    times.sort((a, b) => a - b);
+    cells.push(`${times[3].toFixed(0)} ms`);
+  }
+  const name = spread === 'uniform' ? 'shares uniform on [0.5, 1.5]' : `${spread} tokens per shard`;
+  console.log(`| ${name} | ${cells.join(' | ')} |`);
+}

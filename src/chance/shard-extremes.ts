@@ -72,6 +72,8 @@ export function emptiestTail(
 
 /** The largest expected count over the shards: the scale of one count in relative load. */
 function unit(placement: Placement): number {
+  const sweep = shareSweep(placement);
+  if (sweep !== null) return 1 / Math.max(placement.total * sweep.shares[0], 1e-300);
   let smallest = Infinity;
   for (const c of shareClasses(placement)) smallest = Math.min(smallest, placement.total * c.share);
   return 1 / Math.max(smallest, 1e-300);

@@ -1198,12 +1198,14 @@ export function sweepTails(
   } else {
     let store: TailState | null = null;
     if (co !== null && co === reusable.get(sweep)?.[side]) {
+      // The arrays of the state it replaces are reused (two per side and sweep).
+      const previous = tailStates.get(sweep)?.[side];
       const m = sweep.shares.length;
       store = {
         co,
         count: 0,
-        threshold: new Float64Array(m),
-        tail: new Float64Array(m),
+        threshold: previous?.threshold ?? new Float64Array(m),
+        tail: previous?.tail ?? new Float64Array(m),
         sum: 0,
         squares: 0,
       };
@@ -1278,7 +1280,26 @@ function updateTails(
   acc.reference = co.peak;
   acc.sum = sum;
   acc.squares = squares;
-  for (let i = 0; i < kept.count; i++) rankTail(acc, i, threshold[i], tail[i]);
+  // The two largest tails, in one tight pass.
+  let first = -1;
+  let firstTail = -1;
+  let second = -1;
+  let secondTail = -1;
+  for (let i = 0; i < kept.count; i++) {
+    const value = tail[i];
+    if (value > secondTail) {
+      if (value > firstTail) {
+        second = first;
+        secondTail = firstTail;
+        first = i;
+        firstTail = value;
+      } else {
+        second = i;
+        secondTail = value;
+      }
+    }
+  }
+  for (const i of [second, first]) if (i >= 0) rankTail(acc, i, threshold[i], tail[i]);
 }
 
 /**
