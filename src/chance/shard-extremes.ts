@@ -255,14 +255,15 @@ function searchRelative(
       b.gapHi = gapLow;
     }
   }
-  // The quick phase stops at a narrow bracket, or once an end is within QUICK_GAP of the
-  // bound (root units: about 2% of the tail at level 1e-3): closer than that the quick bound is no
-  // better than the accurate phase that follows, and with many shards its steps are noise.
+  // The quick phase stops at a narrow bracket, or once the latest point is within QUICK_GAP of
+  // the bound (root units: about 2% of the tail at level 1e-3; the true gap, not an end's,
+  // which Anderson-Bjorck steps rescale): closer than that the quick bound is no better than
+  // the accurate phase that follows, and with many shards its steps are noise.
   for (
     let i = 0;
     i < 200 &&
     b.hi - b.lo > QUICK_WIDTH * b.hi &&
-    !(Math.min(Math.abs(b.gapLo), Math.abs(b.gapHi)) < QUICK_GAP);
+    !(Math.abs(b.recent[0]?.gap ?? Infinity) < QUICK_GAP);
     i++
   )
     narrowOnce(quickGap, b);

@@ -321,7 +321,10 @@ interface Coefficients {
   readonly peak: number;
 }
 
-/** Every count a node, each bucket cut into as few parts as make its series settle. */
+/**
+ * Every count a node, each bucket cut into as few parts as make its series settle, for
+ * offsets up to half a part plus `extra` (room for a reused table's drift).
+ */
 function directPart(
   side: Side,
   law: SweepLaw,
@@ -329,6 +332,7 @@ function directPart(
   scale: number,
   first: number,
   last: number,
+  extra: number,
 ): DirectPart | null {
   const node = new Float64Array(FULL);
   const counts = last - first + 1;
@@ -346,7 +350,7 @@ function directPart(
       for (let part = 0; part < sub; part++) {
         const xc = bucketBase(side, k) + (part + 0.5) / sub;
         if (!nodeAt(side, law, total, scale, k, xc, node)) return null;
-        countOrders = ordersOf(node, 0.5 / sub, countOrders);
+        countOrders = ordersOf(node, 0.5 / sub + extra, countOrders);
         parts.push(Float64Array.from(node));
       }
       if (countOrders.b >= MAX_ORDER) continue;
@@ -678,6 +682,8 @@ function usefulLast(side: Side, law: SweepLaw, sweep: ShareSweep, relative: numb
 
 /** Reach of a table built to be reused at nearby loads (accurate binomial sweeps). */
 const REUSE_REACH = 2;
+/** Room a reused table's direct nodes keep beyond half a part for drifting positions. */
+const DIRECT_DRIFT = 0.05;
 /** Thresholds below this are direct nodes when the range is wider than DIRECT_COUNTS. */
 const SPLIT_COUNT = 64;
 
@@ -685,11 +691,12 @@ const reusable = new WeakMap<ShareSweep, { high?: Coefficients; low?: Coefficien
 
 /**
  * The coefficients for one sweep. Accurate binomial sweeps (a quantile search settling its
- * answer probes loads within about 1e-4 of each other) share one table of cells: a shard's
- * tail T(k, p) does not depend on the load, only its threshold does, so a table built at
- * load t0 with series good for |e| <= 2 serves any load t at which every shard's offset
- * from its bucket centre, measured at t0, stays within 2, i.e. 1/2 + x_max |t / t0 - 1| <= 2,
- * and whose thresholds stay inside the table. Null when a part is refused, or on side high
+ * answer probes loads within about 1e-4 of each other) share one table: a shard's tail
+ * T(k, p) does not depend on the load, only its threshold does, so a table built at load t0
+ * with series good for |e| <= 2 (cells) or half a part plus 0.05 (direct nodes) serves any
+ * load t at which every shard's offset from its bucket centre, measured at t0, stays within
+ * that, i.e. 1/2 + x_max |t / t0 - 1| <= 2 and split |t / t0 - 1| <= 0.05, and whose
+ * thresholds stay inside the table. Null when a part is refused, or on side high
  * when some threshold is 0 (that shard surely reaches it; the caller says so).
  */
 function prepare(
@@ -706,24 +713,31 @@ function prepare(
   const first = thresholdAt(side, relative * (total * shares[0]));
   // Thresholds must sit inside the law's support with room for the differences.
   if (side === 'high' && first < 1) return null;
-  const last = usefulLast(side, law, sweep, relative);
   if (side === 'low' && first < 0) return null;
+  const last = usefulLast(side, law, sweep, relative);
   if (last > total - MAX_ORDER - 2) return null;
-  const one = side === 'high' && first === 1;
-  // Direct nodes below SPLIT_COUNT, cells above; all direct when cells would be few.
-  const cut = Math.max(first, SPLIT_COUNT);
-  const split = last - first + 1 <= DIRECT_COUNTS || last - cut < 64 ? last + 1 : cut;
-  const cellsOnly = !one && split === first;
-  const kept = reuse && cellsOnly ? reusable.get(sweep)?.[side] : undefined;
-  if (kept !== undefined) {
-    const drift =
-      kept.relative * total * shares[shares.length - 1] * Math.abs(relative / kept.relative - 1);
-    if (0.5 + drift <= kept.reach && first >= kept.first && last <= kept.last) return kept;
+  const kept = reuse ? reusable.get(sweep)?.[side] : undefined;
+  if (kept !== undefined && first >= kept.first && last <= kept.last) {
+    // Positions drift by x |t / t0 - 1|: at most the split's count in the direct part, the
+    // largest share's position in the cells.
+    const change = Math.abs(relative / kept.relative - 1);
+    const cellsDrift = kept.relative * total * shares[shares.length - 1] * change;
+    if (
+      (kept.cells === null || 0.5 + cellsDrift <= kept.reach) &&
+      kept.split * change <= DIRECT_DRIFT
+    )
+      return kept;
   }
-  const build = (reach: number, low: number, high: number, split: number): Coefficients | null => {
+  const build = (reach: number, extra: number, low: number, high: number): Coefficients | null => {
+    const one = side === 'high' && low === 1;
+    // Direct nodes below SPLIT_COUNT, cells above; all direct when cells would be few.
+    const cut = Math.max(low, SPLIT_COUNT);
+    const split = high - low + 1 <= DIRECT_COUNTS || high - cut < 64 ? high + 1 : cut;
     const directFirst = one ? 2 : low;
     const direct =
-      directFirst < split ? directPart(side, law, total, scale, directFirst, split - 1) : null;
+      directFirst < split
+        ? directPart(side, law, total, scale, directFirst, split - 1, extra)
+        : null;
     if (directFirst < split && direct === null) return null;
     const cells = split <= high ? cellPart(side, law, total, scale, split, high, reach) : null;
     if (split <= high && cells === null) return null;
@@ -739,10 +753,10 @@ function prepare(
       peak: Math.max(direct?.peak ?? -Infinity, cells?.peak ?? -Infinity, one ? 0 : -Infinity),
     };
   };
-  if (reuse && cellsOnly) {
+  if (reuse) {
     // Room for the thresholds to move by a few counts while the table is reused.
-    const low = first - 3;
-    const co = build(REUSE_REACH, low, Math.min(total - MAX_ORDER - 2, last + 3), low);
+    const low = Math.max(side === 'high' ? 1 : 0, first - 3);
+    const co = build(REUSE_REACH, DIRECT_DRIFT, low, Math.min(total - MAX_ORDER - 2, last + 3));
     if (co !== null) {
       const entry = reusable.get(sweep) ?? {};
       entry[side] = co;
@@ -750,7 +764,7 @@ function prepare(
       return co;
     }
   }
-  return build(0.5, first, last, split);
+  return build(0.5, 0, first, last);
 }
 
 /** What a binomial sweep returns: the first Bonferroni sum and what its pair estimate needs. */
@@ -994,7 +1008,8 @@ function walk(
         const j = k - part.first;
         const sub = part.subs[j];
         const from = k + base0;
-        const piece = Math.min(sub - 1, Math.max(0, Math.floor((x - from) * sub)));
+        const x0 = tableRelative * (total * share);
+        const piece = Math.min(sub - 1, Math.max(0, Math.floor((x0 - from) * sub)));
         centre = from + (piece + 0.5) / sub;
         if (k !== nodeK || piece !== nodePart) {
           const at = (part.offsets[j] + piece) * part.width;
@@ -1237,6 +1252,47 @@ export function sweepTails(
 }
 
 /**
+ * One binomial shard's tail from a table, as a multiple of e^peak, for thresholds visited
+ * in ascending order (the cell pointer only moves forward).
+ */
+class TableLookup {
+  private cell = 0;
+  private readonly node = new Float64Array(FULL);
+
+  constructor(
+    private readonly co: Coefficients,
+    private readonly side: Side,
+  ) {}
+
+  binomialTail(k: number, share: number, total: number): number {
+    const co = this.co;
+    if (k === 1 && co.one) return -Math.expm1(total * Math.log1p(-share)) * Math.exp(-co.peak);
+    const x0 = co.relative * (total * share);
+    const from = k + (this.side === 'high' ? -1 : 0);
+    const node = this.node;
+    let centre: number;
+    let orders: Orders;
+    if (k < co.split) {
+      const part = co.direct!;
+      const j = k - part.first;
+      const sub = part.subs[j];
+      const piece = Math.min(sub - 1, Math.max(0, Math.floor((x0 - from) * sub)));
+      centre = from + (piece + 0.5) / sub;
+      const at = (part.offsets[j] + piece) * part.width;
+      for (let n = 0; n < part.width; n++) node[n] = part.nodes[at + n];
+      orders = part.orders;
+    } else {
+      const part = co.cells!;
+      while (this.cell + 1 < part.starts.length && k >= part.starts[this.cell + 1]) this.cell++;
+      cellValue(part, this.cell, k, node);
+      centre = from + 0.5;
+      orders = part.orders;
+    }
+    return Math.exp(node[0] - co.peak) * aSeries(node, orders, x0 - centre);
+  }
+}
+
+/**
  * The kept sweep moved to a new load on the same table: each shard whose threshold changed
  * gets its tail from the table (positions measured at the table's load), the sums change by
  * the differences, and the two largest tails are found again. The shards pruned by the kept
@@ -1253,23 +1309,16 @@ function updateTails(
   const shares = sweep.shares;
   const total = sweep.total;
   const high = side === 'high';
-  const base0 = high ? -1 : 0;
-  const part = co.cells!;
-  const node = new Float64Array(part.width);
-  const orders = part.orders;
-  let c = 0;
   let sum = kept.sum;
   let squares = kept.squares;
+  const lookup = new TableLookup(co, side);
   for (let i = 0; i < kept.count; i++) {
     const x = relative * (total * shares[i]);
     const k = high
       ? Math.ceil(x - EXTREME_ROUNDING * Math.max(1, x))
       : Math.floor(x + EXTREME_ROUNDING * Math.max(1, x));
     if (k === threshold[i]) continue;
-    while (c + 1 < part.starts.length && k >= part.starts[c + 1]) c++;
-    cellValue(part, c, k, node);
-    const e = co.relative * (total * shares[i]) - (k + base0 + 0.5);
-    const value = Math.exp(node[0] - co.peak) * aSeries(node, orders, e);
+    const value = lookup.binomialTail(k, shares[i], total);
     sum += value - tail[i];
     squares += value * value - tail[i] * tail[i];
     tail[i] = value;

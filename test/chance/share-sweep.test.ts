@@ -117,15 +117,18 @@ describe('share sweeps (many weighted shards)', () => {
     expect(failures).toEqual([]);
   });
 
-  it('a sweep moved to a nearby load on its kept table equals a fresh sweep', () => {
-    for (const [m, n] of [
-      [5000, 1e9],
-      [20000, 1e8],
+  it('a sweep moved to a nearby load on its kept table equals a fresh sweep (cells, and direct nodes at small counts)', () => {
+    for (const [m, n, tokens] of [
+      [5000, 1e9, 16],
+      [20000, 1e8, 16],
+      [5000, 1e5, 16],
+      [3000, 3e5, 1],
     ]) {
-      const weights = ringWeights(m, 3);
+      const weights = ringWeights(m, 3, tokens);
       const kept = shareSweep(makePlacement(n, m, weights))!;
       for (const side of ['high', 'low'] as const) {
-        const base = side === 'high' ? 1 + 5.5 / Math.sqrt(n / m) : 1 - 5.5 / Math.sqrt(n / m);
+        const z = Math.min(5.5, 0.8 * Math.sqrt(n / m));
+        const base = side === 'high' ? 1 + z / Math.sqrt(n / m) : 1 - z / Math.sqrt(n / m);
         for (const step of [0, 3e-6, -1e-5, 2e-5, 7e-6]) {
           const relative = base * (1 + step);
           const moved = sweepTails(side, kept, relative)!;
