@@ -103,6 +103,9 @@ for (const spread of ['uniform', '16', '4', '1']) {
     times.sort((a, b) => a - b);
     cells.push(`${times[3].toFixed(0)} ms`);
   }
-  const name = spread === 'uniform' ? 'shares uniform on [0.5, 1.5]' : `${spread} tokens per shard`;
+  const name =
+    spread === 'uniform'
+      ? 'shares uniform on [0.5, 1.5]'
+      : `${spread} token${spread === '1' ? '' : 's'} per shard`;
   console.log(`| ${name} | ${cells.join(' | ')} |`);
 }
