@@ -46,13 +46,13 @@ console.log('| --- | --- | --- | --- |');
 measure('equal shares, m = 1e5, N = 1e9', () => windowOf(1e5, 1e9, null, 1), 50);
 measure('equal shares, m = 1e4, N = 1e6', () => windowOf(1e4, 1e6, null, 2), 50);
 measure('equal shares, m = 64, N = 1e5', () => windowOf(64, 1e5, null, 3), 50);
-// Hash-range sizes of a ring with 16 random tokens per shard: a gamma(16) spread (CV 1/4).
-function ringWeights(m: number, seed: number): Float64Array {
+// Hash-range sizes of a ring with v random tokens per shard: a gamma(v) spread (CV 1/sqrt v).
+function ringWeights(m: number, seed: number, tokensPerShard = 16): Float64Array {
   const tokens = new RandomDraws(seed);
   const weights = new Float64Array(m);
   for (let i = 0; i < m; i++) {
     let w = 0;
-    for (let t = 0; t < 16; t++) w -= Math.log(1 - tokens.uniform());
+    for (let t = 0; t < tokensPerShard; t++) w -= Math.log(1 - tokens.uniform());
     weights[i] = w;
   }
   return weights;
@@ -72,19 +72,9 @@ measure(
 // 16, 4 and 1 tokens per shard (coefficient of variation 1/4, 1/2 and 1: exponential
 // shares), and shares uniform on [0.5, 1.5]. Demo data; 7 runs each after 3 warm-ups.
 function spreadWeights(m: number, spread: string, seed: number): Float64Array {
-  if (spread !== 'uniform') return ringWeightsWith(m, Number(spread), seed);
+  if (spread !== 'uniform') return ringWeights(m, seed, Number(spread));
   const draws = new RandomDraws(seed);
   return Float64Array.from({ length: m }, () => 0.5 + draws.uniform());
-}
-function ringWeightsWith(m: number, tokens: number, seed: number): Float64Array {
-  const draws = new RandomDraws(seed);
-  const weights = new Float64Array(m);
-  for (let i = 0; i < m; i++) {
-    let w = 0;
-    for (let t = 0; t < tokens; t++) w -= Math.log(1 - draws.uniform());
-    weights[i] = w;
-  }
-  return weights;
 }
 console.log('');
 console.log('| weighted, m = 1e5 | N = 1e6 | N = 1e7 | N = 1e8 | N = 1e9 |');

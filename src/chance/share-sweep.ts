@@ -231,6 +231,11 @@ function ordersOf(node: Float64Array, h: number, seen: Orders): Orders {
   return { b, a: a < 0 || a >= MAX_ORDER ? -1 : Math.max(seen.a, a) };
 }
 
+/** Orders that serve both: the longer of each series (no a-series if either has none). */
+function widerOrders(x: Orders, y: Orders): Orders {
+  return { b: Math.max(x.b, y.b), a: x.a < 0 || y.a < 0 ? -1 : Math.max(x.a, y.a) };
+}
+
 /** Width of a packed node: [g_0, b_1..b_B, a_1..a_A]. */
 function packedWidth(orders: Orders): number {
   return 1 + orders.b + Math.max(orders.a, 0);
@@ -359,10 +364,7 @@ function directPart(
       offsets[i + 1] = offsets[i] + sub;
       full.push(...parts);
       for (const v of parts) peak = Math.max(peak, v[0]);
-      orders = {
-        b: Math.max(orders.b, countOrders.b),
-        a: orders.a < 0 || countOrders.a < 0 ? -1 : Math.max(orders.a, countOrders.a),
-      };
+      orders = widerOrders(orders, countOrders);
     }
     if (!done) return null;
   }
@@ -516,10 +518,7 @@ function cellPart(
     const piece = pieceNodes(side, law, total, scale, bounds[j], bounds[j + 1], reach);
     if (piece === null) return null;
     pieces.push(piece);
-    orders = {
-      b: Math.max(orders.b, piece.orders.b),
-      a: orders.a < 0 || piece.orders.a < 0 ? -1 : Math.max(orders.a, piece.orders.a),
-    };
+    orders = widerOrders(orders, piece.orders);
   }
   // Binomial sweeps feed tails only: the a-series is all they read when it settles.
   if (law.kind === 'binomial' && orders.a > 0) orders = { b: 0, a: orders.a };
