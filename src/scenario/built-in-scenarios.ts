@@ -20,14 +20,19 @@ const minute = 60 * second;
  */
 const baseRate = 6400;
 
-const demo: ScenarioDefinition = {
-  name: 'demo',
-  summary:
-    'Lanternfly Tickets seat cache: a hotspot on seat-17 rises at 0:20 and fades by 1:40, seat-42 fails over to seat-43 at 2:30, a lull at 4:20, an uneven spread at 5:00; repeats every 6 minutes',
+/** The seat fleet most drills run on: its shards, equal shares, the base rate, 1 s ticks. */
+const seatFleet = {
   shardIds: seatShardIds,
   shares: { kind: 'equal' },
   requestsPerSecond: baseRate,
   tickMs: second,
+} as const;
+
+const demo: ScenarioDefinition = {
+  name: 'demo',
+  summary:
+    'Lanternfly Tickets seat cache: a hotspot on seat-17 rises at 0:20 and fades by 1:40, seat-42 fails over to seat-43 at 2:30, a lull at 4:20, an uneven spread at 5:00; repeats every 6 minutes',
+  ...seatFleet,
   traffic: { kind: 'count reports' },
   diurnal: { amplitude: 0.2, periodMs: 6 * minute },
   plants: [
@@ -59,15 +64,11 @@ const demo: ScenarioDefinition = {
   cycleMs: 6 * minute,
   suggestedDurationMs: 6 * minute,
 };
-
 const chance: ScenarioDefinition = {
   name: 'chance',
   summary:
     'Lanternfly Tickets seat cache under pure random placement: equal shares, nothing planted',
-  shardIds: seatShardIds,
-  shares: { kind: 'equal' },
-  requestsPerSecond: baseRate,
-  tickMs: second,
+  ...seatFleet,
   traffic: { kind: 'count reports' },
   plants: [],
   suggestedDurationMs: 5 * minute,
@@ -76,10 +77,7 @@ const chance: ScenarioDefinition = {
 const hotspot: ScenarioDefinition = {
   name: 'hotspot',
   summary: 'seat-17 takes 1.5x its fair share from 1:00 to 3:00 (a popular show going on sale)',
-  shardIds: seatShardIds,
-  shares: { kind: 'equal' },
-  requestsPerSecond: baseRate,
-  tickMs: second,
+  ...seatFleet,
   traffic: { kind: 'count reports' },
   plants: [
     {
@@ -98,10 +96,7 @@ const hotspot: ScenarioDefinition = {
 const deadShard: ScenarioDefinition = {
   name: 'dead-shard',
   summary: 'seat-42 serves nothing from 1:00 to 3:00; its traffic spreads over all other shards',
-  shardIds: seatShardIds,
-  shares: { kind: 'equal' },
-  requestsPerSecond: baseRate,
-  tickMs: second,
+  ...seatFleet,
   traffic: { kind: 'count reports' },
   plants: [{ kind: 'dead', shard: 'seat-42', atMs: minute, forMs: 2 * minute }],
   suggestedDurationMs: 4 * minute,
@@ -111,10 +106,7 @@ const failover: ScenarioDefinition = {
   name: 'failover',
   summary:
     'seat-42 dies from 1:00 to 3:00 and its neighbour seat-43 takes all its traffic (2x its share)',
-  shardIds: seatShardIds,
-  shares: { kind: 'equal' },
-  requestsPerSecond: baseRate,
-  tickMs: second,
+  ...seatFleet,
   traffic: { kind: 'count reports' },
   plants: [
     { kind: 'dead', shard: 'seat-42', atMs: minute, forMs: 2 * minute, failoverTo: 'seat-43' },
@@ -151,10 +143,7 @@ const weighted: ScenarioDefinition = {
 const diurnal: ScenarioDefinition = {
   name: 'diurnal',
   summary: 'equal shares, traffic swinging 60% above and below its mean once a day',
-  shardIds: seatShardIds,
-  shares: { kind: 'equal' },
-  requestsPerSecond: baseRate,
-  tickMs: second,
+  ...seatFleet,
   traffic: { kind: 'count reports' },
   diurnal: { amplitude: 0.6, periodMs: 24 * 60 * minute },
   plants: [],
@@ -178,10 +167,7 @@ const hotKey: ScenarioDefinition = {
   name: 'hot-key',
   summary:
     'request events for 16000 performances; from 1:00 to 3:00 the presale code "presale:LFT-7781" takes 1.5% of all traffic (about twice its shard\'s fair share)',
-  shardIds: seatShardIds,
-  shares: { kind: 'equal' },
-  requestsPerSecond: baseRate,
-  tickMs: second,
+  ...seatFleet,
   traffic: performanceTraffic,
   plants: [
     { kind: 'hot key', key: 'presale:LFT-7781', share: 0.015, atMs: minute, forMs: 2 * minute },
@@ -193,10 +179,7 @@ const biasedPartitioner: ScenarioDefinition = {
   name: 'biased-partitioner',
   summary:
     'request events for 16000 performances; from 1:00 to 3:00 a bad partitioner deploy sends 1.8x its fair share of the keys to seat-17',
-  shardIds: seatShardIds,
-  shares: { kind: 'equal' },
-  requestsPerSecond: baseRate,
-  tickMs: second,
+  ...seatFleet,
   traffic: performanceTraffic,
   plants: [
     {
@@ -214,10 +197,7 @@ const keyedFailover: ScenarioDefinition = {
   name: 'keyed-failover',
   summary:
     'request events for 16000 performances; seat-42 dies from 1:00 to 3:00 and its keys fail over to seat-43',
-  shardIds: seatShardIds,
-  shares: { kind: 'equal' },
-  requestsPerSecond: baseRate,
-  tickMs: second,
+  ...seatFleet,
   traffic: performanceTraffic,
   plants: [
     { kind: 'dead', shard: 'seat-42', atMs: minute, forMs: 2 * minute, failoverTo: 'seat-43' },
