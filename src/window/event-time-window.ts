@@ -25,6 +25,21 @@ export interface ClosedWindow {
   readonly late: number;
   /** Records rejected since the previous closed window, by reason. */
   readonly rejected: Readonly<Partial<Record<RejectionReason, number>>>;
+  /**
+   * A stretch without records, longer than `maxQuietWindows`, that ended just before this
+   * window: its windows were not judged one empty window at a time. Absent otherwise.
+   */
+  readonly gapBefore?: QuietGap;
+}
+
+/** A run of windows without a record, skipped as a whole (see {@link ClosedWindow.gapBefore}). */
+export interface QuietGap {
+  /** Start of the first skipped window, epoch ms. */
+  readonly start: number;
+  /** End of the last skipped window, epoch ms. */
+  readonly end: number;
+  /** Windows skipped (start positions, so sliding windows count each hop). */
+  readonly windows: number;
 }
 
 /** Window settings; the CLI turns `--window 10s` etc. into milliseconds. */
@@ -41,10 +56,11 @@ export interface WindowOptions {
   /** `--lateness`: how far the watermark trails the newest timestamp (default 0). */
   readonly latenessMs?: number;
   /**
-   * The most all-zero windows emitted for one quiet stretch (default 10000).
-   * A silent stream is a finding, but a clock jump of a year must not emit
-   * millions of empty windows; the rest are counted in
-   * {@link WindowTotals.quietWindowsSkipped}.
+   * The most all-zero windows closed one by one for a quiet stretch that closes at once
+   * (default 360). A silent stream is a finding, but a jump of event time over hours or
+   * days must not be judged one empty window at a time: a longer stretch is skipped whole
+   * and reported as a gap ({@link ClosedWindow.gapBefore}, {@link WindowTotals.gaps}).
+   * Windows a live source closes on the wall clock close one by one and never count here.
    */
   readonly maxQuietWindows?: number;
 }
@@ -64,6 +80,23 @@ export interface WindowTotals {
   readonly windowsClosed: number;
   /** All-zero windows not emitted because a quiet stretch exceeded the cap. */
   readonly quietWindowsSkipped: number;
+  /** Quiet stretches skipped whole, in order (at most the first {@link keptGaps}). */
+  readonly gaps: readonly QuietGap[];
+  /** Quiet stretches skipped whole, all of them. */
+  readonly gapCount: number;
+  /** Records that missed every covering window, by source partition. */
+  readonly lateByPartition: ReadonlyMap<number, number>;
+}
+
+/** How many skipped gaps the totals keep (the count goes on). */
+export const keptGaps = 20;
+
+/** Event-time progress of one source partition. */
+interface PartitionClock {
+  /** Newest timestamp counted from this partition (-Infinity before its first record). */
+  newest: number;
+  /** Idle partitions do not hold the watermark back until they deliver again. */
+  idle: boolean;
 }
 
 interface OpenWindow {
@@ -71,17 +104,29 @@ interface OpenWindow {
   total: number;
 }
 
-const defaultMaxQuietWindows = 10_000;
+const defaultMaxQuietWindows = 360;
 const smallestGrowingCapacity = 64;
 
 /**
  * Event-time windows over a shard universe. Windows are aligned to multiples
  * of the hop since the Unix epoch (with the default hop: of the window
- * length). The watermark is the newest timestamp seen minus the lateness; a
- * window closes, in start order, once the watermark reaches its end, and is
- * handed to `onClose`. Windows between the first and the last one seen close
- * too, as all-zero windows. Memory is O(m x open windows); per record the
- * work is one id lookup and one typed-array add per covering window.
+ * length).
+ *
+ * Event time is kept per source partition (a Kafka partition; a file, stdin or a scenario
+ * is partition 0). The watermark is the oldest of the active partitions' newest
+ * timestamps, minus the lateness: a window closes, in start order, once every active
+ * partition has passed its end, so records in order within their partition are never
+ * late, whatever the interleaving of partitions. A partition marked idle
+ * ({@link markIdle}) stops holding the others back until it delivers again; a partition
+ * announced with {@link expectPartition} holds them back from before its first record.
+ * With no active partition the newest timestamp of any partition counts. The watermark
+ * never moves back.
+ *
+ * Windows between the first and the last one seen close too, as all-zero windows; a
+ * longer quiet stretch than `maxQuietWindows` closing at once is skipped whole and
+ * reported as a gap. Memory is O(m x open windows); per record the work is one id
+ * lookup and one typed-array add per covering window, plus O(partitions) when the
+ * slowest partition moves.
  */
 export class EventTimeWindows {
   /** Window length in ms. */
@@ -107,6 +152,14 @@ export class EventTimeWindows {
   private cachedWindow: OpenWindow | null = null;
   private pendingLate = 0;
   private pendingRejected: Partial<Record<RejectionReason, number>> = {};
+  private pendingGap: QuietGap | null = null;
+  /** Event time per source partition, indexed by partition number. */
+  private readonly clocks: (PartitionClock | undefined)[] = [];
+  private partitionCount = 0;
+  /** The oldest newest timestamp among active partitions; -Infinity when one has none yet. */
+  private slowestActive = Number.NEGATIVE_INFINITY;
+  private activePartitions = 0;
+  private readonly lateByPartition = new Map<number, number>();
   private readonly running = {
     records: 0,
     load: 0,
@@ -115,6 +168,8 @@ export class EventTimeWindows {
     rejected: {} as Partial<Record<RejectionReason, number>>,
     windowsClosed: 0,
     quietWindowsSkipped: 0,
+    gaps: [] as QuietGap[],
+    gapCount: 0,
   };
 
   /**
@@ -171,9 +226,67 @@ export class EventTimeWindows {
     this.maxQuietWindows = maxQuietWindows;
   }
 
-  /** Newest timestamp seen minus the lateness; -Infinity before any record. */
+  /**
+   * The oldest active partition's newest timestamp minus the lateness (see the class
+   * comment); -Infinity before any record. Never moves back.
+   */
   get watermark(): number {
     return this.currentWatermark;
+  }
+
+  /** Newest timestamp counted from any partition; -Infinity before any record. */
+  get newestSeen(): number {
+    return this.newest;
+  }
+
+  /** Newest timestamp counted from `partition`; -Infinity before its first record. */
+  newestOf(partition: number): number {
+    return this.clocks[partition]?.newest ?? Number.NEGATIVE_INFINITY;
+  }
+
+  /** Partitions marked idle, in order. */
+  get idlePartitions(): number[] {
+    const idle: number[] = [];
+    this.clocks.forEach((clock, partition) => {
+      if (clock?.idle === true) idle.push(partition);
+    });
+    return idle;
+  }
+
+  /** Partitions seen or expected so far. */
+  get partitions(): number {
+    return this.partitionCount;
+  }
+
+  /**
+   * Announces a partition with records still to come (a Kafka partition with a backlog):
+   * it holds the watermark back from now until its first record, or until it is marked
+   * idle. Does nothing for a partition already known.
+   */
+  expectPartition(partition: number): void {
+    if (this.clocks[partition] !== undefined) return;
+    this.clocks[partition] = { newest: Number.NEGATIVE_INFINITY, idle: false };
+    this.partitionCount++;
+    this.activePartitions++;
+    this.slowestActive = Number.NEGATIVE_INFINITY;
+  }
+
+  /**
+   * A partition that has delivered nothing for a while stops holding the others back (it
+   * becomes active again with its next record; records it sends for windows that closed
+   * meanwhile are late). May close windows. Returns true when the partition was active.
+   */
+  markIdle(partition: number): boolean {
+    const clock = this.clocks[partition];
+    if (clock === undefined || clock.idle) return false;
+    clock.idle = true;
+    this.activePartitions--;
+    this.recomputeSlowest();
+    this.advanceWatermark();
+    if (this.currentWatermark >= this.dueAt) {
+      this.closeThrough(Math.floor((this.currentWatermark - this.windowMs) / this.hopMs));
+    }
+    return true;
   }
 
   /** Number of windows holding counts and not yet closed. */
@@ -183,7 +296,12 @@ export class EventTimeWindows {
 
   /** A snapshot of the running totals. */
   get totals(): WindowTotals {
-    return { ...this.running, rejected: { ...this.running.rejected } };
+    return {
+      ...this.running,
+      rejected: { ...this.running.rejected },
+      gaps: [...this.running.gaps],
+      lateByPartition: new Map(this.lateByPartition),
+    };
   }
 
   /** Counts a validated record (see {@link add}). */
@@ -196,10 +314,11 @@ export class EventTimeWindows {
    * An id outside a declared universe, or beyond a full growing one, is
    * rejected; a record whose window already closed is counted as late. May
    * close windows (calling `onClose`) when it advances the watermark.
-   * Allocation-free unless it opens a window. Returns the shard's index when the
-   * record was counted in at least one window, else -1 (rejected or too late).
+   * Allocation-free unless it opens a window or meets a new partition. Returns the
+   * shard's index when the record was counted in at least one window, else -1 (rejected
+   * or too late). `partition` is the source partition the record came from (default 0).
    */
-  add(ts: number, shard: string, count: number): number {
+  add(ts: number, shard: string, count: number, partition = 0): number {
     if (!Number.isFinite(ts)) {
       this.reject('bad timestamp');
       return -1;
@@ -209,17 +328,15 @@ export class EventTimeWindows {
       this.reject(index === outsideUniverse ? 'outside universe' : 'too many shards');
       return -1;
     }
-    if (ts > this.newest) {
-      this.newest = ts;
-      this.currentWatermark = ts - this.latenessMs;
-    }
+    if (ts > this.newest) this.newest = ts;
+    this.advancePartition(partition, ts);
     const lastIndex = Math.floor(ts / this.hopMs);
     if (this.windowsPerRecord === 1) {
       let window = lastIndex === this.cachedIndex ? this.cachedWindow : null;
       if (window === null) {
         window = this.windowFor(lastIndex);
         if (window === null) {
-          this.countLate(count, true);
+          this.countLate(count, true, partition);
           return -1;
         }
       }
@@ -231,7 +348,7 @@ export class EventTimeWindows {
         if (open === null) missed++;
         else addTo(open, index, count);
       }
-      if (missed > 0) this.countLate(count, missed === this.windowsPerRecord);
+      if (missed > 0) this.countLate(count, missed === this.windowsPerRecord, partition);
       if (missed === this.windowsPerRecord) return -1;
     }
     this.running.records++;
@@ -288,11 +405,64 @@ export class EventTimeWindows {
     return created;
   }
 
-  private countLate(count: number, missedAll: boolean): void {
+  private countLate(count: number, missedAll: boolean, partition: number): void {
     this.pendingLate += count;
     this.running.late += count;
     this.running.lateRecords++;
-    if (missedAll) this.reject('too late');
+    if (missedAll) {
+      this.reject('too late');
+      this.lateByPartition.set(partition, (this.lateByPartition.get(partition) ?? 0) + 1);
+    }
+  }
+
+  /** Moves a partition's event time to `ts` (when newer) and the watermark with it. */
+  private advancePartition(partition: number, ts: number): void {
+    let clock = this.clocks[partition];
+    if (clock === undefined) {
+      if (!Number.isSafeInteger(partition) || partition < 0) {
+        throw new RangeError(`source partition ${partition} is not a whole number, 0 or more`);
+      }
+      clock = { newest: ts, idle: false };
+      this.clocks[partition] = clock;
+      this.partitionCount++;
+      this.activePartitions++;
+      if (this.activePartitions === 1 || ts < this.slowestActive) this.slowestActive = ts;
+      this.advanceWatermark();
+      return;
+    }
+    if (clock.idle) {
+      clock.idle = false;
+      this.activePartitions++;
+      if (ts > clock.newest) clock.newest = ts;
+      if (this.activePartitions === 1 || clock.newest < this.slowestActive) {
+        this.slowestActive = clock.newest;
+      }
+      this.advanceWatermark();
+      return;
+    }
+    if (ts <= clock.newest) return;
+    const wasSlowest = clock.newest <= this.slowestActive;
+    clock.newest = ts;
+    if (wasSlowest) {
+      if (this.partitionCount === 1) this.slowestActive = ts;
+      else this.recomputeSlowest();
+      this.advanceWatermark();
+    }
+  }
+
+  private recomputeSlowest(): void {
+    let slowest = Number.POSITIVE_INFINITY;
+    for (const clock of this.clocks) {
+      if (clock !== undefined && !clock.idle && clock.newest < slowest) slowest = clock.newest;
+    }
+    this.slowestActive = slowest;
+  }
+
+  /** The watermark from the partitions' clocks; it only ever moves forward. */
+  private advanceWatermark(): void {
+    const basis = this.activePartitions > 0 ? this.slowestActive : this.newest;
+    const watermark = basis - this.latenessMs;
+    if (watermark > this.currentWatermark) this.currentWatermark = watermark;
   }
 
   private setNextToClose(window: number): void {
@@ -313,11 +483,11 @@ export class EventTimeWindows {
       }
       const quietUntil = Math.min(last, this.nextOpenAfter(window) - 1);
       const quietRun = quietUntil - window + 1;
-      const emitted = Math.min(quietRun, this.maxQuietWindows);
-      for (let quiet = window; quiet < window + emitted; quiet++) {
-        this.emit(quiet, null, 0);
+      if (quietRun <= this.maxQuietWindows) {
+        for (let quiet = window; quiet <= quietUntil; quiet++) this.emit(quiet, null, 0);
+      } else {
+        this.skipGap(window, quietUntil, quietRun);
       }
-      this.running.quietWindowsSkipped += quietRun - emitted;
       this.finishClosing(quietUntil);
     }
   }
@@ -331,6 +501,26 @@ export class EventTimeWindows {
     // Stays finite from now on, so the stretch before the next record's
     // window closes as all-zero windows instead of vanishing.
     this.setNextToClose(window + 1);
+  }
+
+  /** Skips a quiet run whole: the next window emitted carries it as its gap. */
+  private skipGap(first: number, last: number, windows: number): void {
+    // A stretch closed in two steps, with no window between, is one gap.
+    const previous = this.pendingGap;
+    const gap: QuietGap = {
+      start: previous?.start ?? first * this.hopMs,
+      end: last * this.hopMs + this.windowMs,
+      windows: (previous?.windows ?? 0) + windows,
+    };
+    this.pendingGap = gap;
+    this.running.quietWindowsSkipped += windows;
+    const kept = this.running.gaps;
+    if (previous !== null) {
+      if (kept[kept.length - 1] === previous) kept[kept.length - 1] = gap;
+      return;
+    }
+    this.running.gapCount++;
+    if (kept.length < keptGaps) kept.push(gap);
   }
 
   private nextOpenAfter(window: number): number {
@@ -349,9 +539,11 @@ export class EventTimeWindows {
       total,
       late: this.pendingLate,
       rejected: this.pendingRejected,
+      ...(this.pendingGap === null ? {} : { gapBefore: this.pendingGap }),
     };
     this.pendingLate = 0;
     this.pendingRejected = {};
+    this.pendingGap = null;
     this.running.windowsClosed++;
     this.onClose(closed);
   }
