@@ -30,6 +30,7 @@ export const rejectionReasonLabels: Readonly<Record<RejectionReason, string>> = 
   'too late': 'too_late',
   'too many shards': 'too_many_shards',
   'line too long': 'line_too_long',
+  'too far ahead': 'too_far_ahead',
 };
 
 /** `outcome` label of `shardwise_records_total`. */

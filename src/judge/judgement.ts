@@ -83,6 +83,16 @@ export interface Judgement {
    * carried keys (absent, not null, otherwise, so count-report streams keep their shape).
    */
   readonly keys?: KeyVerdict;
+  /**
+   * A stretch without records just before this window, too long to judge one empty window
+   * at a time (a jump of event time): skipped as a whole. Absent otherwise.
+   */
+  readonly gapBefore?: { readonly start: string; readonly end: string; readonly windows: number };
+  /**
+   * Source partitions (Kafka partitions) that have been quiet long enough to stop holding
+   * windows back. Absent when every partition reports (and for one-partition sources).
+   */
+  readonly idlePartitions?: readonly number[];
 }
 
 export type Finding = 'hotspot' | 'cold' | 'uneven' | 'chance' | 'too little traffic';

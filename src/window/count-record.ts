@@ -12,6 +12,11 @@ export interface CountRecord {
   readonly count: number;
   /** The request's key, kept from request events for key-level drill-down. */
   readonly key?: string;
+  /**
+   * The source partition it came from (a Kafka partition); absent means 0, the only
+   * partition of a file, standard input or a scenario. Event time is kept per partition.
+   */
+  readonly partition?: number;
 }
 
 /**
@@ -34,7 +39,8 @@ export type RejectionReason =
   | 'bad timestamp'
   | 'too late'
   | 'too many shards'
-  | 'line too long';
+  | 'line too long'
+  | 'too far ahead';
 
 /** Every rejection reason, in the order reports list them. */
 export const rejectionReasons: readonly RejectionReason[] = [
@@ -49,6 +55,7 @@ export const rejectionReasons: readonly RejectionReason[] = [
   'too late',
   'too many shards',
   'line too long',
+  'too far ahead',
 ];
 
 /**

@@ -8,6 +8,7 @@ import { KeyAnalysis } from '../../src/keys/key-analysis.js';
 import { defaultKeySketchSettings } from '../../src/keys/window-key-stats.js';
 import { runScenario } from '../../src/scenario/scenario-run.js';
 import { ShardUniverse } from '../../src/window/shard-universe.js';
+import { rejectionReasons } from '../../src/window/count-record.js';
 import { parseExposition, sampleOf, samplesOf, type Sample } from './exposition.js';
 
 const second = 1000;
@@ -219,7 +220,9 @@ describe('VerdictMetrics', () => {
     expect(sampleOf(samples, 'shardwise_source_lag_seconds').value).toBeNaN();
     // Every outcome and every reason is there from the start, at 0, so rates are defined.
     expect(samplesOf(samples, 'shardwise_records_total')).toHaveLength(3);
-    expect(samplesOf(samples, 'shardwise_rejected_records_total')).toHaveLength(11);
+    expect(samplesOf(samples, 'shardwise_rejected_records_total')).toHaveLength(
+      rejectionReasons.length,
+    );
 
     // One window with requests, then a window without any (the next record is 4 s later).
     for (let shard = 0; shard < 8; shard++) pipeline.record(startMs, `s-${shard}`, 100);
