@@ -1,22 +1,20 @@
 import { access, constants, writeFile } from 'node:fs/promises';
 import type { Readable } from 'node:stream';
-import { FileSource } from '../ingest/file-source.js';
 import { describeKafkaEvent } from '../ingest/kafka-events.js';
-import { KafkaSource } from '../ingest/kafka-source.js';
+import { fileRecordSource, kafkaRecordSource } from '../ingest/record-source.js';
 import { parseIsoTimestamp } from '../ingest/timestamp.js';
 import { Judge } from '../judge/judge.js';
 import type { JudgeSettings } from '../judge/judge-settings.js';
-import { JudgingPipeline } from '../judge/judging-pipeline.js';
+import { describeSpan } from '../judge/time-span.js';
 import type { RecordedSettings } from '../record/recording-line.js';
 import { readRecording, type RecordedWindow } from '../record/recording-reader.js';
 import { htmlReport } from '../review/html-report.js';
 import { markdownReport } from '../review/markdown-report.js';
 import { renderCharts } from '../review/report-charts.js';
 import { formatTime } from '../review/report-text.js';
-import { ReviewBuilder, type ReviewSettings } from '../review/review-model.js';
+import { ReviewBuilder } from '../review/review-model.js';
 import type { ReviewWindow } from '../review/review-window.js';
 import { rejudgeRecording } from '../review/rejudge.js';
-import { isRejection } from '../window/count-record.js';
 import { UsageError } from '../window/errors.js';
 import { ShardUniverse } from '../window/shard-universe.js';
 import type { Command, CommandIO } from './command.js';
@@ -29,7 +27,15 @@ import {
 } from './kafka-options.js';
 import { duration, parseOptions } from './option-values.js';
 import { ProgressLine } from './progress-line.js';
-import { readUniverseOptions, readWindowOptions } from './window-options.js';
+import { feedRecords } from './record-feed.js';
+import {
+  buildPipeline,
+  readKeySettings,
+  reviewSettingsOf,
+  type RunSettings,
+} from './run-settings.js';
+import { terminalSafe } from '../ui/terminal-text.js';
+import { maxAheadHelp, readUniverseOptions, readWindowOptions } from './window-options.js';
 
 const help = `Usage: shardwise review (--recording FILE... | --input FILE|- | --brokers H:P --topic T --since TIME [--until TIME]) [options]
 
@@ -75,6 +81,13 @@ Windows:
   --hop D                 distance between window starts (--input and Kafka only)
   --lateness D            how long to wait for late records (default 2s; --input
                           and Kafka only)
+${maxAheadHelp}
+                          (--input and Kafka only)
+  Records are windowed as watch windows them: event time per source partition,
+  long stretches without records skipped as gaps and listed in the report.
+
+Keys (--input and Kafka only): request events with "key" get the same key
+analysis as in watch (hot key, placement, moved); --no-keys turns it off.
 
 Judging (on a recording, absent options keep the recorded settings):
   --alpha A               significance level of every test (default 0.001)
@@ -121,6 +134,8 @@ export const reviewOptions = {
   window: { type: 'string' },
   hop: { type: 'string' },
   lateness: { type: 'string' },
+  'max-ahead': { type: 'string' },
+  'no-keys': { type: 'boolean' },
   ...judgeOptionSpec,
   out: { type: 'string' },
   markdown: { type: 'string' },
@@ -234,6 +249,8 @@ async function reviewRecording(
     'max-shards',
     'hop',
     'lateness',
+    'max-ahead',
+    'no-keys',
     'since',
     'until',
     'topic',
@@ -243,7 +260,7 @@ async function reviewRecording(
       throw new UsageError(
         `--${name}`,
         String(values[name]),
-        name === 'hop' || name === 'lateness'
+        name === 'hop' || name === 'lateness' || name === 'max-ahead' || name === 'no-keys'
           ? 'applies only to --input and Kafka (a recording has its windows already)'
           : 'applies only to --input and Kafka (a recording carries its own universe and source)',
       );
@@ -263,7 +280,11 @@ async function reviewRecording(
       builder ??= new ReviewBuilder({
         source: describeRecording(describe, window.settings),
         judgedHere: false,
-        settings: reviewSettings(window.settings, window.settings.windowMs, window.settings.hopMs),
+        settings: reviewSettingsOf(
+          window.settings,
+          window.settings.windowMs,
+          window.settings.hopMs,
+        ),
       });
       builder.add(window);
       count++;
@@ -305,7 +326,7 @@ async function reviewRecording(
   builder = new ReviewBuilder({
     source: `${describeRecording(describe, base)}, judged again${windowMs !== null && windowMs !== base.windowMs ? ` in ${values.window} windows (${windowMs / base.windowMs} recorded windows each)` : ''}`,
     judgedHere: true,
-    settings: reviewSettings(
+    settings: reviewSettingsOf(
       { ...base, ...settings },
       effectiveWindow,
       windowMs === null ? base.hopMs : windowMs,
@@ -373,29 +394,6 @@ function judgeBase(settings: RecordedSettings): Omit<JudgeSettings, 'hopMs'> {
   };
 }
 
-function reviewSettings(
-  settings: Omit<RecordedSettings, 'source' | 'windowMs' | 'hopMs' | 'latenessMs'> &
-    Partial<RecordedSettings>,
-  windowMs: number,
-  hopMs: number,
-): ReviewSettings {
-  return {
-    null: settings.null,
-    spread: settings.spread,
-    alpha: settings.alpha,
-    minExcess: settings.minExcess,
-    minDispersion: settings.minDispersion,
-    maxDetectable: settings.maxDetectable,
-    confirm: settings.confirm,
-    clear: settings.clear,
-    maxFlagged: settings.maxFlagged,
-    baselineWindows: settings.baselineWindows,
-    windowMs,
-    hopMs,
-    declaredUniverse: settings.declaredUniverse ?? true,
-  };
-}
-
 /** The review of records (a file or a Kafka range), judged through watch's pipeline. */
 async function reviewRecords(
   values: Values,
@@ -403,7 +401,7 @@ async function reviewRecords(
   progress: ProgressLine,
   onNote: (note: string) => void,
 ): Promise<ReviewBuilder | null> {
-  const { windowMs, hopMs, latenessMs, maxShards } = readWindowOptions(values);
+  const { windowMs, hopMs, latenessMs, maxAheadMs, maxShards } = readWindowOptions(values);
   const kafka = values.brokers !== undefined ? kafkaRange(values, io) : null;
   if (kafka === null) {
     for (const name of ['since', 'until', 'topic', 'shard-from'] as const) {
@@ -421,14 +419,18 @@ async function reviewRecords(
     maxShards,
     byPartition: kafka?.shardFrom.kind === 'partition',
   });
-  const settings = readJudgeSettings(values, { sharesDeclared, hopMs });
+  const run: RunSettings = {
+    windowMs,
+    hopMs,
+    latenessMs,
+    maxAheadMs,
+    judge: readJudgeSettings(values, { sharesDeclared, hopMs }),
+    keys: readKeySettings(values),
+  };
   const source =
     kafka === null
-      ? new FileSource(
-          values.input as string,
-          values.input === '-' ? { stream: io.stdin as unknown as Readable } : {},
-        )
-      : new KafkaSource({
+      ? fileRecordSource(values.input as string, io.stdin as unknown as Readable)
+      : kafkaRecordSource({
           ...kafka.connection,
           topic: kafka.topic,
           from: { kind: 'time', ms: kafka.sinceMs },
@@ -446,14 +448,15 @@ async function reviewRecords(
               event.type !== 'caught-up'
             ) {
               progress.done();
-              io.stderr.write(`shardwise review: ${line}\n`);
+              io.stderr.write(`shardwise review: ${terminalSafe(line)}\n`);
             }
           },
         });
-  const kafkaInfo = source instanceof KafkaSource ? await source.connect() : null;
-  const counted = universe ?? ShardUniverse.ofCount(kafkaInfo?.partitions ?? 1);
-  const judge = new Judge(counted, settings);
-  const pipeline = new JudgingPipeline(counted, { windowMs, hopMs, latenessMs }, judge);
+  const start = await source.open();
+  const counted = universe ?? ShardUniverse.ofCount(start.partitions);
+  const judge = new Judge(counted, run.judge);
+  // A file read to its end is a replay, whatever the command; so is a past Kafka range.
+  const pipeline = buildPipeline(counted, judge, run, false);
   const builder = new ReviewBuilder({
     source:
       kafka === null
@@ -462,7 +465,11 @@ async function reviewRecords(
           : `record file ${values.input}, judged by this review`
         : `topic ${kafka.topic}, messages from ${formatTime(kafka.sinceMs)} to ${formatTime(kafka.untilMs)}, judged by this review (no offsets committed)`,
     judgedHere: true,
-    settings: reviewSettings({ ...settings, declaredUniverse: counted.declared }, windowMs, hopMs),
+    settings: reviewSettingsOf(
+      { ...run.judge, declaredUniverse: counted.declared },
+      windowMs,
+      hopMs,
+    ),
   });
   let sharesSize = -1;
   let shares: Float64Array | null = null;
@@ -485,18 +492,23 @@ async function reviewRecords(
     windows++;
   });
   let outside = 0;
+  const label = kafka === null ? String(values.input) : `topic ${kafka.topic}`;
   try {
-    for await (const batch of source.batches()) {
-      for (const item of batch) {
-        if (isRejection(item)) pipeline.reject(item.reason, item.line);
-        else if (kafka !== null && (item.ts < kafka.sinceMs || item.ts >= kafka.untilMs)) outside++;
-        else pipeline.record(item.ts, item.shard, item.count);
-      }
-      progress.update(
-        () =>
-          `reading ${kafka === null ? values.input : `topic ${kafka.topic}`}: ${pipeline.totals.recordsSeen} records, ${windows} windows judged`,
-      );
-    }
+    await feedRecords(source, start, pipeline, {
+      keep:
+        kafka === null
+          ? undefined
+          : (record) => {
+              if (record.ts >= kafka.sinceMs && record.ts < kafka.untilMs) return true;
+              outside++;
+              return false;
+            },
+      afterBatch: () =>
+        progress.update(
+          () =>
+            `reading ${terminalSafe(label)}: ${pipeline.totals.recordsSeen} records, ${windows} windows judged`,
+        ),
+    });
     pipeline.finish();
   } finally {
     await source.close();
@@ -512,6 +524,16 @@ async function reviewRecords(
   }
   if (outside > 0) {
     onNote(`${outside} records whose own ts lies outside --since/--until were left out`);
+  }
+  if (totals.gapCount > 0) {
+    onNote(
+      `${totals.gapCount} stretch${totals.gapCount === 1 ? '' : 'es'} without records (${totals.quietWindowsSkipped} windows) skipped as gaps, not judged: ${totals.gaps
+        .map(
+          (gap) =>
+            `${formatTime(gap.start)} to ${formatTime(gap.end)} (${describeSpan(gap.end - gap.start)})`,
+        )
+        .join('; ')}${totals.gapCount > totals.gaps.length ? '; and more' : ''}`,
+    );
   }
   return windows === 0 ? null : builder;
 }

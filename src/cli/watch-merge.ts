@@ -1,5 +1,6 @@
 import { Counter, Gauge, type Registry } from 'prom-client';
 import type { SourceItem } from '../ingest/file-source.js';
+import type { RecordSource, SourceStart } from '../ingest/record-source.js';
 import { KafkaSummaryReader } from '../ingest/kafka-summary-reader.js';
 import type { KafkaConnectionOptions } from '../ingest/kafka-connection.js';
 import type { JudgingPipeline } from '../judge/judging-pipeline.js';
@@ -29,8 +30,10 @@ const mergePollMs = 250;
  * {@link batches} yield nothing but an empty array per poll that released windows (the
  * screen redraws on batches); they end on {@link close}.
  */
-export class SummaryMergeSource {
+export class SummaryMergeSource implements RecordSource {
   readonly topic: string;
+  readonly label: string;
+  readonly live = true;
   private readonly reader: KafkaSummaryReader;
   private readonly settings: MergeSettings;
   private readonly universe: ShardUniverse;
@@ -38,6 +41,7 @@ export class SummaryMergeSource {
   private readonly windowMs: number;
   private merge: WindowMerge | null = null;
   private readonly coverages = new WeakMap<ClosedWindow, WindowCoverage>();
+  private resumedThrough: number | null = null;
   private readonly outcomes = { merged: 0, duplicate: 0, afterVerdict: 0, refused: 0 };
   private stop: (() => void) | null = null;
   private closed = false;
@@ -54,6 +58,7 @@ export class SummaryMergeSource {
   }) {
     this.settings = options.settings;
     this.topic = options.settings.topic;
+    this.label = `summaries on ${options.settings.topic}`;
     this.universe = options.universe;
     this.pipeline = options.pipeline;
     this.windowMs = options.windowMs;
@@ -82,9 +87,21 @@ export class SummaryMergeSource {
     });
   }
 
+  /** Connects (see {@link connect}); a summary topic counts as one source partition. */
+  async open(): Promise<SourceStart> {
+    const judgedThrough = this.merge === null ? await this.connect() : this.resumedThrough;
+    return { partitions: 1, backlogPartitions: [], judgedThrough };
+  }
+
+  /** Windows are put together from summaries: no partition of records is behind. */
+  backlogged(): boolean {
+    return false;
+  }
+
   /** Connects; resolves to the end of the last window a previous run on the group judged. */
   async connect(): Promise<number | null> {
     const judgedThrough = await this.reader.connect();
+    this.resumedThrough = judgedThrough;
     this.merge = new WindowMerge({
       windowMs: this.windowMs,
       deadlineMs: this.settings.deadlineMs,

@@ -2,26 +2,35 @@ import { access, constants } from 'node:fs/promises';
 import type { Readable } from 'node:stream';
 import { metricsHost, metricsPort } from '../exporter/metrics-address.js';
 import { startMetricsExporter } from '../exporter/metrics-exporter.js';
-import { FileSource } from '../ingest/file-source.js';
 import { describeKafkaEvent } from '../ingest/kafka-events.js';
-import { KafkaSource } from '../ingest/kafka-source.js';
-import { ScenarioSource } from '../ingest/scenario-source.js';
+import {
+  fileRecordSource,
+  kafkaRecordSource,
+  scenarioRecordSource,
+  type RecordSource,
+} from '../ingest/record-source.js';
 import { Judge } from '../judge/judge.js';
-import type { JudgeSettings } from '../judge/judge-settings.js';
-import { JudgingPipeline } from '../judge/judging-pipeline.js';
-import { KeyAnalysis } from '../keys/key-analysis.js';
-import type { KeySketchSettings } from '../keys/window-key-stats.js';
+import type { JudgingPipeline } from '../judge/judging-pipeline.js';
+import { describeSpan } from '../judge/time-span.js';
+import { terminalSafe } from '../ui/terminal-text.js';
 import type { Incident } from '../judge/judgement.js';
 import type { RecordedSettings } from '../record/recording-line.js';
 import { defaultRecordingMaxBytes, WindowRecorder } from '../record/window-recorder.js';
 import { runScenario, type ScenarioRun } from '../scenario/scenario-run.js';
-import { isRejection, rejectionReasons, type RejectionReason } from '../window/count-record.js';
+import { feedRecords } from './record-feed.js';
+import {
+  buildPipeline,
+  readKeySettings,
+  recordedSettingsOf,
+  type RunSettings,
+} from './run-settings.js';
+import { rejectionReasons, type RejectionReason } from '../window/count-record.js';
 import { UsageError } from '../window/errors.js';
 import { ShardUniverse } from '../window/shard-universe.js';
 import type { Command, CommandIO } from './command.js';
-import { readUniverseOptions, readWindowOptions } from './window-options.js';
+import { maxAheadHelp, readUniverseOptions, readWindowOptions } from './window-options.js';
 import { judgeOptionSpec, readJudgeSettings } from './judge-options.js';
-import { byteSize, parseOptions, wholeNumber } from './option-values.js';
+import { byteSize, parseOptions } from './option-values.js';
 import {
   kafkaOptionsHelp,
   kafkaSourceOptionSpec,
@@ -80,6 +89,13 @@ Windows:
   --hop D                 distance between window starts; must divide --window
                           (default: --window, tumbling windows)
   --lateness D            how long to wait for late records (default 2s)
+${maxAheadHelp}
+  Event time is kept per source partition (each Kafka partition; a file, stdin or
+  a scenario is one): a window closes once every partition still reporting has
+  passed its end plus the lateness, so records in order within their partition
+  are never late. A live partition quiet for a window plus the lateness stops
+  holding the others back (the verdict notes say so). A stretch of more than 360
+  windows without records is skipped as one gap, reported, not judged.
 
 Judging:
   --alpha A               significance level of every test (default 0.001)
@@ -183,6 +199,7 @@ export const watchOptions = {
   window: { type: 'string' },
   hop: { type: 'string' },
   lateness: { type: 'string' },
+  'max-ahead': { type: 'string' },
   ...judgeOptionSpec,
   'no-keys': { type: 'boolean' },
   'key-counters': { type: 'string' },
@@ -219,12 +236,8 @@ interface WatchPlan {
   readonly source: SourcePlan;
   /** Null for --shard-from partition: the topic's partitions, read when connecting. */
   readonly universe: ShardUniverse | null;
-  readonly windowMs: number;
-  readonly hopMs: number;
-  readonly latenessMs: number;
-  readonly judge: JudgeSettings;
-  /** Key analysis settings; null with --no-keys. */
-  readonly keys: { readonly sketch: KeySketchSettings; readonly simulations: number } | null;
+  /** Windows, clock bound, judge and key analysis. */
+  readonly run: RunSettings;
   readonly recordPath: string | undefined;
   /** `--record-max-size`: the recording rotates to FILE.1 past this size. */
   readonly recordMaxBytes: number;
@@ -270,7 +283,7 @@ async function readPlan(values: Values, io: CommandIO): Promise<WatchPlan> {
       'is missing: give --input FILE|-, --scenario NAME or --brokers H:P --topic T (see --help)',
     );
   }
-  const { windowMs, hopMs, latenessMs, maxShards } = readWindowOptions(values);
+  const { windowMs, hopMs, latenessMs, maxAheadMs, maxShards } = readWindowOptions(values);
 
   let source: SourcePlan;
   let universe: ShardUniverse | null;
@@ -334,7 +347,7 @@ async function readPlan(values: Values, io: CommandIO): Promise<WatchPlan> {
   if (values['record-max-size'] !== undefined && values.record === undefined) {
     throw new UsageError('--record-max-size', values['record-max-size'], 'needs --record FILE');
   }
-  const keys = readKeyOptions(values);
+  const keys = readKeySettings(values);
   const metricsHostValue = metricsHost(values['metrics-host']);
   const metricsPortValue = metricsPort(values['metrics-port']);
   if (values['no-metrics'] === true) {
@@ -347,60 +360,13 @@ async function readPlan(values: Values, io: CommandIO): Promise<WatchPlan> {
   return {
     source,
     universe,
-    windowMs,
-    hopMs,
-    latenessMs,
-    judge,
-    keys,
+    run: { windowMs, hopMs, latenessMs, maxAheadMs, judge, keys },
     recordPath: values.record,
     recordMaxBytes,
     noUi: values['no-ui'] === true,
     metrics:
       values['no-metrics'] === true ? null : { host: metricsHostValue, port: metricsPortValue },
   };
-}
-
-/** The key options, checked; null with --no-keys (then none of them may be given). */
-function readKeyOptions(values: Values): WatchPlan['keys'] {
-  const names = ['key-counters', 'key-registers', 'key-simulations'] as const;
-  if (values['no-keys'] === true) {
-    for (const name of names) {
-      if (values[name] !== undefined) {
-        throw new UsageError(`--${name}`, values[name], 'cannot be combined with --no-keys');
-      }
-    }
-    return null;
-  }
-  const counters =
-    values['key-counters'] === undefined
-      ? 16
-      : wholeNumber('--key-counters', values['key-counters'], 1);
-  if (counters > 1024) {
-    throw new UsageError('--key-counters', values['key-counters'] as string, 'is above 1024');
-  }
-  const registers =
-    values['key-registers'] === undefined
-      ? 4096
-      : wholeNumber('--key-registers', values['key-registers'], 16);
-  if (registers > 65_536 || !Number.isInteger(Math.log2(registers))) {
-    throw new UsageError(
-      '--key-registers',
-      values['key-registers'] as string,
-      'is not a power of two from 16 to 65536',
-    );
-  }
-  const simulations =
-    values['key-simulations'] === undefined
-      ? 1000
-      : wholeNumber('--key-simulations', values['key-simulations'], 1);
-  if (simulations > 100_000) {
-    throw new UsageError(
-      '--key-simulations',
-      values['key-simulations'] as string,
-      'is above 100000',
-    );
-  }
-  return { sketch: { counters, registers }, simulations };
 }
 
 async function checkReadable(path: string): Promise<void> {
@@ -417,85 +383,62 @@ async function checkReadable(path: string): Promise<void> {
 async function watch(plan: WatchPlan, io: CommandIO): Promise<number> {
   // Set once the live screen is up; until then Kafka's events go to stderr as lines.
   let screen: WatchScreen | null = null;
+  const kafkaEvent = (event: Parameters<typeof describeKafkaEvent>[0]) => {
+    // The screen shows the connection instead: a stderr line would scribble over it.
+    if (screen !== null) return screen.kafkaEvent(event);
+    const line = describeKafkaEvent(event);
+    if (line) io.stderr.write(`shardwise watch: ${terminalSafe(line)}\n`);
+  };
   // Kafka connects first: unreachable brokers fail here (exit 1), and --shard-from
   // partition takes its universe from the topic's partition count.
-  const kafka =
-    plan.source.kind === 'kafka'
-      ? new KafkaSource({
-          ...plan.source.kafka.connection,
-          topic: plan.source.kafka.topic,
-          groupId: plan.source.kafka.groupId,
-          from: plan.source.kafka.from,
-          shardFrom: plan.source.kafka.shardFrom,
-          windows: { windowMs: plan.windowMs, hopMs: plan.hopMs, latenessMs: plan.latenessMs },
-          onEvent: (event) => {
-            // The screen shows the connection instead: a stderr line would scribble over it.
-            if (screen !== null) return screen.kafkaEvent(event);
-            const line = describeKafkaEvent(event);
-            if (line) io.stderr.write(`shardwise watch: ${line}\n`);
+  const recordSource = plan.source.kind === 'merge' ? null : openSource(plan, io, kafkaEvent);
+  const opened = recordSource === null ? null : await recordSource.open();
+  const universe = plan.universe ?? ShardUniverse.ofCount(opened?.partitions ?? 1);
+  // Built before the record file is opened, so a bad setting leaves no file behind.
+  const judge = new Judge(universe, plan.run.judge);
+  const pipeline = buildPipeline(
+    universe,
+    judge,
+    plan.run,
+    recordSource === null ? true : recordSource.live,
+  );
+  const mergeSource =
+    plan.source.kind === 'merge'
+      ? new SummaryMergeSource({
+          settings: plan.source.merge,
+          universe,
+          pipeline,
+          windowMs: plan.run.windowMs,
+          onIncomplete: (window) => {
+            const text = `window ${new Date(window.start).toISOString()} judged incomplete: partitions ${window.coverage.missing.join(', ')} of ${window.coverage.partitions} missing`;
+            if (screen !== null) {
+              screen.kafkaEvent({
+                type: 'client-log',
+                level: 'warn',
+                namespace: 'merge',
+                message: text,
+              });
+            } else io.stderr.write(`shardwise watch: ${text}\n`);
+          },
+          onRefused: (reason) => {
+            if (screen === null) {
+              io.stderr.write(`shardwise watch: summary refused: ${terminalSafe(reason)}\n`);
+            }
           },
         })
       : null;
-  const kafkaInfo = kafka === null ? null : await kafka.connect();
-  const merged =
-    plan.source.kind === 'merge'
-      ? { settings: plan.source.merge, source: null as SummaryMergeSource | null }
-      : null;
-  const universe = plan.universe ?? ShardUniverse.ofCount(kafkaInfo?.partitions ?? 1);
-  // Built before the record file is opened, so a bad setting leaves no file behind.
-  const judge = new Judge(universe, plan.judge);
-  const keyAnalysis =
-    plan.keys === null
-      ? undefined
-      : new KeyAnalysis(universe, {
-          windowMs: plan.windowMs,
-          hopMs: plan.hopMs,
-          sketch: plan.keys.sketch,
-          simulations: plan.keys.simulations,
-          alpha: plan.judge.alpha,
-          null: plan.judge.null,
-          maxFlagged: plan.judge.maxFlagged,
-        });
-  const pipeline = new JudgingPipeline(
-    universe,
-    { windowMs: plan.windowMs, hopMs: plan.hopMs, latenessMs: plan.latenessMs },
-    judge,
-    Date.now,
-    { keys: keyAnalysis },
-  );
-  if (merged !== null) {
-    merged.source = new SummaryMergeSource({
-      settings: merged.settings,
-      universe,
-      pipeline,
-      windowMs: plan.windowMs,
-      onIncomplete: (window) => {
-        const text = `window ${new Date(window.start).toISOString()} judged incomplete: partitions ${window.coverage.missing.join(', ')} of ${window.coverage.partitions} missing`;
-        if (screen !== null) {
-          screen.kafkaEvent({
-            type: 'client-log',
-            level: 'warn',
-            namespace: 'merge',
-            message: text,
-          });
-        } else io.stderr.write(`shardwise watch: ${text}\n`);
-      },
-      onRefused: (reason) => {
-        if (screen === null) io.stderr.write(`shardwise watch: summary refused: ${reason}\n`);
-      },
-    });
-  }
-  const mergeSource = merged?.source ?? null;
-  const mergeResume = mergeSource === null ? null : await mergeSource.connect();
+  const source: RecordSource = mergeSource ?? recordSource!;
+  const start = opened ?? (await source.open());
+  const resumedThrough = start.judgedThrough;
   // Bound before the record file is opened too: a port in use is a bad setting.
   const exporter =
     plan.metrics === null
       ? null
       : await startMetricsExporter({
           pipeline,
-          settings: plan.judge,
-          windowMs: plan.windowMs,
-          latenessMs: plan.latenessMs,
+          settings: plan.run.judge,
+          windowMs: plan.run.windowMs,
+          latenessMs: plan.run.latenessMs,
           ...plan.metrics,
         });
   let recorder: WindowRecorder | null;
@@ -503,7 +446,11 @@ async function watch(plan: WatchPlan, io: CommandIO): Promise<number> {
     recorder =
       plan.recordPath === undefined
         ? null
-        : openRecording(plan.recordPath, recordedSettings(plan), plan.recordMaxBytes);
+        : openRecording(
+            plan.recordPath,
+            recordedSettingsOf(plan.run, recordedSource(plan), plan.universe?.declared ?? true),
+            plan.recordMaxBytes,
+          );
   } catch (error) {
     await exporter?.close();
     throw error;
@@ -517,6 +464,7 @@ async function watch(plan: WatchPlan, io: CommandIO): Promise<number> {
   if (exporter !== null) {
     io.stderr.write(`shardwise watch: metrics at ${exporter.url} (also /healthz, /readyz)\n`);
   }
+  const connected = plan.source.kind === 'kafka' || plan.source.kind === 'merge';
   if (choice.kind === 'screen') {
     try {
       screen = new WatchScreen({
@@ -525,23 +473,17 @@ async function watch(plan: WatchPlan, io: CommandIO): Promise<number> {
         io,
         keys: choice.keys,
         ownsKeys: choice.ownsKeys,
-        sourceState: kafka === null && mergeSource === null ? 'reading' : 'connected',
-        judgedThrough: kafkaInfo?.judgedThrough ?? mergeResume,
+        sourceState: connected ? 'connected' : 'reading',
+        judgedThrough: resumedThrough,
         context: {
           sourceLabel:
-            plan.source.kind === 'kafka'
-              ? `topic ${plan.source.kafka.topic}`
-              : plan.source.kind === 'merge'
-                ? `summaries on ${plan.source.merge.topic}`
-                : plan.source.kind === 'file'
-                  ? plan.source.path === '-'
-                    ? 'standard input'
-                    : `file ${plan.source.path}`
-                  : `scenario ${plan.source.name} (seed ${plan.source.seed})`,
-          windowMs: plan.windowMs,
-          latenessMs: plan.latenessMs,
-          confirm: plan.judge.confirm,
-          maxDetectable: plan.judge.maxDetectable,
+            plan.source.kind === 'scenario'
+              ? `scenario ${plan.source.name} (seed ${plan.source.seed})`
+              : source.label,
+          windowMs: plan.run.windowMs,
+          latenessMs: plan.run.latenessMs,
+          confirm: plan.run.judge.confirm,
+          maxDetectable: plan.run.judge.maxDetectable,
         },
       });
     } catch (error) {
@@ -567,15 +509,14 @@ async function watch(plan: WatchPlan, io: CommandIO): Promise<number> {
     if (coverage !== undefined) mergeMetrics?.observe(coverage);
     const judgement = coverage === undefined ? verdict : { ...verdict, coverage };
     // After a resume with sliding windows, windows already judged by the last run close again.
-    if (kafkaInfo?.judgedThrough != null && window.end <= kafkaInfo.judgedThrough) return;
+    if (resumedThrough !== null && window.end <= resumedThrough) return;
     windows++;
     incidents.openAtEnd = judgement.incidents;
     // The screen subscribes itself; the lines are for everything else.
     if (screen === null) output.write(JSON.stringify(judgement));
     recorder?.record(window, judgement, universe);
     // Last, once the verdict is out: Kafka may now commit past this window's records.
-    kafka?.markJudgedUpTo(window.end);
-    mergeSource?.markJudgedUpTo(window.end);
+    source.markJudgedUpTo(window.end);
   });
   pipeline.events.on('incident opened', (incident) => incidents.opened.push(incident));
   pipeline.events.on('incident cleared', () => incidents.cleared++);
@@ -586,26 +527,11 @@ async function watch(plan: WatchPlan, io: CommandIO): Promise<number> {
     );
   });
 
-  const live =
-    plan.source.kind === 'kafka' ||
-    plan.source.kind === 'merge' ||
-    (plan.source.kind === 'scenario' ? plan.source.pace === 'real-time' : plan.source.path === '-');
-  const source =
-    plan.source.kind === 'kafka'
-      ? kafka!
-      : plan.source.kind === 'merge'
-        ? mergeSource!
-        : plan.source.kind === 'file'
-          ? new FileSource(
-              plan.source.path,
-              plan.source.path === '-' ? { stream: io.stdin as unknown as Readable } : {},
-            )
-          : new ScenarioSource(plan.source.run, { pace: plan.source.pace });
   let interrupted = false;
   const interrupt = () => {
     interrupted = true;
     // Judge what is due before closing Kafka: a window judged after close would never be committed.
-    if (kafka !== null) pipeline.tick();
+    if (connected) pipeline.tick();
     void source.close();
     screen?.quit();
   };
@@ -615,22 +541,20 @@ async function watch(plan: WatchPlan, io: CommandIO): Promise<number> {
   screen?.onQuit(() => {
     if (!interrupted) interrupt();
   });
-  const poll = live ? setInterval(() => pipeline.tick(), livePollMs) : null;
+  const poll = source.live ? setInterval(() => pipeline.tick(), livePollMs) : null;
   try {
-    for await (const batch of source.batches()) {
-      for (const item of batch) {
-        if (isRejection(item)) pipeline.reject(item.reason, item.line);
-        else pipeline.record(item.ts, item.shard, item.count, item.key);
-      }
-      await output.drained();
-      if (screen !== null) await screen.batchDone(batch);
-      if (interrupted) break;
-    }
+    await feedRecords(source, start, pipeline, {
+      afterBatch: async (batch) => {
+        await output.drained();
+        if (screen !== null) await screen.batchDone(batch);
+      },
+      stopped: () => interrupted,
+    });
     // An interrupted run keeps the windows already due and drops the partial ones: a
     // half-filled window would read as a lull.
     if (interrupted) {
-      if (kafka === null && mergeSource === null) pipeline.tick();
-    } else if (kafka === null && mergeSource === null) {
+      if (!connected) pipeline.tick();
+    } else if (!connected) {
       pipeline.finish();
     }
     // Read to its end, the run stays on the screen until the user quits.
@@ -650,6 +574,37 @@ async function watch(plan: WatchPlan, io: CommandIO): Promise<number> {
   return 0;
 }
 
+/** The source a plan names, not yet open (a --merge source is built with the pipeline). */
+function openSource(
+  plan: WatchPlan,
+  io: CommandIO,
+  onEvent: (event: Parameters<typeof describeKafkaEvent>[0]) => void,
+): RecordSource {
+  const source = plan.source;
+  switch (source.kind) {
+    case 'file':
+      return fileRecordSource(source.path, io.stdin as unknown as Readable);
+    case 'scenario':
+      return scenarioRecordSource(source.run, source.pace, `scenario ${source.name}`);
+    case 'kafka':
+      return kafkaRecordSource({
+        ...source.kafka.connection,
+        topic: source.kafka.topic,
+        groupId: source.kafka.groupId,
+        from: source.kafka.from,
+        shardFrom: source.kafka.shardFrom,
+        windows: {
+          windowMs: plan.run.windowMs,
+          hopMs: plan.run.hopMs,
+          latenessMs: plan.run.latenessMs,
+        },
+        onEvent,
+      });
+    case 'merge':
+      throw new Error('a --merge source is built with its pipeline');
+  }
+}
+
 function openRecording(path: string, settings: RecordedSettings, maxBytes: number): WindowRecorder {
   try {
     return new WindowRecorder({ path, settings, maxBytes });
@@ -660,40 +615,29 @@ function openRecording(path: string, settings: RecordedSettings, maxBytes: numbe
   }
 }
 
-/** The settings a recording carries, so `review` can say what each verdict rested on. */
-function recordedSettings(plan: WatchPlan): RecordedSettings {
-  return {
-    source:
-      plan.source.kind === 'file'
-        ? { input: plan.source.path }
-        : plan.source.kind === 'merge'
-          ? { merge: plan.source.merge.topic, group: plan.source.merge.groupId ?? null }
-          : plan.source.kind === 'kafka'
-            ? {
-                topic: plan.source.kafka.topic,
-                group: plan.source.kafka.groupId ?? null,
-                shardFrom: plan.source.kafka.shardFrom,
-              }
-            : {
-                scenario: plan.source.name,
-                seed: plan.source.seed,
-                start: new Date(plan.source.startMs).toISOString(),
-                durationMs: Number.isFinite(plan.source.durationMs) ? plan.source.durationMs : null,
-                pace: plan.source.pace,
-              },
-    windowMs: plan.windowMs,
-    latenessMs: plan.latenessMs,
-    declaredUniverse: plan.universe === null ? true : plan.universe.declared,
-    ...plan.judge,
-    keys:
-      plan.keys === null
-        ? null
-        : {
-            counters: plan.keys.sketch.counters,
-            registers: plan.keys.sketch.registers,
-            simulations: plan.keys.simulations,
-          },
-  };
+/** How a recording names its source. */
+function recordedSource(plan: WatchPlan): Readonly<Record<string, unknown>> {
+  const source = plan.source;
+  switch (source.kind) {
+    case 'file':
+      return { input: source.path };
+    case 'merge':
+      return { merge: source.merge.topic, group: source.merge.groupId ?? null };
+    case 'kafka':
+      return {
+        topic: source.kafka.topic,
+        group: source.kafka.groupId ?? null,
+        shardFrom: source.kafka.shardFrom,
+      };
+    case 'scenario':
+      return {
+        scenario: source.name,
+        seed: source.seed,
+        start: new Date(source.startMs).toISOString(),
+        durationMs: Number.isFinite(source.durationMs) ? source.durationMs : null,
+        pace: source.pace,
+      };
+  }
 }
 
 function summary(
@@ -710,21 +654,44 @@ function summary(
     (sum, count) => sum + (count ?? 0),
     0,
   );
+  const lateByPartition = [...totals.lateByPartition].sort(([a], [b]) => a - b);
   const lines = [
-    `shardwise watch: ${windows} windows judged, ${totals.recordsSeen} records read, ${totals.load} requests counted`,
-    `  rejected: ${rejectedCount}${rejected.length > 0 ? ` (${rejected.join(', ')})` : ''}; late: ${totals.late} requests in ${totals.lateRecords} records`,
+    `shardwise watch: ${plural(windows, 'window')} judged, ${plural(totals.recordsSeen, 'record')} read, ${plural(totals.load, 'request')} counted`,
+    `  rejected: ${rejectedCount}${rejected.length > 0 ? ` (${rejected.join(', ')})` : ''}; late: ${plural(totals.late, 'request')} in ${plural(totals.lateRecords, 'record')}`,
+  ];
+  if (lateByPartition.length > 1 || (lateByPartition.length === 1 && lateByPartition[0][0] !== 0)) {
+    lines.push(
+      `  too late by source partition: ${lateByPartition.map(([partition, count]) => `${partition}: ${count}`).join(', ')}`,
+    );
+  }
+  lines.push(
     `  incidents: ${incidents.opened.length} opened, ${incidents.cleared} cleared, ${incidents.openAtEnd.length} open at the end`,
     ...incidents.opened.map(
-      (incident) => `    ${incident.finding} on ${incident.shard} since ${incident.since}`,
+      (incident) =>
+        `    ${incident.finding} on ${terminalSafe(incident.shard)} since ${incident.since}`,
     ),
-  ];
-  if (totals.quietWindowsSkipped > 0) {
-    lines.push(`  ${totals.quietWindowsSkipped} empty windows in one long gap were not judged`);
+  );
+  if (totals.gapCount > 0) {
+    lines.push(
+      `  gaps without records, skipped and not judged: ${totals.gapCount} (${plural(totals.quietWindowsSkipped, 'window')})`,
+      ...totals.gaps.map(
+        (gap) =>
+          `    ${new Date(gap.start).toISOString()} to ${new Date(gap.end).toISOString()} (${describeSpan(gap.end - gap.start)})`,
+      ),
+    );
+    if (totals.gapCount > totals.gaps.length) {
+      lines.push(`    and ${totals.gapCount - totals.gaps.length} more`);
+    }
   }
   if (interrupted && pipeline.openWindows > 0) {
-    lines.push(`  interrupted: ${pipeline.openWindows} partial windows not judged`);
+    lines.push(`  interrupted: ${plural(pipeline.openWindows, 'partial window')} not judged`);
   }
   return lines.join('\n') + '\n';
+}
+
+/** "1 window", "2 windows". */
+function plural(count: number, noun: string): string {
+  return `${count} ${noun}${count === 1 ? '' : 's'}`;
 }
 
 /**

@@ -1,4 +1,5 @@
 import { readShardMapFile } from '../ingest/shard-map-file.js';
+import { defaultMaxAheadMs } from '../judge/judging-pipeline.js';
 import { UsageError } from '../window/errors.js';
 import { ShardUniverse } from '../window/shard-universe.js';
 import { duration, wholeNumber } from './option-values.js';
@@ -14,14 +15,19 @@ export interface WindowOptionValues {
   readonly window?: string;
   readonly hop?: string;
   readonly lateness?: string;
+  readonly 'max-ahead'?: string;
   readonly 'max-shards'?: string;
 }
 
-/** --window (default 10s), --hop (default the window; must divide it), --lateness (default 2s), --max-shards. */
+/**
+ * --window (default 10s), --hop (default the window; must divide it), --lateness (default
+ * 2s), --max-ahead (default 1h), --max-shards.
+ */
 export function readWindowOptions(values: WindowOptionValues): {
   windowMs: number;
   hopMs: number;
   latenessMs: number;
+  maxAheadMs: number;
   maxShards: number | undefined;
 } {
   const windowMs = values.window === undefined ? 10_000 : duration('--window', values.window);
@@ -37,11 +43,15 @@ export function readWindowOptions(values: WindowOptionValues): {
     values.lateness === undefined
       ? 2_000
       : duration('--lateness', values.lateness, { allowZero: true });
+  const maxAheadMs =
+    values['max-ahead'] === undefined
+      ? defaultMaxAheadMs
+      : duration('--max-ahead', values['max-ahead']);
   const maxShards =
     values['max-shards'] === undefined
       ? undefined
       : wholeNumber('--max-shards', values['max-shards'], 1);
-  return { windowMs, hopMs, latenessMs, maxShards };
+  return { windowMs, hopMs, latenessMs, maxAheadMs, maxShards };
 }
 
 /**
@@ -76,3 +86,11 @@ export async function readUniverseOptions(
   if (options.byPartition) return { universe: null, sharesDeclared: false };
   return { universe: ShardUniverse.growing({ maxShards }), sharesDeclared: false };
 }
+
+/** The --max-ahead help lines `watch` and `review` share. */
+export const maxAheadHelp = `  --max-ahead D           the future bound (default 1h): live, a record stamped
+                          more than D after the wall clock is rejected as "too far
+                          ahead"; a replay holds a record more than D ahead of its
+                          partition's own progress until later records confirm the
+                          jump (64 records, or records spanning a window), and
+                          rejects it when the next record comes back within D`;

@@ -75,6 +75,12 @@ export class PartitionAlignment<M> {
     if (queue !== undefined) queue.lagging = false;
   }
 
+  /** True while a partition has buffered messages or a backlog not yet fetched. */
+  isBehind(partition: number): boolean {
+    const queue = this.partitions.get(partition);
+    return queue !== undefined && (queue.lagging || queue.next < queue.messages.length);
+  }
+
   /** True while a partition has buffered messages (and so should not be fetched). */
   hasBuffered(partition: number): boolean {
     const queue = this.partitions.get(partition);

@@ -121,6 +121,11 @@ export interface KafkaSourceInfo {
   readonly judgedThrough: number | null;
   /** Where each partition starts. */
   readonly startOffsets: readonly PartitionOffset[];
+  /**
+   * Partitions with records to read at start (a backlog): event time waits for each of
+   * them before closing windows, so a partition fetched late is not judged as late.
+   */
+  readonly backlogPartitions: readonly number[];
 }
 
 /** Running counts of the source. */
@@ -188,6 +193,7 @@ export class KafkaSource implements AsyncIterable<SourceItem> {
   private readonly decoder: KafkaMessageDecoder;
   private readonly tracker: ReleaseTracker;
   private readonly alignment: PartitionAlignment<KafkaMessage>;
+  private collector: ItemCollector | null = null;
   private readonly listeners = new Set<KafkaSourceListener>();
   private readonly stopping = new AbortController();
   private readonly connectRetry: BackoffPolicy;
@@ -326,7 +332,8 @@ export class KafkaSource implements AsyncIterable<SourceItem> {
     this.claim('batches');
     const handoff = new BatchHandoff();
     this.handoff = handoff;
-    this.tracker.target = new ItemCollector(() => this.collected);
+    this.collector = new ItemCollector(() => this.collected);
+    this.tracker.target = this.collector;
     let endedNaturally = false;
     try {
       await this.begin();
@@ -341,6 +348,14 @@ export class KafkaSource implements AsyncIterable<SourceItem> {
     } finally {
       if (!endedNaturally) await this.close();
     }
+  }
+
+  /**
+   * True while a partition has records fetched but not handed on, or more waiting in Kafka
+   * than its last fetch brought: it is behind, not idle.
+   */
+  backlogged(partition: number): boolean {
+    return this.alignment.isBehind(partition);
   }
 
   /** Yields every record and rejection (see {@link batches}). */
@@ -515,7 +530,14 @@ export class KafkaSource implements AsyncIterable<SourceItem> {
     }
     const judged = Number.isFinite(judgedThrough) ? judgedThrough : null;
     this.emit({ type: 'start-positions', groupId, resumed, fromOption, judgedThrough: judged });
-    return { topic, groupId, partitions, judgedThrough: judged, startOffsets };
+    return {
+      topic,
+      groupId,
+      partitions,
+      judgedThrough: judged,
+      startOffsets,
+      backlogPartitions: [...pending.keys()].sort((a, b) => a - b),
+    };
   }
 
   private async partitionCount(admin: Admin): Promise<number> {
@@ -793,6 +815,7 @@ export class KafkaSource implements AsyncIterable<SourceItem> {
     if (this.closed) return false;
     const tracker = this.tracker;
     tracker.latestRelease = Number.NEGATIVE_INFINITY;
+    if (this.collector !== null) this.collector.partition = partition;
     this.decoder.decode(message.value, message.key, partition, ts, tracker);
     const at = this.handedOn++;
     if (at >= this.scratchOffsets.length) this.growScratch();
@@ -991,8 +1014,10 @@ class ReleaseTracker implements RecordSink {
   }
 }
 
-/** Builds items into the array `current()` returns. */
+/** Builds items, tagged with their partition, into the array `current()` returns. */
 class ItemCollector implements RecordSink {
+  /** The partition of the message being decoded. */
+  partition = 0;
   private readonly current: () => SourceItem[];
 
   constructor(current: () => SourceItem[]) {
@@ -1000,8 +1025,9 @@ class ItemCollector implements RecordSink {
   }
 
   record(ts: number, shard: string, count: number, key: string | undefined): void {
+    const partition = this.partition;
     const record: CountRecord =
-      key === undefined ? { ts, shard, count } : { ts, shard, count, key };
+      key === undefined ? { ts, shard, count, partition } : { ts, shard, count, key, partition };
     this.current().push(record);
   }
 

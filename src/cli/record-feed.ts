@@ -1,0 +1,63 @@
+import { setImmediate as nextTurn } from 'node:timers/promises';
+import type { SourceItem } from '../ingest/file-source.js';
+import type { RecordSource, SourceStart } from '../ingest/record-source.js';
+import type { JudgingPipeline } from '../judge/judging-pipeline.js';
+import { isRejection, type CountRecord } from '../window/count-record.js';
+
+/** What a command adds to the feed. */
+export interface FeedHooks {
+  /** False leaves a record out (review's --since/--until); default keeps every record. */
+  readonly keep?: (record: CountRecord) => boolean;
+  /** After each batch: back-pressure of the output, the screen's turn. */
+  readonly afterBatch?: (batch: SourceItem[]) => Promise<void> | void;
+  /** Checked after each batch: true stops reading (an interrupt). */
+  readonly stopped?: () => boolean;
+}
+
+/**
+ * Longest stretch of records, ms, fed without giving the event loop a turn: signals,
+ * /metrics, /healthz and the screen's keys are answered within about this while a large
+ * batch (a 1 MiB read buffer, a catch-up fetch) is counted and judged.
+ */
+const sliceMs = 20;
+
+/**
+ * The one pipeline feed of `watch` and `review`: every record of every source goes to
+ * the pipeline the same way, with its key and its source partition, rejections with their
+ * line. Partitions the source announces with a backlog hold windows open until they
+ * report (or go idle), and the idle rule asks the source which partitions are still
+ * behind. Between batches, and every 1024 records within one once the slice is used up,
+ * the event loop gets a turn. Resolves when the source ends or `stopped()` says so after
+ * a batch (never mid-batch: a batch is counted whole, so offsets stay consistent).
+ */
+export async function feedRecords(
+  source: RecordSource,
+  start: SourceStart,
+  pipeline: JudgingPipeline,
+  hooks: FeedHooks = {},
+): Promise<void> {
+  for (const partition of start.backlogPartitions) pipeline.expectPartition(partition);
+  pipeline.setBacklogProbe((partition) => source.backlogged(partition));
+  const keep = hooks.keep;
+  let sliceStart = performance.now();
+  for await (const batch of source.batches()) {
+    const length = batch.length;
+    for (let at = 0; at < length; at++) {
+      const item = batch[at];
+      if (isRejection(item)) pipeline.reject(item.reason, item.line);
+      else if (keep === undefined || keep(item)) {
+        pipeline.record(item.ts, item.shard, item.count, item.key, item.partition ?? 0);
+      }
+      if ((at & 1023) === 1023 && performance.now() - sliceStart > sliceMs) {
+        await nextTurn();
+        sliceStart = performance.now();
+      }
+    }
+    await hooks.afterBatch?.(batch);
+    if (hooks.stopped?.() === true) return;
+    if (performance.now() - sliceStart > sliceMs) {
+      await nextTurn();
+      sliceStart = performance.now();
+    }
+  }
+}
