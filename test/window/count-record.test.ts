@@ -2,8 +2,8 @@ import { describe, expect, it } from 'vitest';
 import { isRejection, rejectionReasons } from '../../src/window/count-record.js';
 
 describe('rejection reasons', () => {
-  it('are the stable labels of INTERFACES.md plus "shard id too long", each once', () => {
-    // The exact strings are a contract (metric labels): the brief's list plus this project's one addition.
+  it('are the stable labels of INTERFACES.md plus "shard id too long" and "invalid UTF-8", each once', () => {
+    // The exact strings are a contract (metric labels): the brief's list plus this project's two additions.
     expect([...rejectionReasons].sort()).toEqual(
       [
         'not JSON',
@@ -17,6 +17,7 @@ describe('rejection reasons', () => {
         'too many shards',
         'line too long',
         'shard id too long',
+        'invalid UTF-8',
       ].sort(),
     );
   });
