@@ -18,6 +18,7 @@ import { runScenario, type ScenarioRun } from '../scenario/scenario-run.js';
 import { isRejection, rejectionReasons, type RejectionReason } from '../window/count-record.js';
 import { UsageError } from '../window/errors.js';
 import { ShardUniverse } from '../window/shard-universe.js';
+import { jsonSafe, terminalSafe } from '../window/visible-text.js';
 import type { Command, CommandIO } from './command.js';
 import { readUniverseOptions, readWindowOptions } from './window-options.js';
 import { judgeOptionSpec, readJudgeSettings } from './judge-options.js';
@@ -571,7 +572,7 @@ async function watch(plan: WatchPlan, io: CommandIO): Promise<number> {
     windows++;
     incidents.openAtEnd = judgement.incidents;
     // The screen subscribes itself; the lines are for everything else.
-    if (screen === null) output.write(JSON.stringify(judgement));
+    if (screen === null) output.write(jsonSafe(JSON.stringify(judgement)));
     recorder?.record(window, judgement, universe);
     // Last, once the verdict is out: Kafka may now commit past this window's records.
     kafka?.markJudgedUpTo(window.end);
@@ -715,7 +716,8 @@ function summary(
     `  rejected: ${rejectedCount}${rejected.length > 0 ? ` (${rejected.join(', ')})` : ''}; late: ${totals.late} requests in ${totals.lateRecords} records`,
     `  incidents: ${incidents.opened.length} opened, ${incidents.cleared} cleared, ${incidents.openAtEnd.length} open at the end`,
     ...incidents.opened.map(
-      (incident) => `    ${incident.finding} on ${incident.shard} since ${incident.since}`,
+      (incident) =>
+        `    ${incident.finding} on ${terminalSafe(incident.shard)} since ${incident.since}`,
     ),
   ];
   if (totals.quietWindowsSkipped > 0) {
