@@ -1,5 +1,5 @@
 import { longestShardId } from '../window/count-record.js';
-import { decodeJsonLine, emitChecked, longestLine, type RecordSink } from './decode.js';
+import { decodeJsonLine, emitWellFormed, longestLine, type RecordSink } from './decode.js';
 import { hashIdByte, idHashStart, ShardIdCache } from './shard-id-cache.js';
 import { checkEpochMs } from './timestamp.js';
 import { decodeUtf8Marked } from './utf8-text.js';
@@ -94,7 +94,8 @@ function scanCountReport(
   } else if (shardEnd - shardStart > longestShardId) {
     sink.reject('shard id too long');
   } else {
-    emitChecked(checkedTs, ids.idFor(bytes, shardStart, shardEnd, hash), count, undefined, sink);
+    // Printable ASCII: well-formed text by construction.
+    emitWellFormed(checkedTs, ids.idFor(bytes, shardStart, shardEnd, hash), count, undefined, sink);
   }
   return true;
 }

@@ -176,8 +176,8 @@ function readShard(value: unknown): string | undefined {
 
 /**
  * Checks a record's shard and count and hands it to the sink: the last step
- * of every decoding path (JSON, CSV, the byte scanner), so they cannot drift
- * apart on what a valid record is. `ts` must already be checked.
+ * of every decoding path (JSON, CSV, Kafka), so they cannot drift apart on
+ * what a valid record is. `ts` must already be checked.
  */
 export function emitChecked(
   ts: number,
@@ -192,6 +192,25 @@ export function emitChecked(
   }
   if (!isWellFormedText(shard) || (key !== undefined && !isWellFormedText(key))) {
     sink.reject('invalid UTF-8');
+    return;
+  }
+  emitWellFormed(ts, shard, count, key, sink);
+}
+
+/**
+ * {@link emitChecked} for a shard and key already known to be well-formed text:
+ * the byte scanner's ids are printable ASCII, and checking them again would cost
+ * a call per record on the fast path.
+ */
+export function emitWellFormed(
+  ts: number,
+  shard: string,
+  count: unknown,
+  key: string | undefined,
+  sink: RecordSink,
+): void {
+  if (shard === '') {
+    sink.reject('missing shard');
     return;
   }
   if (shard.length > longestShardId) {
