@@ -2,6 +2,7 @@
 import { realpathSync } from 'node:fs';
 import { fileURLToPath } from 'node:url';
 import { UsageError } from '../window/errors.js';
+import { terminalMessage } from '../window/visible-text.js';
 import type { Command, CommandIO } from './command.js';
 import { countCommand } from './count.js';
 import { oddsCommand } from './odds.js';
@@ -55,7 +56,7 @@ export async function main(argv: readonly string[], io: CommandIO): Promise<numb
   const command = COMMANDS.find((c) => c.name === name);
   if (!command) {
     io.stderr.write(
-      `shardwise: unknown command ${JSON.stringify(name)} (commands: ${COMMANDS.map((c) => c.name).join(', ')})\n`,
+      `shardwise: unknown command ${terminalMessage(JSON.stringify(name))} (commands: ${COMMANDS.map((c) => c.name).join(', ')})\n`,
     );
     return 2;
   }
@@ -67,11 +68,11 @@ export async function main(argv: readonly string[], io: CommandIO): Promise<numb
     return await command.run(rest, io);
   } catch (error) {
     if (error instanceof UsageError) {
-      io.stderr.write(`shardwise ${command.name}: ${error.message}\n`);
+      io.stderr.write(`shardwise ${command.name}: ${terminalMessage(error.message)}\n`);
       return 2;
     }
     const message = error instanceof Error ? error.message : String(error);
-    io.stderr.write(`shardwise ${command.name}: ${message}\n`);
+    io.stderr.write(`shardwise ${command.name}: ${terminalMessage(message)}\n`);
     if (debug && error instanceof Error && error.stack) io.stderr.write(`${error.stack}\n`);
     return 1;
   }

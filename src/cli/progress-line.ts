@@ -1,6 +1,9 @@
+import { terminalMessage } from '../window/visible-text.js';
+
 /**
  * A one-line progress report on stderr for long reads, redrawn in place at most every
  * 250 ms, and only when stderr is a terminal: piped or logged, a command stays quiet.
+ * The text may name an input, so its control characters are escaped.
  */
 export class ProgressLine {
   private readonly stream: NodeJS.WritableStream & { isTTY?: boolean };
@@ -22,7 +25,7 @@ export class ProgressLine {
     if (now - this.last < 250) return;
     this.last = now;
     this.shown = true;
-    this.stream.write(`\r\u001b[2K${text()}`);
+    this.stream.write(`\r\u001b[2K${terminalMessage(text())}`);
   }
 
   /** Clears the line (before the command's own output on stderr). */

@@ -17,6 +17,7 @@ import type { ReviewWindow } from '../review/review-window.js';
 import { rejudgeRecording } from '../review/rejudge.js';
 import { UsageError } from '../window/errors.js';
 import { ShardUniverse } from '../window/shard-universe.js';
+import { terminalMessage } from '../window/visible-text.js';
 import type { Command, CommandIO } from './command.js';
 import { judgeOptionNames, judgeOptionSpec, readJudgeSettings } from './judge-options.js';
 import {
@@ -199,7 +200,7 @@ async function review(values: Values, io: CommandIO): Promise<number> {
   }
   progress.done();
   for (const note of notes) {
-    io.stderr.write(`shardwise review: note: ${note}\n`);
+    io.stderr.write(`shardwise review: note: ${terminalMessage(note)}\n`);
     builder?.note(note);
   }
   if (builder === null) throw new Error('there is no window to review: the input holds none');

@@ -12,7 +12,6 @@ import {
 import { Judge } from '../judge/judge.js';
 import type { JudgingPipeline } from '../judge/judging-pipeline.js';
 import { describeSpan } from '../judge/time-span.js';
-import { terminalSafe } from '../ui/terminal-text.js';
 import type { Incident } from '../judge/judgement.js';
 import type { RecordedSettings } from '../record/recording-line.js';
 import { defaultRecordingMaxBytes, WindowRecorder } from '../record/window-recorder.js';
@@ -27,6 +26,7 @@ import {
 import { rejectionReasons, type RejectionReason } from '../window/count-record.js';
 import { UsageError } from '../window/errors.js';
 import { ShardUniverse } from '../window/shard-universe.js';
+import { jsonSafe, terminalSafe } from '../window/visible-text.js';
 import type { Command, CommandIO } from './command.js';
 import { maxAheadHelp, readUniverseOptions, readWindowOptions } from './window-options.js';
 import { judgeOptionSpec, readJudgeSettings } from './judge-options.js';
@@ -513,7 +513,7 @@ async function watch(plan: WatchPlan, io: CommandIO): Promise<number> {
     windows++;
     incidents.openAtEnd = judgement.incidents;
     // The screen subscribes itself; the lines are for everything else.
-    if (screen === null) output.write(JSON.stringify(judgement));
+    if (screen === null) output.write(jsonSafe(JSON.stringify(judgement)));
     recorder?.record(window, judgement, universe);
     // Last, once the verdict is out: Kafka may now commit past this window's records.
     source.markJudgedUpTo(window.end);

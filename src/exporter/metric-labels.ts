@@ -25,6 +25,7 @@ export const rejectionReasonLabels: Readonly<Record<RejectionReason, string>> = 
   'non-integer count': 'non_integer_count',
   'missing shard': 'missing_shard',
   'shard id too long': 'shard_id_too_long',
+  'invalid UTF-8': 'invalid_utf_8',
   'outside universe': 'outside_universe',
   'bad timestamp': 'bad_timestamp',
   'too late': 'too_late',

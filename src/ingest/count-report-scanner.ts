@@ -1,9 +1,8 @@
 import { longestShardId } from '../window/count-record.js';
-import { decodeJsonLine, emitChecked, longestLine, type RecordSink } from './decode.js';
+import { decodeJsonLine, emitWellFormed, longestLine, type RecordSink } from './decode.js';
 import { hashIdByte, idHashStart, ShardIdCache } from './shard-id-cache.js';
 import { checkEpochMs } from './timestamp.js';
-
-const utf8 = new TextDecoder('utf-8', { ignoreBOM: true });
+import { decodeUtf8Marked } from './utf8-text.js';
 
 /**
  * {@link decodeJsonLine} on the UTF-8 bytes `bytes[start..end)` (a line of a
@@ -13,7 +12,8 @@ const utf8 = new TextDecoder('utf-8', { ignoreBOM: true });
  * with no string made but the id, and the id comes from `ids` when it was
  * seen before; about four times faster than JSON.parse. Anything else (other
  * key orders, escapes, non-ASCII ids, signs, fractions, exponents, leading
- * zeros, more than 15 digits) is decoded as text and goes to JSON.parse; a
+ * zeros, more than 15 digits) is decoded as text (invalid UTF-8 bytes kept
+ * apart, see decodeUtf8Marked) and goes to JSON.parse; a
  * fuzz test holds the two paths to the same answers. O(length).
  */
 export function decodeJsonBytes(
@@ -29,7 +29,7 @@ export function decodeJsonBytes(
     return;
   }
   if (!scanCountReport(bytes, start, end, sink, ids)) {
-    decodeJsonLine(utf8.decode(bytes.subarray(start, end)), sink, fallbackTs);
+    decodeJsonLine(decodeUtf8Marked(bytes, start, end), sink, fallbackTs);
   }
 }
 
@@ -94,7 +94,8 @@ function scanCountReport(
   } else if (shardEnd - shardStart > longestShardId) {
     sink.reject('shard id too long');
   } else {
-    emitChecked(checkedTs, ids.idFor(bytes, shardStart, shardEnd, hash), count, undefined, sink);
+    // Printable ASCII: well-formed text by construction.
+    emitWellFormed(checkedTs, ids.idFor(bytes, shardStart, shardEnd, hash), count, undefined, sink);
   }
   return true;
 }

@@ -1,6 +1,7 @@
 import { longestShardId, type RejectionReason } from '../window/count-record.js';
 import { splitCsvRecord } from '../window/csv-record.js';
 import { checkEpochMs, parseIsoTimestamp } from './timestamp.js';
+import { isWellFormedText } from './utf8-text.js';
 
 /**
  * Where decoded records go. Called synchronously, once per record or
@@ -8,7 +9,7 @@ import { checkEpochMs, parseIsoTimestamp } from './timestamp.js';
  * object per record.
  */
 export interface RecordSink {
-  /** A valid record: `count` is a whole number >= 0, `shard` 1..200 characters. */
+  /** A valid record: `count` is a whole number >= 0, `shard` 1..200 characters; shard and key well-formed text. */
   record(ts: number, shard: string, count: number, key: string | undefined): void;
   /** A record that failed validation. */
   reject(reason: RejectionReason): void;
@@ -31,7 +32,9 @@ export const longestLine = 1 << 20;
  * `shard`/`count`, bad timestamp) is one rejection; in a batch, a bad entry
  * rejects only that entry. A shard may be a string or a non-negative whole
  * number (partition numbers), kept as text; an empty or null one is
- * "missing shard", one over 200 characters "shard id too long". Counts must
+ * "missing shard", one over 200 characters "shard id too long"; a shard or key
+ * that is not well-formed text (bytes that were not UTF-8, marked by
+ * decodeUtf8Marked, or a lone surrogate from a `\ud800` escape) is "invalid UTF-8". Counts must
  * be numbers (a string "42" is "wrong type") and whole numbers a double holds
  * exactly (up to 2^53 - 1); larger ones are "non-integer count". A key must be
  * a string. Extra fields are ignored. O(length).
@@ -173,10 +176,33 @@ function readShard(value: unknown): string | undefined {
 
 /**
  * Checks a record's shard and count and hands it to the sink: the last step
- * of every decoding path (JSON, CSV, the byte scanner), so they cannot drift
- * apart on what a valid record is. `ts` must already be checked.
+ * of every decoding path (JSON, CSV, Kafka), so they cannot drift apart on
+ * what a valid record is. `ts` must already be checked.
  */
 export function emitChecked(
+  ts: number,
+  shard: string,
+  count: unknown,
+  key: string | undefined,
+  sink: RecordSink,
+): void {
+  if (shard === '') {
+    sink.reject('missing shard');
+    return;
+  }
+  if (!isWellFormedText(shard) || (key !== undefined && !isWellFormedText(key))) {
+    sink.reject('invalid UTF-8');
+    return;
+  }
+  emitWellFormed(ts, shard, count, key, sink);
+}
+
+/**
+ * {@link emitChecked} for a shard and key already known to be well-formed text:
+ * the byte scanner's ids are printable ASCII, and checking them again would cost
+ * a call per record on the fast path.
+ */
+export function emitWellFormed(
   ts: number,
   shard: string,
   count: unknown,

@@ -13,6 +13,7 @@ import {
 } from './decode.js';
 import { LineSplitter } from './line-splitter.js';
 import { ShardIdCache } from './shard-id-cache.js';
+import { decodeUtf8Marked } from './utf8-text.js';
 
 /** What every source yields: a validated record or a rejection. */
 export type SourceItem = CountRecord | Rejection;
@@ -31,7 +32,6 @@ export interface FileSourceOptions {
 }
 
 const readSize = 1 << 20;
-const utf8 = new TextDecoder('utf-8', { ignoreBOM: true });
 const utf8Encoder = new TextEncoder();
 
 /**
@@ -133,11 +133,11 @@ export class FileSource implements AsyncIterable<SourceItem> {
         sink.atLine(lineNumber);
         if (!seenFirstLine) {
           seenFirstLine = true;
-          csvColumns = this.readFirstLine(utf8.decode(bytes.subarray(start, end)));
+          csvColumns = this.readFirstLine(decodeUtf8Marked(bytes, start, end));
           if (csvColumns !== null) return;
         }
         if (csvColumns === null) decodeJsonBytes(bytes, start, end, sink, ids);
-        else decodeCsvLine(utf8.decode(bytes.subarray(start, end)), csvColumns, sink);
+        else decodeCsvLine(decodeUtf8Marked(bytes, start, end), csvColumns, sink);
       },
       tooLong: (lineNumber) => {
         sink.atLine(lineNumber);

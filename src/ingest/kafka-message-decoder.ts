@@ -3,6 +3,7 @@ import { decodeJsonBytes } from './count-report-scanner.js';
 import { emitChecked, longestLine, type RecordSink } from './decode.js';
 import { hashIdByte, idHashStart, ShardIdCache } from './shard-id-cache.js';
 import { checkEpochMs, parseIsoTimestamp } from './timestamp.js';
+import { decodeUtf8Marked } from './utf8-text.js';
 
 /**
  * Where a Kafka record's shard comes from (`--shard-from`):
@@ -11,7 +12,8 @@ import { checkEpochMs, parseIsoTimestamp } from './timestamp.js';
  * - `partition`: the partition number; every message is one request at its
  *   Kafka timestamp and its value is not read, so any keyed topic can be
  *   judged on its own partitions; the message key (decoded as UTF-8) is the
- *   request's key, so hot keys can be told from placement on the topic itself;
+ *   request's key, so hot keys can be told from placement on the topic itself
+ *   (a key that is not UTF-8 rejects the message as "invalid UTF-8");
  * - `named-field`: the JSON field `field` of the value (`--shard-from field:NAME`).
  */
 export type ShardFrom =
@@ -19,8 +21,6 @@ export type ShardFrom =
   | { readonly kind: 'key' }
   | { readonly kind: 'partition' }
   | { readonly kind: 'named-field'; readonly field: string };
-
-const utf8 = new TextDecoder('utf-8', { ignoreBOM: true });
 
 /**
  * Decodes Kafka message values (and keys, partitions) into a record sink,
@@ -58,8 +58,8 @@ export class KafkaMessageDecoder {
         const ts = checkEpochMs(messageTs);
         if (Number.isNaN(ts)) sink.reject('bad timestamp');
         else {
-          const requestKey = key === null || key.length === 0 ? undefined : utf8.decode(key);
-          sink.record(ts, this.partitionId(partition), 1, requestKey);
+          const requestKey = key === null || key.length === 0 ? undefined : decodeUtf8Marked(key);
+          emitChecked(ts, this.partitionId(partition), 1, requestKey, sink);
         }
         return;
       }
@@ -98,12 +98,12 @@ export class KafkaMessageDecoder {
     return id;
   }
 
-  /** The key as a shard id: printable ASCII through the id cache, anything else decoded as UTF-8. */
+  /** The key as a shard id: printable ASCII through the id cache, anything else decoded as UTF-8 (invalid bytes marked, so the id is rejected). */
   private keyId(key: Uint8Array): string {
     let hash = idHashStart;
     for (let at = 0; at < key.length; at++) {
       const byte = key[at];
-      if (byte < 0x20 || byte > 0x7e) return utf8.decode(key);
+      if (byte < 0x20 || byte > 0x7e) return decodeUtf8Marked(key);
       hash = hashIdByte(hash, byte);
     }
     return this.ids.idFor(key, 0, key.length, hash);
@@ -131,7 +131,7 @@ function decodeShardless(
   }
   let parsed: unknown;
   try {
-    parsed = JSON.parse(utf8.decode(value));
+    parsed = JSON.parse(decodeUtf8Marked(value));
   } catch {
     sink.reject('not JSON');
     return;

@@ -2,6 +2,7 @@ import { closeSync, openSync, renameSync, writeSync } from 'node:fs';
 import type { Judgement } from '../judge/judgement.js';
 import type { ClosedWindow } from '../window/event-time-window.js';
 import type { ShardUniverse } from '../window/shard-universe.js';
+import { jsonSafe } from '../window/visible-text.js';
 import { recordingVersion, type RecordedSettings, type RecordingLine } from './recording-line.js';
 
 /** Default size cap of a recording file: 1 GiB, so at most 2 GiB on disk with the rotated one. */
@@ -94,7 +95,7 @@ export class WindowRecorder {
       settings: this.settings,
       ...(withIds ? { shardIds: universe.ids.slice(0, size), ...sharesOf(universe, size) } : {}),
     };
-    return JSON.stringify(line) + '\n';
+    return jsonSafe(JSON.stringify(line)) + '\n';
   }
 
   private rotate(): void {

@@ -2,6 +2,7 @@ import { parse, View } from 'vega';
 import { compile, type TopLevelSpec } from 'vega-lite';
 import type { Finding } from '../judge/judgement.js';
 import { findingOrder, type ReviewModel } from './review-model.js';
+import { codePointEscapes } from '../window/visible-text.js';
 
 /**
  * The report's charts as Vega-Lite specifications, rendered to SVG in Node by Vega's
@@ -167,8 +168,10 @@ function heatSpec(model: ReviewModel) {
   const values: { shard: string; start: number; end: number; load: number }[] = [];
   let highest = 2;
   for (const row of rows) {
+    // Vega escapes markup in the labels it writes, not controls or bidi overrides.
+    const label = codePointEscapes(row.shard);
     row.means.forEach((load, at) => {
-      values.push({ shard: row.shard, start: columns[at].start, end: columns[at].end, load });
+      values.push({ shard: label, start: columns[at].start, end: columns[at].end, load });
       highest = Math.max(highest, load);
     });
   }
@@ -187,7 +190,7 @@ function heatSpec(model: ReviewModel) {
         y: {
           field: 'shard',
           type: 'nominal',
-          sort: rows.map((row) => row.shard),
+          sort: rows.map((row) => codePointEscapes(row.shard)),
           title: 'shard',
           // Long ids are cut with an ellipsis past this width, never allowed to squeeze the strip.
           axis: { labelLimit: 260 },

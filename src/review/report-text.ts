@@ -1,5 +1,6 @@
 import type { Episode } from './episodes.js';
 import type { ReviewModel } from './review-model.js';
+import { codePointEscapes } from '../window/visible-text.js';
 
 /**
  * The words of a report, shared by the HTML and the Markdown renderings: numbers formatted
@@ -7,8 +8,16 @@ import type { ReviewModel } from './review-model.js';
  * escapes what it writes (shard ids are untrusted input from the wire).
  */
 
-/** HTML text and attribute values: & < > " ' become character references. */
+/**
+ * HTML text and attribute values: & < > " ' become character references, and controls,
+ * bidi controls and invisible characters are shown by code point (`\u202e`), since a
+ * character reference would still render them.
+ */
 export function escapeHtml(text: string): string {
+  return htmlReferences(codePointEscapes(text));
+}
+
+function htmlReferences(text: string): string {
   return text
     .replace(/&/g, '&amp;')
     .replace(/</g, '&lt;')
@@ -19,16 +28,12 @@ export function escapeHtml(text: string): string {
 
 /**
  * Markdown table cells and text: HTML's specials as character references (Markdown passes
- * raw HTML through), Markdown's own punctuation backslash-escaped, and line breaks and other
- * control characters shown as \u escapes so a cell stays one cell.
+ * raw HTML through), Markdown's own punctuation backslash-escaped, and line breaks, other
+ * controls, bidi controls and invisible characters shown as \u escapes so a cell stays one
+ * cell and reads as what it holds.
  */
 export function escapeMarkdown(text: string): string {
-  return escapeHtml(text)
-    .replace(/[\\`*_{}[\]|~]/g, (c) => `\\${c}`)
-    .replace(
-      /[\u0000-\u001f\u007f\u2028\u2029]/g,
-      (c) => `\\u${c.charCodeAt(0).toString(16).padStart(4, '0')}`,
-    );
+  return codePointEscapes(htmlReferences(text).replace(/[\\`*_{}[\]|~]/g, (c) => `\\${c}`));
 }
 
 /** 12 345 678 as "12,345,678"; fractions rounded to whole requests. */

@@ -4,47 +4,18 @@
  * Shard ids and keys are untrusted: a producer can put an escape sequence in one that
  * moves the cursor, clears the screen, sets the window title or writes to the clipboard
  * (OSC 52). Ink passes colour and OSC sequences through, so every id is passed through
- * {@link terminalSafe} before it reaches a component. Unsafe characters are escaped, not
+ * {@link terminalSafe} (in src/window/visible-text.ts, shared with the CLI's stderr lines and
+ * the reports) before it reaches a component. Unsafe characters are escaped, not
  * dropped: an operator should see that an id carries an escape sequence, since that is a
  * finding about the producer in itself.
  */
 
-/** Code points shown as `\xNN`: C0 controls, DEL and the C1 controls (U+009B is a CSI). */
-function isByteControl(codePoint: number): boolean {
-  return codePoint < 0x20 || (codePoint >= 0x7f && codePoint <= 0x9f);
-}
+import { terminalSafe } from '../window/visible-text.js';
 
-/**
- * Invisible or layout-changing characters shown as `\u{...}`: format characters (bidi
- * overrides and isolates, zero-width joiners, the byte-order mark), line and paragraph
- * separators, unassigned and private-use code points, lone surrogates. A bidi override can
- * make a shard id read as another.
- */
-const invisible = /[\p{Cf}\p{Zl}\p{Zp}\p{Co}\p{Cn}\p{Cs}]/u;
+export { terminalSafe };
+
 /** Zero-width marks that draw on the previous cell. */
 const combining = /[\p{Mn}\p{Me}]/u;
-
-/**
- * The text with every control character, escape sequence introducer and invisible
- * character replaced by a visible escape (`\x1b`, `\x9b`, `\u{202e}`) and each backslash
- * doubled, so an escape cannot be forged by a literal `\x1b` in the id. A combining mark
- * at the start (which would draw on whatever precedes the id) is escaped too. O(length).
- * Example: terminalSafe('s-1\u001b[2J') is 's-1\\x1b[2J'.
- */
-export function terminalSafe(text: string): string {
-  let out = '';
-  let first = true;
-  for (const character of text) {
-    const codePoint = character.codePointAt(0) as number;
-    if (character === '\\') out += '\\\\';
-    else if (isByteControl(codePoint)) out += `\\x${codePoint.toString(16).padStart(2, '0')}`;
-    else if (invisible.test(character) || (first && combining.test(character))) {
-      out += `\\u{${codePoint.toString(16)}}`;
-    } else out += character;
-    first = false;
-  }
-  return out;
-}
 
 /**
  * Cells a code point takes: 0 for combining marks, 2 for East Asian wide and fullwidth

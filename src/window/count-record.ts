@@ -27,6 +27,10 @@ export interface CountRecord {
  * INTERFACES.md: an id over {@link longestShardId} characters is far more
  * likely garbage than a shard, and naming it apart from "wrong type" tells the
  * operator which producer field to look at.
+ *
+ * "invalid UTF-8" is another: a shard id or key whose bytes are not well-formed
+ * UTF-8, or whose JSON escapes leave a lone surrogate (`"\ud800"`). Decoders
+ * would turn such bytes into U+FFFD and merge ids that differ only in them.
  */
 export type RejectionReason =
   | 'not JSON'
@@ -35,6 +39,7 @@ export type RejectionReason =
   | 'non-integer count'
   | 'missing shard'
   | 'shard id too long'
+  | 'invalid UTF-8'
   | 'outside universe'
   | 'bad timestamp'
   | 'too late'
@@ -50,6 +55,7 @@ export const rejectionReasons: readonly RejectionReason[] = [
   'non-integer count',
   'missing shard',
   'shard id too long',
+  'invalid UTF-8',
   'outside universe',
   'bad timestamp',
   'too late',

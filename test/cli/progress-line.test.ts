@@ -32,4 +32,12 @@ describe('ProgressLine', () => {
     progress.done();
     expect(text()).toBe('');
   });
+
+  it('escapes the controls and bidi overrides of a name in the text (ECMA-48 OSC, UAX #9)', () => {
+    const { out, text } = stream(true);
+    const progress = new ProgressLine(out, () => 0);
+    progress.update(() => 'reading t\u001b]0;x\u0007\u202e.jsonl');
+    // Only the redraw's own \r ESC [2K remains raw.
+    expect(text()).toBe('\r\u001b[2Kreading t\\x1b]0;x\\x07\\u{202e}.jsonl');
+  });
 });

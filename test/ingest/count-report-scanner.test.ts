@@ -179,3 +179,20 @@ describe('decodeJsonBytes', () => {
     expect(other[0][2]).toBe('s-2');
   });
 });
+
+describe('decodeJsonBytes, bytes that are not UTF-8', () => {
+  // Unicode's well-formed UTF-8 sequences: FF and FE occur in none. The scanner hands such
+  // lines to JSON.parse; the two ids must stay two rejections, not one shard a\uFFFD.
+  it('rejects ids with invalid bytes, each on its own', () => {
+    for (const byte of [0xff, 0xfe, 0x80]) {
+      const line = Uint8Array.of(
+        ...encoder.encode('{"ts":5,"shard":"a'),
+        byte,
+        ...encoder.encode('","count":1}'),
+      );
+      const into = recorder();
+      decodeJsonBytes(line, 0, line.length, into, new ShardIdCache());
+      expect(into.calls).toEqual([['reject', 'invalid UTF-8']]);
+    }
+  });
+});

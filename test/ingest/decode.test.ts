@@ -172,6 +172,24 @@ describe('decodeJsonLine, every rejection reason', () => {
   });
 });
 
+describe('decodeJsonLine, "invalid UTF-8" for lone surrogates from escapes', () => {
+  // RFC 8259 section 8.2: an escape of a lone surrogate ("\ud800") parses, but the string
+  // is not well-formed Unicode text; Unicode's definition of well-formed UTF-16 forbids it.
+  it('rejects a shard id or key holding a lone surrogate, and only that entry of a batch', () => {
+    expect(reasonOf(`{"ts": ${ts}, "shard": "a\\ud800", "count": 1}`)).toEqual(['invalid UTF-8']);
+    expect(reasonOf(`{"ts": ${ts}, "shard": "a", "key": "k\\udfff"}`)).toEqual(['invalid UTF-8']);
+    const decoded = json(`{"ts": ${ts}, "counts": {"a\\ud800": 1, "a\\ud801": 2, "b": 3}}`);
+    expect(decoded.records).toEqual([{ ts, shard: 'b', count: 3 }]);
+    expect(decoded.rejected).toEqual(['invalid UTF-8', 'invalid UTF-8']);
+  });
+
+  it('keeps escaped surrogate pairs and a genuine U+FFFD', () => {
+    expect(json(`{"ts": ${ts}, "shard": "\\ud83d\\ude00", "key": "\\ufffd"}`).records).toEqual([
+      { ts, shard: '\u{1f600}', count: 1, key: '\ufffd' },
+    ]);
+  });
+});
+
 describe('CSV records', () => {
   const columns = parseCsvHeader('ts,shard,count') as CsvColumns;
 

@@ -28,6 +28,76 @@ async function items(source: FileSource): Promise<SourceItem[]> {
 
 const ts = 1_764_583_200_000;
 
+describe('FileSource, bytes that are not UTF-8', () => {
+  // Unicode's well-formed UTF-8 sequences: FF and FE occur in none. A WHATWG decoder turns
+  // both into U+FFFD, which would merge `a\xff` and `a\xfe` into one shard `a\uFFFD`.
+  const enc = (text: string): number[] => [...Buffer.from(text, 'utf8')];
+  const jsonLines = Buffer.from([
+    ...enc(`{"ts":${ts},"shard":"a`),
+    0xff,
+    ...enc('","count":1}\n'),
+    ...enc(`{"ts":${ts},"shard":"a`),
+    0xfe,
+    ...enc('","count":2}\n'),
+    ...enc(`{"ts":${ts},"counts":{"b":3,"a`),
+    0xff,
+    ...enc('":4,"a'),
+    0xfe,
+    ...enc('":5}}\n'),
+    ...enc(`{"ts":${ts},"shard":"c","key":"k`),
+    0xc0,
+    0xaf,
+    ...enc('"}\n'),
+    ...enc(`{"ts":${ts},"shard":"a\uFFFD","count":6}\n`),
+  ]);
+  const expected = [
+    { reason: 'invalid UTF-8', line: 1 },
+    { reason: 'invalid UTF-8', line: 2 },
+    { ts, shard: 'b', count: 3 },
+    { reason: 'invalid UTF-8', line: 3 },
+    { reason: 'invalid UTF-8', line: 3 },
+    { reason: 'invalid UTF-8', line: 4 },
+    { ts, shard: 'a\uFFFD', count: 6 },
+  ];
+
+  it('rejects each JSON Lines id or key with invalid bytes, keeping the rest of a batch', async () => {
+    const path = join(directory, `${fileCount++}-bytes.jsonl`);
+    writeFileSync(path, jsonLines);
+    expect(await items(new FileSource(path))).toEqual(expected);
+  });
+
+  it('does the same on standard input, with the bytes split across chunks', async () => {
+    const cut = jsonLines.indexOf(0xfe);
+    const stream = Readable.from([jsonLines.subarray(0, cut), jsonLines.subarray(cut)]);
+    expect(await items(new FileSource('-', { stream }))).toEqual(expected);
+  });
+
+  it('rejects CSV ids and keys with invalid bytes', async () => {
+    const content = Buffer.from([
+      ...enc(`ts,shard,count,key\n${ts},a`),
+      0xff,
+      ...enc(',1,\n'),
+      ...enc(`${ts},a`),
+      0xfe,
+      ...enc(',1,\n'),
+      ...enc(`${ts},b,1,k`),
+      0xed,
+      0xa0,
+      0x80,
+      ...enc('\n'),
+      ...enc(`${ts},a\uFFFD,2,\n`),
+    ]);
+    const path = join(directory, `${fileCount++}-bytes.csv`);
+    writeFileSync(path, content);
+    expect(await items(new FileSource(path))).toEqual([
+      { reason: 'invalid UTF-8', line: 2 },
+      { reason: 'invalid UTF-8', line: 3 },
+      { reason: 'invalid UTF-8', line: 4 },
+      { ts, shard: 'a\uFFFD', count: 2 },
+    ]);
+  });
+});
+
 describe('FileSource', () => {
   it('yields records and numbered rejections from JSON Lines, skipping blank lines', async () => {
     const path = file(

@@ -143,3 +143,48 @@ describe('KafkaMessageDecoder, --shard-from field:NAME', () => {
     expect(decode(tenant, null)).toEqual([{ reason: 'not JSON' }]);
   });
 });
+
+describe('KafkaMessageDecoder, bytes that are not UTF-8', () => {
+  // Unicode's well-formed UTF-8 sequences: FF and FE occur in none; a WHATWG decoder would
+  // make both U+FFFD and merge the two ids.
+  const withByte = (before: string, byte: number, after: string): Uint8Array =>
+    Uint8Array.of(...bytes(before), byte, ...bytes(after));
+  function decodeBytes(shardFrom: ShardFrom, value: Uint8Array | null, key: Uint8Array | null) {
+    const { sink, seen } = collector();
+    new KafkaMessageDecoder(shardFrom).decode(value, key, 3, stamp, sink);
+    return seen;
+  }
+  const invalid = [{ reason: 'invalid UTF-8' }];
+
+  it("rejects a value whose shard or key is not UTF-8, keeping a batch's good entries", () => {
+    expect(decodeBytes({ kind: 'field' }, withByte('{"shard":"a', 0xff, '"}'), null)).toEqual(
+      invalid,
+    );
+    expect(
+      decodeBytes({ kind: 'field' }, withByte('{"counts":{"b":2,"a', 0xfe, '":1}}'), null),
+    ).toEqual([{ ts: stamp, shard: 'b', count: 2, key: undefined }, ...invalid]);
+    expect(
+      decodeBytes({ kind: 'named-field', field: 'node' }, withByte('{"node":"a', 0xff, '"}'), null),
+    ).toEqual(invalid);
+    expect(
+      decodeBytes({ kind: 'field' }, withByte('{"shard":"a","key":"', 0xfe, '"}'), null),
+    ).toEqual(invalid);
+  });
+
+  it('rejects a message key that is not UTF-8, as shard id or as request key', () => {
+    expect(decodeBytes({ kind: 'key' }, null, Uint8Array.of(0x61, 0xff))).toEqual(invalid);
+    expect(decodeBytes({ kind: 'key' }, bytes('{"count":2}'), Uint8Array.of(0x61, 0xfe))).toEqual(
+      invalid,
+    );
+    expect(decodeBytes({ kind: 'partition' }, null, Uint8Array.of(0x6b, 0xff))).toEqual(invalid);
+  });
+
+  it('keeps a genuine U+FFFD (EF BF BD) in a key or value', () => {
+    expect(decodeBytes({ kind: 'key' }, null, bytes('a\uFFFD'))).toEqual([
+      { ts: stamp, shard: 'a\uFFFD', count: 1, key: undefined },
+    ]);
+    expect(decodeBytes({ kind: 'partition' }, null, bytes('k\uFFFD'))).toEqual([
+      { ts: stamp, shard: '3', count: 1, key: 'k\uFFFD' },
+    ]);
+  });
+});

@@ -2,7 +2,7 @@ import { describe, expect, it } from 'vitest';
 import { isRejection, rejectionReasons } from '../../src/window/count-record.js';
 
 describe('rejection reasons', () => {
-  it('are the stable labels of the record format plus this project\'s additions, each once', () => {
+  it("are the stable labels of the record format plus this project's additions, each once", () => {
     // The exact strings are a contract (metric labels, docs/formats): never reworded, only added to.
     expect([...rejectionReasons].sort()).toEqual(
       [
@@ -18,6 +18,7 @@ describe('rejection reasons', () => {
         'line too long',
         'shard id too long',
         'too far ahead',
+        'invalid UTF-8',
       ].sort(),
     );
   });
