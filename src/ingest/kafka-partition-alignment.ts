@@ -1,5 +1,9 @@
 /**
- * Event-time alignment of a topic's partitions while a consumer catches up.
+ * Fetch alignment of a topic's partitions while a consumer catches up: a memory and
+ * latency aid, not what keeps records on time. Correctness comes from the windows keeping
+ * event time per partition (src/window/event-time-window.ts): a record in order within its
+ * partition is never late, whatever this alignment does. What the alignment buys is that
+ * partitions are handed on at about the same pace, so fewer windows stay open at once.
  *
  * Event-time windows close when the newest timestamp seen, less the
  * lateness, passes their end. A consumer reading a backlog gets each
