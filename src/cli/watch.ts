@@ -505,8 +505,9 @@ async function watch(plan: WatchPlan, io: CommandIO): Promise<number> {
       : new MergeMetrics(exporter.metrics.registry, mergeSource);
   pipeline.events.on('window judged', ({ window, judgement: verdict }) => {
     // A merged window's verdict also says which source partitions it rests on.
-    const coverage = mergeSource?.coverageOf(window);
-    if (coverage !== undefined) mergeMetrics?.observe(coverage);
+    const coverage = source.coverageOf?.(window);
+    const merged = mergeSource?.coverageOf(window);
+    if (merged !== undefined) mergeMetrics?.observe(merged);
     const judgement = coverage === undefined ? verdict : { ...verdict, coverage };
     // After a resume with sliding windows, windows already judged by the last run close again.
     if (resumedThrough !== null && window.end <= resumedThrough) return;

@@ -1,4 +1,5 @@
 import type { Readable } from 'node:stream';
+import type { ClosedWindow } from '../window/event-time-window.js';
 import { FileSource, type SourceItem } from './file-source.js';
 import { KafkaSource, type KafkaSourceInfo, type KafkaSourceOptions } from './kafka-source.js';
 import { ScenarioSource, type TickedRecords } from './scenario-source.js';
@@ -31,6 +32,12 @@ export interface RecordSource {
   markJudgedUpTo(windowEnd: number): void;
   /** True while a partition has records waiting at the source: behind, not idle. */
   backlogged(partition: number): boolean;
+  /**
+   * What a judged window rests on, for sources that can tell a window short of data (a
+   * summary part that never came, a counter series that stopped being scraped): added to
+   * the verdict as `coverage`. Undefined when the source cannot tell or the window is whole.
+   */
+  coverageOf?(window: ClosedWindow): object | undefined;
 }
 
 /** What a source knows once open. */
