@@ -3,6 +3,7 @@ import type { Readable } from 'node:stream';
 import { metricsHost, metricsPort } from '../exporter/metrics-address.js';
 import { startMetricsExporter } from '../exporter/metrics-exporter.js';
 import { describeKafkaEvent } from '../ingest/kafka-events.js';
+import { KafkaOffsetsSource } from '../ingest/kafka-offsets-source.js';
 import {
   fileRecordSource,
   kafkaRecordSource,
@@ -69,6 +70,13 @@ Source (exactly one):
                           has passed (default); fast replays at full speed
 ${kafkaOptionsHelp}
 ${mergeOptionsHelp}
+  --offsets-only          with --brokers and --topic: read no message, only the
+                          topic's end offsets (high watermarks), once just after each
+                          hop boundary. The shards are the partitions ("0", "1", ...,
+                          as --shard-from partition names them) and a partition's
+                          load in a window is how far its end offset grew. Offsets
+                          are an upper bound on records (transaction markers and
+                          compaction); partitions added mid-run join the universe.
   With --group, offsets are committed only below windows still open, so a restart
   resumes after the last judged window; --from applies only to partitions the
   group has no position for. With --shard-from partition the universe is the
@@ -200,6 +208,7 @@ export const watchOptions = {
   hop: { type: 'string' },
   lateness: { type: 'string' },
   'max-ahead': { type: 'string' },
+  'offsets-only': { type: 'boolean' },
   ...judgeOptionSpec,
   'no-keys': { type: 'boolean' },
   'key-counters': { type: 'string' },
@@ -219,6 +228,7 @@ type Values = ReturnType<typeof parseOptions<typeof watchOptions>>;
 type SourcePlan =
   | { readonly kind: 'file'; readonly path: string }
   | { readonly kind: 'kafka'; readonly kafka: ParsedKafkaSource }
+  | { readonly kind: 'offsets'; readonly kafka: ParsedKafkaSource }
   | { readonly kind: 'merge'; readonly merge: MergeSettings }
   | {
       readonly kind: 'scenario';
@@ -284,6 +294,9 @@ async function readPlan(values: Values, io: CommandIO): Promise<WatchPlan> {
     );
   }
   const { windowMs, hopMs, latenessMs, maxAheadMs, maxShards } = readWindowOptions(values);
+  if (values['offsets-only'] === true && values.brokers === undefined) {
+    throw new UsageError('--offsets-only', '', 'needs --brokers H:P and --topic T');
+  }
 
   let source: SourcePlan;
   let universe: ShardUniverse | null;
@@ -327,7 +340,8 @@ async function readPlan(values: Values, io: CommandIO): Promise<WatchPlan> {
       const kafka = parseKafkaSource(values, { env: io.env });
       for (const warning of kafka.warnings)
         io.stderr.write(`shardwise watch: warning: ${warning}\n`);
-      source = { kind: 'kafka', kafka };
+      source = { kind: values['offsets-only'] === true ? 'offsets' : 'kafka', kafka };
+      if (source.kind === 'offsets') checkOffsetsOnly(values);
     } else {
       const path = values.input as string;
       if (path !== '-') await checkReadable(path);
@@ -335,7 +349,9 @@ async function readPlan(values: Values, io: CommandIO): Promise<WatchPlan> {
     }
     ({ universe, sharesDeclared } = await readUniverseOptions(values, {
       maxShards,
-      byPartition: source.kind === 'kafka' && source.kafka.shardFrom.kind === 'partition',
+      byPartition:
+        source.kind === 'offsets' ||
+        (source.kind === 'kafka' && source.kafka.shardFrom.kind === 'partition'),
     }));
   }
 
@@ -369,6 +385,21 @@ async function readPlan(values: Values, io: CommandIO): Promise<WatchPlan> {
   };
 }
 
+/** --offsets-only reads end offsets only: no group, no start, no records, no keys. */
+function checkOffsetsOnly(values: Values): void {
+  for (const name of ['group', 'from', 'shard-from', 'shards', 'shard-map'] as const) {
+    if (values[name] !== undefined) {
+      throw new UsageError(
+        `--${name}`,
+        values[name],
+        name === 'shards' || name === 'shard-map'
+          ? "cannot be combined with --offsets-only (the shards are the topic's partitions)"
+          : 'cannot be combined with --offsets-only (no message is read)',
+      );
+    }
+  }
+}
+
 async function checkReadable(path: string): Promise<void> {
   try {
     await access(path, constants.R_OK);
@@ -391,9 +422,15 @@ async function watch(plan: WatchPlan, io: CommandIO): Promise<number> {
   };
   // Kafka connects first: unreachable brokers fail here (exit 1), and --shard-from
   // partition takes its universe from the topic's partition count.
-  const recordSource = plan.source.kind === 'merge' ? null : openSource(plan, io, kafkaEvent);
+  // --offsets-only: the topic's partitions are the shards, and it may gain some mid-run.
+  const grown: { universe: ShardUniverse | null } = { universe: null };
+  const recordSource =
+    plan.source.kind === 'merge'
+      ? null
+      : openSource(plan, io, kafkaEvent, (count) => grown.universe?.growNumbered(count));
   const opened = recordSource === null ? null : await recordSource.open();
   const universe = plan.universe ?? ShardUniverse.ofCount(opened?.partitions ?? 1);
+  grown.universe = universe;
   // Built before the record file is opened, so a bad setting leaves no file behind.
   const judge = new Judge(universe, plan.run.judge);
   const pipeline = buildPipeline(
@@ -464,7 +501,8 @@ async function watch(plan: WatchPlan, io: CommandIO): Promise<number> {
   if (exporter !== null) {
     io.stderr.write(`shardwise watch: metrics at ${exporter.url} (also /healthz, /readyz)\n`);
   }
-  const connected = plan.source.kind === 'kafka' || plan.source.kind === 'merge';
+  const connected =
+    plan.source.kind === 'kafka' || plan.source.kind === 'merge' || plan.source.kind === 'offsets';
   if (choice.kind === 'screen') {
     try {
       screen = new WatchScreen({
@@ -580,9 +618,19 @@ function openSource(
   plan: WatchPlan,
   io: CommandIO,
   onEvent: (event: Parameters<typeof describeKafkaEvent>[0]) => void,
+  onPartitions: (count: number) => void,
 ): RecordSource {
   const source = plan.source;
   switch (source.kind) {
+    case 'offsets':
+      return new KafkaOffsetsSource({
+        ...source.kafka.connection,
+        topic: source.kafka.topic,
+        hopMs: plan.run.hopMs,
+        onPartitions,
+        onWarning: (text) =>
+          onEvent({ type: 'client-log', level: 'warn', namespace: 'offsets', message: text }),
+      });
     case 'file':
       return fileRecordSource(source.path, io.stdin as unknown as Readable);
     case 'scenario':
@@ -624,6 +672,8 @@ function recordedSource(plan: WatchPlan): Readonly<Record<string, unknown>> {
       return { input: source.path };
     case 'merge':
       return { merge: source.merge.topic, group: source.merge.groupId ?? null };
+    case 'offsets':
+      return { topic: source.kafka.topic, offsetsOnly: true };
     case 'kafka':
       return {
         topic: source.kafka.topic,

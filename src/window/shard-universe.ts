@@ -165,6 +165,25 @@ export class ShardUniverse {
     return new ShardUniverse(ids, [...weights], true, maxShards);
   }
 
+  /**
+   * Grows a universe of numbered equal shards ("0".."m-1", as {@link ofCount} makes for a
+   * topic's partitions) to `count` shards: a topic gained partitions. Existing indices keep
+   * their ids; a count at or below the size changes nothing. O(added).
+   */
+  growNumbered(count: number): void {
+    if (this.weights !== null || !this.declared) {
+      throw new RangeError('only a declared universe of numbered equal shards grows by count');
+    }
+    if (count > this.maxShards) {
+      throw new UsageError('--max-shards', String(this.maxShards), `is below ${count} partitions`);
+    }
+    for (let index = this.idList.length; index < count; index++) {
+      const id = String(index);
+      this.idList.push(id);
+      this.indexById.set(id, index);
+    }
+  }
+
   /** An undeclared universe that grows as shards report, equal shares. */
   static growing(options: UniverseOptions = {}): ShardUniverse {
     return new ShardUniverse([], null, false, checkMaxShards(options.maxShards));
