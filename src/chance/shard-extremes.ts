@@ -6,7 +6,7 @@ import {
   type ThresholdGroup,
 } from './extreme-load.js';
 import { shareSweep, thresholdAt, type ShareSweep } from './share-sweep.js';
-import { EXTREME_ROUNDING, shareClasses, type Placement } from './placement.js';
+import { roundingSlack, shareClasses, type Placement } from './placement.js';
 
 /**
  * The fullest and the emptiest shard of a window under random placement: tail
@@ -26,8 +26,8 @@ function groups(placement: Placement, relative: number, side: 'high' | 'low'): T
     const scaled = relative * expected;
     const threshold =
       side === 'high'
-        ? Math.ceil(scaled - EXTREME_ROUNDING * Math.max(1, scaled))
-        : Math.floor(scaled + EXTREME_ROUNDING * Math.max(1, scaled));
+        ? Math.ceil(scaled - roundingSlack(scaled))
+        : Math.floor(scaled + roundingSlack(scaled));
     return { share: c.share, count: c.count, threshold };
   });
 }

@@ -1,5 +1,5 @@
 import { logBinomialDensity, logPoissonDensity } from './discrete-densities.js';
-import { EXTREME_ROUNDING, type Placement } from './placement.js';
+import { roundingSlack, type Placement } from './placement.js';
 import {
   logBinomialAtLeast,
   logBinomialAtMost,
@@ -106,9 +106,7 @@ export const PRUNE_QUICK = 15;
 
 /** The threshold of a shard whose threshold position is x, rounded as the grouped engine does. */
 export function thresholdAt(side: Side, x: number): number {
-  return side === 'high'
-    ? Math.ceil(x - EXTREME_ROUNDING * Math.max(1, x))
-    : Math.floor(x + EXTREME_ROUNDING * Math.max(1, x));
+  return side === 'high' ? Math.ceil(x - roundingSlack(x)) : Math.floor(x + roundingSlack(x));
 }
 
 /** Largest Taylor order in e. */
@@ -978,9 +976,7 @@ function walk(
   for (let i = 0; i < shares.length; i++) {
     const share = shares[i];
     const x = relative * (total * share);
-    const k = high
-      ? Math.ceil(x - EXTREME_ROUNDING * Math.max(1, x))
-      : Math.floor(x + EXTREME_ROUNDING * Math.max(1, x));
+    const k = high ? Math.ceil(x - roundingSlack(x)) : Math.floor(x + roundingSlack(x));
     let tail: number;
     let elasticity = 0;
     if (k > co.last) {
@@ -1313,9 +1309,7 @@ function updateTails(
   const lookup = new TableLookup(co, side);
   for (let i = 0; i < kept.count; i++) {
     const x = relative * (total * shares[i]);
-    const k = high
-      ? Math.ceil(x - EXTREME_ROUNDING * Math.max(1, x))
-      : Math.floor(x + EXTREME_ROUNDING * Math.max(1, x));
+    const k = high ? Math.ceil(x - roundingSlack(x)) : Math.floor(x + roundingSlack(x));
     if (k === threshold[i]) continue;
     const value = lookup.binomialTail(k, shares[i], total);
     sum += value - tail[i];
