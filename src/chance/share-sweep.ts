@@ -296,7 +296,8 @@ interface CellPart {
   readonly orders: Orders;
   readonly width: number;
   readonly peak: number;
-  readonly starts: Int32Array;
+  /** Thresholds, up to 2^53: not an Int32Array (N = 2^53 - 1 puts them near 1e11). */
+  readonly starts: Float64Array;
   /** The Newton nodes y1, y2 (offsets from the start). */
   readonly y1: Float64Array;
   readonly y2: Float64Array;
@@ -542,7 +543,7 @@ function cellPart(
     orders,
     width: packedWidth(orders),
     peak: Math.max(...pieces.map((piece) => piece.peak)),
-    starts: Int32Array.from(starts),
+    starts: Float64Array.from(starts),
     y1: Float64Array.from(y1),
     y2: Float64Array.from(y2),
     newton: Float64Array.from(newton),
