@@ -125,7 +125,9 @@ function solveRate(groups: readonly ShardGroup[], total: number): TiltedGroup[] 
   for (let step = 0; step < 200; step++) {
     const { mean, variance } = totals(best);
     const gap = total - mean;
-    if (Math.abs(gap) <= 1e-12 * total + 1e-14) return best;
+    // Within 1e-12 N, and within 1e-6 standard deviations: near the top of W's support
+    // (a ceiling just above the fair share at N = 1e15) 1e-12 N is many standard deviations.
+    if (Math.abs(gap) <= Math.min(1e-12 * total, 1e-6 * Math.sqrt(variance)) + 1e-14) return best;
     if (gap > 0) lo = logRate;
     else hi = logRate;
     let next = logRate + (variance > 0 ? gap / variance : gap > 0 ? 1 : -1);

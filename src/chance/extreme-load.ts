@@ -69,6 +69,26 @@ const EXACT_COMPLEMENT_FROM = 1e-4;
 const FEW_GROUPS = 6;
 
 /**
+ * Below this log S1 the answer is S1 itself. Multinomial counts are negatively associated
+ * (Joag-Dev and Proschan 1983, "Negative association of random variables", Annals of
+ * Statistics 11, 286-295), so every joint tail is at most the product of its single tails:
+ * S2 <= S1^2 / 2, and S1 - S2 <= P <= S1 puts S1 within a relative S1 / 2 (here 5e-21)
+ * of the answer. The joint tails, no longer needed, are where Levin's box is least
+ * reliable (cuts hundreds of standard deviations out, as a quantile search at N = 1e15
+ * asks for).
+ */
+const LOG_NEGLIGIBLE_S1 = Math.log(1e-20);
+
+/** The answer S1 when S1 is negligible beside 1 (see LOG_NEGLIGIBLE_S1). */
+function firstTermAlone(logS1: number): TailProbability {
+  return {
+    logProbability: logS1,
+    method: 'inclusion-exclusion',
+    relativeError: Math.max(1e-13, Math.exp(logS1) / 2),
+  };
+}
+
+/**
  * Whether the exact complement could be within the routine budget (an estimate with a
  * margin of 10, so that only clearly unaffordable exact boxes are skipped).
  */
@@ -125,9 +145,47 @@ function complementLogTail(
   groups: readonly ThresholdGroup[],
   options: BoxOptions,
 ): TailProbability {
-  return tailFromComplement(
+  const tail = tailFromComplement(
     boxLogProbability(total, complementBox(side, groups), { ...options, forComplement: true }),
   );
+  if (Number.isFinite(tail.logProbability) && tail.relativeError <= UNUSABLE_ERROR) return tail;
+  return bonferroniLowerBound(side, total, groups, tail);
+}
+
+/** A complement whose estimated relative error is above this is not reported. */
+const UNUSABLE_ERROR = 0.1;
+
+/**
+ * Where Levin's box is unusable (few shards, N p in the trillions, a cut near the fair share:
+ * the cut laws keep skewed shapes however large N is, so the Edgeworth step does not
+ * converge, and the exact convolution is out of reach), the tail is reported as its lower
+ * bound max(largest single tail, S1 - S1^2 / 2) (Bonferroni with negatively associated
+ * counts; S1 - S1^2 / 2 only while S1 <= 1), method `lower-bound`, with the relative gap to
+ * the upper bound min(1, S1) as its error. This happens only where the tail is above the
+ * switch-over (0.03 and more), so no finding at an alpha below 0.03 changes with it.
+ */
+function bonferroniLowerBound(
+  side: Side,
+  total: number,
+  groups: readonly ThresholdGroup[],
+  failed: TailProbability,
+): TailProbability {
+  let logS1 = -Infinity;
+  let logLargest = -Infinity;
+  for (const g of groups) {
+    const t = singleLogTail(side, total, g);
+    logLargest = Math.max(logLargest, t);
+    logS1 = logAddExp(logS1, Math.log(g.count) + t);
+  }
+  const s1 = Math.exp(logS1);
+  const logLower = Math.max(logLargest, s1 <= 1 ? Math.log(s1 - (s1 * s1) / 2) : -Infinity);
+  const logUpper = Math.min(0, logS1);
+  if (!Number.isFinite(logLower)) return failed;
+  return {
+    logProbability: logLower,
+    method: 'lower-bound',
+    relativeError: Math.expm1(logUpper - logLower),
+  };
 }
 
 /** 1 minus the box "no shard reaches its threshold", with the error that magnifies. */
@@ -189,6 +247,7 @@ export function anyShardTail(
   const shardCount = live.reduce((n, g) => n + g.count, 0);
   if (shardCount === 1)
     return { logProbability: logS1, method: 'single-shard', relativeError: 1e-13 };
+  if (logS1 <= LOG_NEGLIGIBLE_S1) return firstTermAlone(logS1);
 
   if (
     s1 >= EXACT_COMPLEMENT_FROM &&
@@ -340,6 +399,7 @@ export function sweptShardTail(
     return { logProbability: -Infinity, method: 'impossible', relativeError: 0 };
   if (options.firstOrder)
     return { logProbability: logS1, method: 'first-order-bound', relativeError: Infinity };
+  if (logS1 <= LOG_NEGLIGIBLE_S1) return firstTermAlone(logS1);
   if (Math.exp(logS1) <= MANY_GROUPS_SWITCH) {
     const [a, b] = sums.top;
     const pair = {

@@ -19,6 +19,17 @@ export interface Placement {
  */
 export const EXTREME_ROUNDING = 1e-9;
 
+/**
+ * The slack of that rounding at position x = t N p, in counts: EXTREME_ROUNDING max(1, x) up
+ * to x = 1e6, then 1e-3 + 1e-14 x. A relative load carries about 4 roundings (2e-16 each)
+ * back into its count, so 1e-14 x keeps a margin of ten; 1e-9 x would reach 1e6 counts at
+ * x = 1e15, 0.03 standard deviations, and move a tail eight standard deviations out by a
+ * quarter.
+ */
+export function roundingSlack(x: number): number {
+  return Math.min(EXTREME_ROUNDING * Math.max(1, x), 1e-3 + 1e-14 * x);
+}
+
 /** Shards sharing a share value, with their positions in the universe. */
 export interface ShareClass {
   readonly share: number;

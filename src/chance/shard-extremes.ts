@@ -6,7 +6,7 @@ import {
   type ThresholdGroup,
 } from './extreme-load.js';
 import { shareSweep, thresholdAt, type ShareSweep } from './share-sweep.js';
-import { EXTREME_ROUNDING, shareClasses, type Placement } from './placement.js';
+import { roundingSlack, shareClasses, type Placement } from './placement.js';
 
 /**
  * The fullest and the emptiest shard of a window under random placement: tail
@@ -26,8 +26,8 @@ function groups(placement: Placement, relative: number, side: 'high' | 'low'): T
     const scaled = relative * expected;
     const threshold =
       side === 'high'
-        ? Math.ceil(scaled - EXTREME_ROUNDING * Math.max(1, scaled))
-        : Math.floor(scaled + EXTREME_ROUNDING * Math.max(1, scaled));
+        ? Math.ceil(scaled - roundingSlack(scaled))
+        : Math.floor(scaled + roundingSlack(scaled));
     return { share: c.share, count: c.count, threshold };
   });
 }
@@ -146,6 +146,14 @@ const QUICK_GAP = 3e-3;
  * estimate is better than about 2e-5 there and every halving below that costs a full pass.
  */
 const ANSWER_WIDTH = 1e-5;
+/**
+ * ...and never wider than this many standard deviations of the most concentrated shard's
+ * relative load (1 / sqrt(N p_max)): from N p = 1e4 on, a relative 1e-5 is more than 1e-3
+ * of them, and at N = 3e15 on 3 shards it was 200 of them, which put the floor above 1.
+ */
+const ANSWER_DEVIATIONS = 1e-3;
+/** The quick phase's width in the same units (QUICK_WIDTH relative until N p = 1e4). */
+const QUICK_DEVIATIONS = 1e-4;
 
 /**
  * Smallest relative load t at which `gap(t)` stops being positive, where gap falls with t
@@ -195,6 +203,10 @@ function searchRelative(
     return hi / fair;
   }
   const floorT = side === 'high' ? 1 : 0;
+  // Widths in relative load: relative to t, capped by standard deviations (ANSWER_DEVIATIONS).
+  const answerWidth = (t: number) =>
+    Math.min(ANSWER_WIDTH * t, ANSWER_DEVIATIONS * Math.sqrt(step));
+  const quickWidth = (t: number) => Math.min(QUICK_WIDTH * t, QUICK_DEVIATIONS * Math.sqrt(step));
   // First guess from the normal law of the most spread shard, z = sqrt(2 ln(1000 m)) standard
   // deviations out (a family-wise level near 1e-3); the bracket grows from there if needed.
   const guess = Math.sqrt(2 * Math.log(1000 * placement.shardCount) * step);
@@ -262,7 +274,7 @@ function searchRelative(
   for (
     let i = 0;
     i < 200 &&
-    b.hi - b.lo > QUICK_WIDTH * b.hi &&
+    b.hi - b.lo > quickWidth(b.hi) &&
     !(Math.abs(b.recent[0]?.gap ?? Infinity) < QUICK_GAP);
     i++
   )
@@ -282,7 +294,7 @@ function searchRelative(
   b.stalls = 0;
   const settle = (t: number) => probe(accurateGap, b, t);
   const gapEstimate = settle(estimate);
-  let stride = (ANSWER_WIDTH * estimate) / 2;
+  let stride = answerWidth(estimate) / 2;
   // Outward from the estimate (up while the gap is positive, else down) until it changes sign.
   const up = gapEstimate > 0;
   let inner = estimate;
@@ -307,7 +319,7 @@ function searchRelative(
   for (let round = 0; round < 100; round++) {
     const breakpoint = singleBreakpoint(placement, b.lo, b.hi, side);
     if (breakpoint !== null) return breakpoint;
-    if (b.hi - b.lo <= ANSWER_WIDTH * b.hi) break;
+    if (b.hi - b.lo <= answerWidth(b.hi)) break;
     narrowOnce(accurateGap, b);
   }
   return b.hi;

@@ -1,5 +1,5 @@
 import { logBinomialDensity, logPoissonDensity } from './discrete-densities.js';
-import { EXTREME_ROUNDING, type Placement } from './placement.js';
+import { roundingSlack, type Placement } from './placement.js';
 import {
   logBinomialAtLeast,
   logBinomialAtMost,
@@ -106,9 +106,7 @@ export const PRUNE_QUICK = 15;
 
 /** The threshold of a shard whose threshold position is x, rounded as the grouped engine does. */
 export function thresholdAt(side: Side, x: number): number {
-  return side === 'high'
-    ? Math.ceil(x - EXTREME_ROUNDING * Math.max(1, x))
-    : Math.floor(x + EXTREME_ROUNDING * Math.max(1, x));
+  return side === 'high' ? Math.ceil(x - roundingSlack(x)) : Math.floor(x + roundingSlack(x));
 }
 
 /** Largest Taylor order in e. */
@@ -298,7 +296,8 @@ interface CellPart {
   readonly orders: Orders;
   readonly width: number;
   readonly peak: number;
-  readonly starts: Int32Array;
+  /** Thresholds, up to 2^53: not an Int32Array (N = 2^53 - 1 puts them near 1e11). */
+  readonly starts: Float64Array;
   /** The Newton nodes y1, y2 (offsets from the start). */
   readonly y1: Float64Array;
   readonly y2: Float64Array;
@@ -544,7 +543,7 @@ function cellPart(
     orders,
     width: packedWidth(orders),
     peak: Math.max(...pieces.map((piece) => piece.peak)),
-    starts: Int32Array.from(starts),
+    starts: Float64Array.from(starts),
     y1: Float64Array.from(y1),
     y2: Float64Array.from(y2),
     newton: Float64Array.from(newton),
@@ -978,9 +977,7 @@ function walk(
   for (let i = 0; i < shares.length; i++) {
     const share = shares[i];
     const x = relative * (total * share);
-    const k = high
-      ? Math.ceil(x - EXTREME_ROUNDING * Math.max(1, x))
-      : Math.floor(x + EXTREME_ROUNDING * Math.max(1, x));
+    const k = high ? Math.ceil(x - roundingSlack(x)) : Math.floor(x + roundingSlack(x));
     let tail: number;
     let elasticity = 0;
     if (k > co.last) {
@@ -1313,9 +1310,7 @@ function updateTails(
   const lookup = new TableLookup(co, side);
   for (let i = 0; i < kept.count; i++) {
     const x = relative * (total * shares[i]);
-    const k = high
-      ? Math.ceil(x - EXTREME_ROUNDING * Math.max(1, x))
-      : Math.floor(x + EXTREME_ROUNDING * Math.max(1, x));
+    const k = high ? Math.ceil(x - roundingSlack(x)) : Math.floor(x + roundingSlack(x));
     if (k === threshold[i]) continue;
     const value = lookup.binomialTail(k, shares[i], total);
     sum += value - tail[i];

@@ -122,6 +122,16 @@ export class Judge {
         `baseline learning (${nullShares.baseline.learnedWindows} of ${nullShares.baseline.neededWindows} windows): judged against the declared shares; what happens now is learned as usual load`,
       );
     }
+    if (!Number.isSafeInteger(n)) {
+      // Counts above 2^53 - 1 are no longer whole numbers in a double: neighbours collapse
+      // (2^53 + 1 reads as 2^53), so the counts may not even add up to the total, and every
+      // tail, threshold and quantile in src/chance assumes exact counts (makePlacement
+      // refuses such totals). Such a window is reported, not judged.
+      notes.push(
+        `not judged: the window total ${n} is not a whole number up to 2^53 - 1, so its counts are not exact`,
+      );
+      return this.quietWindow(window, m, coldTests, nullShares, notes, []);
+    }
     if (m === 0 || n === 0) return this.quietWindow(window, m, coldTests, nullShares, notes);
     const shares = nullShares.shares;
 
@@ -294,9 +304,11 @@ export class Judge {
     coldTests: boolean,
     nullShares: NullShares,
     notes: string[],
+    findings: Finding[] = ['too little traffic'],
   ): Judgement {
     const update = this.tracker.update(window.start, [], [], true);
-    notes.push(m === 0 ? 'no shard has reported yet' : 'no requests in this window');
+    if (findings.length > 0)
+      notes.push(m === 0 ? 'no shard has reported yet' : 'no requests in this window');
     return {
       window: { start: iso(window.start), end: iso(window.end) },
       requests: window.total,
@@ -304,8 +316,9 @@ export class Judge {
       null: this.settings.null,
       ...(nullShares.baseline === undefined ? {} : { baseline: nullShares.baseline }),
       spreadMode: this.settings.spread === 'robust' ? 'robust' : 'exact',
-      spreadReason: 'no requests: nothing to judge',
-      findings: ['too little traffic'],
+      spreadReason:
+        findings.length > 0 ? 'no requests: nothing to judge' : 'total not exact: not judged',
+      findings,
       pattern: null,
       fullest: null,
       emptiest: null,

@@ -53,3 +53,30 @@ export function relativeError(actual: number, expected: number): number {
   if (expected === 0) return Math.abs(actual);
   return Math.abs(actual - expected) / Math.abs(expected);
 }
+
+/**
+ * Reference values at window totals from 1e12 to 2^53 - 1, computed outside the project by
+ * test/chance/reference/make-huge-reference.py (mpmath 1.3.0 beta integrals at 30 digits,
+ * Euler-Maclaurin sums for three shards, scipy 1.17.1 for 1e5 shards); see its header.
+ */
+export interface HugeReference {
+  binomial: { n: number; share: number; k: number; logAtLeast: number; logAtMost: number }[];
+  extremes: {
+    n: number;
+    shares: number[];
+    side: 'high' | 'low';
+    thresholds: number[];
+    p: number;
+  }[];
+  manyWeighted: {
+    n: number;
+    side: 'high' | 'low';
+    relative: number;
+    lower: number;
+    upper: number;
+  }[];
+}
+
+export const huge: HugeReference = JSON.parse(
+  readFileSync(new URL('./reference/huge.json', import.meta.url), 'utf8'),
+) as HugeReference;

@@ -1,7 +1,7 @@
 import { existsSync, readFileSync } from 'node:fs';
 import { describe, expect, it } from 'vitest';
 import { anyShardTail, sweptShardTail } from '../../src/chance/extreme-load.js';
-import { EXTREME_ROUNDING, makePlacement, shareClasses } from '../../src/chance/placement.js';
+import { makePlacement, roundingSlack, shareClasses } from '../../src/chance/placement.js';
 import { shareSweep, sweepTails, type Side } from '../../src/chance/share-sweep.js';
 import {
   emptiestQuantile,
@@ -32,9 +32,7 @@ function groupedTail(n: number, weights: Float64Array, relative: number, side: S
   const groups = shareClasses(placement).map((c) => {
     const x = relative * (n * c.share);
     const threshold =
-      side === 'high'
-        ? Math.ceil(x - EXTREME_ROUNDING * Math.max(1, x))
-        : Math.floor(x + EXTREME_ROUNDING * Math.max(1, x));
+      side === 'high' ? Math.ceil(x - roundingSlack(x)) : Math.floor(x + roundingSlack(x));
     return { share: c.share, count: c.count, threshold };
   });
   return anyShardTail(side, n, groups);

@@ -11,7 +11,7 @@ import {
   logPoissonDensity,
   stirlingError,
 } from '../../src/chance/discrete-densities.js';
-import { reference, relativeError } from './reference-data.js';
+import { huge, reference, relativeError } from './reference-data.js';
 
 // Reference library: jstat 1.9.6 from the npm registry (jStat.poisson.cdf/pdf, jStat.binomial.cdf/pdf).
 describe('tails at large and extreme arguments against scipy.stats (reference/exact.json)', () => {
@@ -90,5 +90,22 @@ describe('Poisson and binomial densities and tails against jStat', () => {
     expect(logPoissonAtLeast(200, 1)).toBeCloseTo(-1 - 863.2319871924054 + 0.0049874177608924, 9);
     expect(Number.isFinite(logBinomialAtLeast(900, 1000, 0.1))).toBe(true);
     expect(logBinomialAtLeast(900, 1000, 0.1)).toBeLessThan(-700);
+  });
+});
+
+describe('binomial tails from N = 1e12 to 2^53 - 1 (the O(1) saddle-point path)', () => {
+  // Reference: mpmath 1.3.0, the incomplete beta integral at 30 digits
+  // (reference/make-huge-reference.py, log_upper / log_lower), in reference/huge.json.
+  it('both tails within 1e-8 relative of mpmath at N p q from 1e7 to 2.3e15, -30 to 30 sd', () => {
+    const failures: string[] = [];
+    for (const t of huge.binomial) {
+      const atLeast = logBinomialAtLeast(t.k, t.n, t.share);
+      const atMost = logBinomialAtMost(t.k, t.n, t.share);
+      if (!(Math.abs(atLeast - t.logAtLeast) <= 1e-8))
+        failures.push(`${JSON.stringify(t)} atLeast ${atLeast}`);
+      if (!(Math.abs(atMost - t.logAtMost) <= 1e-8))
+        failures.push(`${JSON.stringify(t)} atMost ${atMost}`);
+    }
+    expect(failures).toEqual([]);
   });
 });

@@ -189,6 +189,15 @@ describe('findings of one window', () => {
     expect(verdict.notes).toContain('no requests in this window');
   });
 
+  it('does not judge a window whose total is past 2^53 - 1, and says why', () => {
+    // Number.MAX_SAFE_INTEGER (ECMAScript): above it doubles skip whole numbers, so counts
+    // and total are no longer exact (64 shards of 2^47 add up to 2^53).
+    const verdict = judgeOnce(sixtyFour, filled(64, 2 ** 47));
+    expect(verdict.findings).toEqual([]);
+    expect(verdict.fullest).toBeNull();
+    expect(verdict.notes.join(' ')).toMatch(/not judged: the window total 9007199254740992/);
+  });
+
   it('switches the cold tests off without a declared universe, and says so', () => {
     const universe = ShardUniverse.growing();
     for (let shard = 0; shard < 64; shard++) universe.admit(String(shard));
