@@ -1,6 +1,7 @@
 import { KafkaPartialCounter } from '../ingest/kafka-partial-counter.js';
 import { UsageError } from '../window/errors.js';
 import type { Command } from './command.js';
+import { summaryOf } from './command-list.js';
 import {
   kafkaConnectionOptionSpec,
   parseGroup,
@@ -59,7 +60,7 @@ export const countOptions = {
 
 export const countCommand: Command = {
   name: 'count',
-  summary: 'count some partitions of a topic and publish partial summaries for watch --merge',
+  summary: summaryOf('count'),
   help,
   async run(argv, io) {
     const values = parseOptions(argv, countOptions);

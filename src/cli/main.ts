@@ -3,27 +3,15 @@ import { realpathSync } from 'node:fs';
 import { fileURLToPath } from 'node:url';
 import { UsageError } from '../window/errors.js';
 import { terminalMessage } from '../window/visible-text.js';
-import type { Command, CommandIO } from './command.js';
-import { countCommand } from './count.js';
-import { oddsCommand } from './odds.js';
-import { planCommand } from './plan.js';
-import { reviewCommand } from './review.js';
-import { simulateCommand } from './simulate.js';
-import { watchCommand } from './watch.js';
+import type { CommandIO } from './command.js';
+import { commandList } from './command-list.js';
 
 /**
  * Entry point: picks the subcommand, runs it, and is the only place that decides the exit
  * code (0 success, 2 bad usage with a one-line reason, 1 runtime failure).
  */
 
-const COMMANDS: readonly Command[] = [
-  watchCommand,
-  reviewCommand,
-  oddsCommand,
-  planCommand,
-  simulateCommand,
-  countCommand,
-];
+const COMMANDS = commandList;
 
 function topHelp(): string {
   const width = Math.max(...COMMANDS.map((c) => c.name.length));
@@ -53,13 +41,14 @@ export async function main(argv: readonly string[], io: CommandIO): Promise<numb
     io.stdout.write('shardwise 0.1.0\n');
     return 0;
   }
-  const command = COMMANDS.find((c) => c.name === name);
-  if (!command) {
+  const entry = COMMANDS.find((c) => c.name === name);
+  if (!entry) {
     io.stderr.write(
       `shardwise: unknown command ${terminalMessage(JSON.stringify(name))} (commands: ${COMMANDS.map((c) => c.name).join(', ')})\n`,
     );
     return 2;
   }
+  const command = await entry.load();
   if (rest.includes('--help') || rest.includes('-h')) {
     io.stdout.write(command.help);
     return 0;

@@ -11,6 +11,7 @@ import {
 import { readShardMapFile } from '../ingest/shard-map-file.js';
 import { UsageError } from '../window/errors.js';
 import type { Command } from './command.js';
+import { summaryOf } from './command-list.js';
 import { formatNumber, reportedProbability } from './chance-report.js';
 import { finiteNumber, parseOptions, wholeNumber } from './option-values.js';
 
@@ -88,7 +89,7 @@ const MIN_LEVELS = ['0.001', '0.01', '0.1', '0.5'];
 
 export const oddsCommand: Command = {
   name: 'odds',
-  summary: 'chance calculator: fullest/emptiest shard and empty shards under random placement',
+  summary: summaryOf('odds'),
   help: HELP,
   async run(argv, io) {
     const values = parseOptions(argv, {

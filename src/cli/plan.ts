@@ -5,6 +5,7 @@ import { simulateTwoChoice, type TwoChoiceEstimate } from '../scenario/two-choic
 import { UsageError } from '../window/errors.js';
 import { formatNumber, reportedProbability } from './chance-report.js';
 import type { Command } from './command.js';
+import { summaryOf } from './command-list.js';
 import { duration, finiteNumber, parseOptions, probability, wholeNumber } from './option-values.js';
 
 const HELP = `Usage: shardwise plan --rate R --capacity C --shards M|A..B [options]
@@ -75,7 +76,7 @@ function exceedChance(shards: number, requests: number, capacityPerWindow: numbe
 
 export const planCommand: Command = {
   name: 'plan',
-  summary: 'headroom and shard-count planning from chance skew alone',
+  summary: summaryOf('plan'),
   help: HELP,
   async run(argv, io) {
     const values = parseOptions(argv, {

@@ -19,6 +19,7 @@ import { UsageError } from '../window/errors.js';
 import { ShardUniverse } from '../window/shard-universe.js';
 import { terminalMessage } from '../window/visible-text.js';
 import type { Command, CommandIO } from './command.js';
+import { summaryOf } from './command-list.js';
 import { judgeOptionNames, judgeOptionSpec, readJudgeSettings } from './judge-options.js';
 import {
   kafkaConnectionOptionSpec,
@@ -146,8 +147,7 @@ type Values = ReturnType<typeof parseOptions<typeof reviewOptions>>;
 
 export const reviewCommand: Command = {
   name: 'review',
-  summary:
-    'post-incident report (HTML and Markdown) from a recording, a record file or a Kafka range',
+  summary: summaryOf('review'),
   help,
   async run(argv, io) {
     return review(parseOptions(argv, reviewOptions), io);

@@ -3,6 +3,7 @@ import { produceToKafka } from '../ingest/kafka-sink.js';
 import { ScenarioSource } from '../ingest/scenario-source.js';
 import type { ScenarioRun } from '../scenario/scenario-run.js';
 import type { CommandIO } from './command.js';
+import { summaryOf } from './command-list.js';
 import {
   kafkaConnectionOptionSpec,
   parseKafkaConnection,
@@ -71,7 +72,7 @@ const blockSize = 1 << 16;
 
 export const simulateCommand: Command = {
   name: 'simulate',
-  summary: 'write seeded synthetic traffic with planted faults to a file, stdout or Kafka',
+  summary: summaryOf('simulate'),
   help,
   async run(argv, io) {
     const values = parseOptions(argv, simulateOptions);

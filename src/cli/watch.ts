@@ -29,6 +29,7 @@ import { UsageError } from '../window/errors.js';
 import { ShardUniverse } from '../window/shard-universe.js';
 import { jsonSafe, terminalSafe } from '../window/visible-text.js';
 import type { Command, CommandIO } from './command.js';
+import { summaryOf } from './command-list.js';
 import { maxAheadHelp, readUniverseOptions, readWindowOptions } from './window-options.js';
 import { judgeOptionSpec, readJudgeSettings } from './judge-options.js';
 import { byteSize, parseOptions } from './option-values.js';
@@ -261,7 +262,7 @@ const livePollMs = 250;
 
 export const watchCommand: Command = {
   name: 'watch',
-  summary: 'judge each window of per-shard counts from a file, stdin, Kafka or a simulated cluster',
+  summary: summaryOf('watch'),
   help,
   async run(argv, io) {
     return watch(await readPlan(parseOptions(argv, watchOptions), io), io);
