@@ -1,4 +1,5 @@
-import { Counter, Gauge, Histogram, Registry, collectDefaultMetrics } from 'prom-client';
+import { Counter, Gauge, Histogram, Registry } from 'prom-client';
+import { registerProcessMetrics } from './process-metrics.js';
 import type { JudgeSettings } from '../judge/judge-settings.js';
 import type { Judgement } from '../judge/judgement.js';
 import type { PipelineEvents } from '../judge/pipeline-events.js';
@@ -160,7 +161,7 @@ export class VerdictMetrics {
     const settings = options.settings;
     this.model = { null: settings.null, spread: settings.spread };
     const registers = [this.registry];
-    collectDefaultMetrics({ register: this.registry });
+    registerProcessMetrics(this.registry);
 
     const info = new Gauge({
       name: 'shardwise_judge_info',
