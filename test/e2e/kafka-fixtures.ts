@@ -28,6 +28,50 @@ export function testClient(): Kafka {
   });
 }
 
+/**
+ * Creates topics (replication 1) and waits until the broker's metadata shows each with all
+ * its partitions led. kafkajs's own `waitForLeaders` retries only LEADER_NOT_AVAILABLE, but
+ * a KRaft broker answers UNKNOWN_TOPIC_OR_PARTITION until its metadata image has the new
+ * topic (on Kafka 4.4.0 here, up to about 0.5 s after CreateTopics returns), which
+ * kafkajs then throws out of `createTopics`.
+ */
+export async function createTopicsReady(
+  admin: Admin,
+  topics: readonly { topic: string; numPartitions: number }[],
+  timeoutMs = 30_000,
+): Promise<void> {
+  const created = await admin.createTopics({
+    topics: topics.map((entry) => ({ ...entry, replicationFactor: 1 })),
+    waitForLeaders: false,
+  });
+  if (!created) throw new Error(`topics ${topics.map((entry) => entry.topic).join(', ')} exist`);
+  const started = Date.now();
+  let last = 'no answer yet';
+  for (;;) {
+    try {
+      const { topics: described } = await admin.fetchTopicMetadata({
+        topics: topics.map((entry) => entry.topic),
+      });
+      const ready = topics.every(({ topic, numPartitions }) => {
+        const partitions = described.find((entry) => entry.name === topic)?.partitions ?? [];
+        return partitions.length === numPartitions && partitions.every((p) => p.leader >= 0);
+      });
+      if (ready) return;
+      last = 'partitions without a leader';
+    } catch (error) {
+      const type = (error as { type?: string }).type;
+      if (type !== 'UNKNOWN_TOPIC_OR_PARTITION' && type !== 'LEADER_NOT_AVAILABLE') throw error;
+      last = type;
+    }
+    if (Date.now() - started > timeoutMs) {
+      throw new Error(
+        `topics ${topics.map((entry) => entry.topic).join(', ')} not ready after ${timeoutMs} ms (${last})`,
+      );
+    }
+    await new Promise((resolve) => setTimeout(resolve, 100));
+  }
+}
+
 /** Creates and deletes the topics of one test file. */
 export class TopicPool {
   private readonly kafka = testClient();
@@ -39,11 +83,7 @@ export class TopicPool {
     this.admin ??= this.kafka.admin();
     await this.admin.connect();
     const topic = `shardwise-e2e-${label}-${randomUUID().slice(0, 8)}`;
-    const created = await this.admin.createTopics({
-      topics: [{ topic, numPartitions: partitions, replicationFactor: 1 }],
-      waitForLeaders: true,
-    });
-    if (!created) throw new Error(`topic ${topic} was not created`);
+    await createTopicsReady(this.admin, [{ topic, numPartitions: partitions }]);
     this.created.push(topic);
     return topic;
   }
