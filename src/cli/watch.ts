@@ -21,7 +21,7 @@ import { ShardUniverse } from '../window/shard-universe.js';
 import type { Command, CommandIO } from './command.js';
 import { readUniverseOptions, readWindowOptions } from './window-options.js';
 import { judgeOptionSpec, readJudgeSettings } from './judge-options.js';
-import { byteSize, parseOptions, wholeNumber } from './option-values.js';
+import { byteSize, duration, parseOptions, wholeNumber } from './option-values.js';
 import {
   kafkaOptionsHelp,
   kafkaSourceOptionSpec,
@@ -60,6 +60,11 @@ Source (exactly one):
                           has passed (default); fast replays at full speed
 ${kafkaOptionsHelp}
 ${mergeOptionsHelp}
+  --session-timeout D     group session timeout (default 30s): how long the broker
+                          keeps the partitions of a watch that stopped without
+                          leaving (killed, host lost), so a restart on the same
+                          --group waits at most this long; brokers accept 6s and
+                          up by default (group.min.session.timeout.ms)
   With --group, offsets are committed only below windows still open, so a restart
   resumes after the last judged window; --from applies only to partitions the
   group has no position for. With --shard-from partition the universe is the
@@ -172,6 +177,7 @@ export const watchOptions = {
   input: { type: 'string' },
   scenario: { type: 'string' },
   ...kafkaSourceOptionSpec,
+  'session-timeout': { type: 'string' },
   ...mergeOptionSpec,
   seed: { type: 'string' },
   duration: { type: 'string' },
@@ -201,7 +207,12 @@ type Values = ReturnType<typeof parseOptions<typeof watchOptions>>;
 /** Where the records come from, once the options are read. */
 type SourcePlan =
   | { readonly kind: 'file'; readonly path: string }
-  | { readonly kind: 'kafka'; readonly kafka: ParsedKafkaSource }
+  | {
+      readonly kind: 'kafka';
+      readonly kafka: ParsedKafkaSource;
+      /** `--session-timeout`, ms; undefined for the source's default. */
+      readonly sessionTimeoutMs: number | undefined;
+    }
   | { readonly kind: 'merge'; readonly merge: MergeSettings }
   | {
       readonly kind: 'scenario';
@@ -270,6 +281,16 @@ async function readPlan(values: Values, io: CommandIO): Promise<WatchPlan> {
       'is missing: give --input FILE|-, --scenario NAME or --brokers H:P --topic T (see --help)',
     );
   }
+  if (
+    values['session-timeout'] !== undefined &&
+    (values.brokers === undefined || values.merge !== undefined)
+  ) {
+    throw new UsageError(
+      '--session-timeout',
+      values['session-timeout'],
+      'applies only to a Kafka source (--brokers H:P --topic T)',
+    );
+  }
   const { windowMs, hopMs, latenessMs, maxShards } = readWindowOptions(values);
 
   let source: SourcePlan;
@@ -314,7 +335,13 @@ async function readPlan(values: Values, io: CommandIO): Promise<WatchPlan> {
       const kafka = parseKafkaSource(values, { env: io.env });
       for (const warning of kafka.warnings)
         io.stderr.write(`shardwise watch: warning: ${warning}\n`);
-      source = { kind: 'kafka', kafka };
+      const sessionTimeout = values['session-timeout'];
+      source = {
+        kind: 'kafka',
+        kafka,
+        sessionTimeoutMs:
+          sessionTimeout === undefined ? undefined : duration('--session-timeout', sessionTimeout),
+      };
     } else {
       const path = values.input as string;
       if (path !== '-') await checkReadable(path);
@@ -427,6 +454,7 @@ async function watch(plan: WatchPlan, io: CommandIO): Promise<number> {
           groupId: plan.source.kafka.groupId,
           from: plan.source.kafka.from,
           shardFrom: plan.source.kafka.shardFrom,
+          sessionTimeoutMs: plan.source.sessionTimeoutMs,
           windows: { windowMs: plan.windowMs, hopMs: plan.hopMs, latenessMs: plan.latenessMs },
           onEvent: (event) => {
             // The screen shows the connection instead: a stderr line would scribble over it.
