@@ -27,7 +27,11 @@ const kafka = new Kafka({
 });
 
 async function fill(topic: string): Promise<void> {
-  const producer = kafka.producer({ createPartitioner: Partitioners.DefaultPartitioner });
+  const producer = kafka.producer({
+    createPartitioner: Partitioners.DefaultPartitioner,
+    idempotent: true,
+    maxInFlightRequests: 1,
+  });
   await producer.connect();
   const perWindow = Math.ceil(records / windows);
   let batch: Message[] = [];

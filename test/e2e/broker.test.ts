@@ -76,7 +76,12 @@ describe('test broker', () => {
     });
     const topic = `shardwise-e2e-broker-${randomUUID()}`;
     const admin = kafka.admin();
-    const producer = kafka.producer({ createPartitioner: Partitioners.DefaultPartitioner });
+    // Idempotent, as testProducer() explains: a retried request must not write twice.
+    const producer = kafka.producer({
+      createPartitioner: Partitioners.DefaultPartitioner,
+      idempotent: true,
+      maxInFlightRequests: 1,
+    });
     await admin.connect();
     try {
       await createTopicsReady(admin, [{ topic, numPartitions: 2 }]);
