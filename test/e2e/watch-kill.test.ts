@@ -13,25 +13,31 @@
 import { spawn, spawnSync, type ChildProcess } from 'node:child_process';
 import { dirname, join } from 'node:path';
 import { fileURLToPath } from 'node:url';
-import { Partitioners, type Message, type Producer } from 'kafkajs';
+import type { Message, Producer } from 'kafkajs';
 import { afterAll, afterEach, beforeAll, describe, expect, it } from 'vitest';
 import { brokerAddress } from './kafka-env.js';
-import { TopicPool, testClient, waitFor } from './kafka-fixtures.js';
+import { TopicPool, testClient, testProducer, waitFor } from './kafka-fixtures.js';
 
 const root = join(dirname(fileURLToPath(import.meta.url)), '..', '..');
 const cli = join(root, 'dist', 'cli', 'main.js');
 const pool = new TopicPool();
 const children: ChildProcess[] = [];
 
-const windowMs = 5000;
-const latenessMs = 2000;
-const windows = 48;
+const windowMs = 2000;
+const latenessMs = 4000;
+const windows = 24;
 const shards = 12;
 const partitions = 3;
-// Event time runs about twenty times faster than the wall clock: one window of records is
-// sent every 250 ms. A window closes on the wall clock only after the source has been quiet
-// for longer than a window plus the lateness (7 s here), so no pause between two sends on a
-// busy machine makes a record late, and the test checks that none was.
+// A live stream: every 250 ms one send of 500 ms of event time (one report per shard), so
+// event time runs twice as fast as the wall clock. The partitions of one send may reach the
+// source a little apart (a fetch between two partitions' appends, the SIGSTOP below), and
+// the lateness covers up to 2 s of such wall-clock lag; a window also closes on the wall
+// clock only after the source has been quiet for longer than a window plus the lateness
+// (6 s). No record may come late, and the test checks that none did: with one window of
+// event time a send (20 times the wall clock) a lag of 100 ms made records late, which is
+// what the lateness is for, not what this test is about.
+const sliceMs = 500;
+const slicesPerWindow = windowMs / sliceMs;
 const sendEveryMs = 250;
 // The broker's smallest session timeout by default (group.min.session.timeout.ms, common
 // practice): the second run waits at most this long for the killed member to be dropped.
@@ -47,23 +53,17 @@ afterEach(() => {
 });
 afterAll(() => pool.cleanUp());
 
-/** The count records of window `w`: three reports per shard, 1 to 9 requests each. */
-function windowRecords(w: number): { ts: number; shard: string; count: number }[] {
-  const records = [];
-  for (let shard = 0; shard < shards; shard++) {
-    for (let k = 0; k < 3; k++) {
-      records.push({
-        ts: t0 + w * windowMs + 100 + k * 1600 + shard * 10,
-        shard: `s-${shard}`,
-        count: ((w * 7 + shard * 5 + k * 3) % 9) + 1,
-      });
-    }
-  }
-  return records;
+/** The count records of slice `i` of the stream: one report per shard, 1 to 9 requests. */
+function sliceRecords(i: number): { ts: number; shard: string; count: number }[] {
+  return Array.from({ length: shards }, (_, shard) => ({
+    ts: t0 + i * sliceMs + 20 + shard * 30,
+    shard: `s-${shard}`,
+    count: ((i * 7 + shard * 5) % 9) + 1,
+  }));
 }
 
-function messagesOf(w: number): Message[] {
-  return windowRecords(w).map((record) => ({
+function messagesOf(i: number): Message[] {
+  return sliceRecords(i).map((record) => ({
     key: record.shard,
     value: JSON.stringify(record),
     timestamp: String(record.ts),
@@ -71,12 +71,13 @@ function messagesOf(w: number): Message[] {
 }
 
 /** Produced requests per window start (ms), summed from the records themselves. */
-const expectedTotals = new Map<number, number>(
-  Array.from({ length: windows }, (_, w) => [
-    t0 + w * windowMs,
-    windowRecords(w).reduce((sum, record) => sum + record.count, 0),
-  ]),
-);
+const expectedTotals = new Map<number, number>();
+for (let i = 0; i < windows * slicesPerWindow; i++) {
+  for (const record of sliceRecords(i)) {
+    const start = Math.floor((record.ts - t0) / windowMs) * windowMs + t0;
+    expectedTotals.set(start, (expectedTotals.get(start) ?? 0) + record.count);
+  }
+}
 
 interface Verdict {
   readonly start: number;
@@ -145,17 +146,17 @@ async function committedJudgedThrough(groupId: string, topic: string): Promise<n
   }
 }
 
-/** Sends windows `from` to `to` - 1, one every {@link sendEveryMs}; `sent` counts them. */
+/** Sends slices `from` to `to` - 1, one every {@link sendEveryMs}; `sent` counts them. */
 async function sendPaced(
   producer: Producer,
   topic: string,
   from: number,
   to: number,
-  sent: { windows: number },
+  sent: { slices: number },
 ): Promise<void> {
-  for (let w = from; w < to; w++) {
-    await producer.send({ topic, messages: messagesOf(w), acks: -1 });
-    sent.windows = w + 1;
+  for (let i = from; i < to; i++) {
+    await producer.send({ topic, messages: messagesOf(i), acks: -1 });
+    sent.slices = i + 1;
     await new Promise((resolve) => setTimeout(resolve, sendEveryMs));
   }
 }
@@ -195,16 +196,15 @@ describe('watch killed with SIGKILL and restarted on the same group (real broker
       '--no-ui',
       '--no-metrics',
     ];
-    const producer = testClient().producer({
-      createPartitioner: Partitioners.DefaultPartitioner,
-    });
+    const producer = testProducer();
     await producer.connect();
     try {
-      // A backlog of four windows, then a live stream that outlasts the first run.
-      const sent = { windows: 0 };
-      await sendPaced(producer, topic, 0, 4, sent);
+      // A backlog of two windows, then a live stream that outlasts the first run.
+      const slices = windows * slicesPerWindow;
+      const sent = { slices: 0 };
+      await sendPaced(producer, topic, 0, 2 * slicesPerWindow, sent);
       const first = new WatchRun(args);
-      const sending = sendPaced(producer, topic, 4, windows, sent);
+      const sending = sendPaced(producer, topic, 2 * slicesPerWindow, slices, sent);
 
       // The kill comes once the first run has judged a few windows, has committed, and has
       // judged at least one window past its last commit (so that one is judged twice). To
@@ -227,8 +227,8 @@ describe('watch killed with SIGKILL and restarted on the same group (real broker
       }
       first.child.kill('SIGKILL');
       expect((await first.exit).signal).toBe('SIGKILL');
-      const windowsSentAtKill = sent.windows;
-      expect(windowsSentAtKill, 'the kill came after the stream ended').toBeLessThan(windows);
+      const slicesSentAtKill = sent.slices;
+      expect(slicesSentAtKill, 'the kill came after the stream ended').toBeLessThan(slices);
       expect(await committedJudgedThrough(groupId, topic)).toBe(judgedThrough);
 
       const restarted = Date.now();
@@ -265,8 +265,8 @@ describe('watch killed with SIGKILL and restarted on the same group (real broker
       }
       console.log(
         `watch-kill: first run judged ${first.verdicts.length} windows, committed through ` +
-          `${new Date(judgedThrough).toISOString()}, killed with ${windowsSentAtKill} of ` +
-          `${windows} windows sent; second run judged ${second.verdicts.length} ` +
+          `${new Date(judgedThrough).toISOString()}, killed with ${slicesSentAtKill} of ` +
+          `${slices} sends made; second run judged ${second.verdicts.length} ` +
           `(${twice.length} again); its first verdict came ${second.firstVerdictAt - restarted} ms after the restart`,
       );
     } finally {
