@@ -22,13 +22,16 @@ die() {
   exit 1
 }
 
+# A bad version is a usage error (exit 2, as for a bad command), not a broker state.
 if ! [[ "$KAFKA_VERSION" =~ ^([0-9]+)\.([0-9]+)\.([0-9]+)$ ]]; then
-  die "SHARDWISE_KAFKA_VERSION=$KAFKA_VERSION is not a Kafka release number such as $DEFAULT_KAFKA_VERSION or 3.9.1"
+  say "error: SHARDWISE_KAFKA_VERSION=$KAFKA_VERSION is not a Kafka release number such as $DEFAULT_KAFKA_VERSION or 3.9.1"
+  exit 2
 fi
 readonly KAFKA_MAJOR="${BASH_REMATCH[1]}"
 # Kafka 3.3 made KRaft production-ready; older releases would need ZooKeeper.
 if ((KAFKA_MAJOR < 3)); then
-  die "SHARDWISE_KAFKA_VERSION=$KAFKA_VERSION: this script runs Kafka 3.x (3.9.1 is tested) and 4.x in KRaft mode only"
+  say "error: SHARDWISE_KAFKA_VERSION=$KAFKA_VERSION: this script runs Kafka 3.x (3.9.1 is tested) and 4.x in KRaft mode only"
+  exit 2
 fi
 # Kafka 4 logs through log4j2, runs on Java 17 and up, and formats a dynamic controller
 # quorum (KIP-853, --standalone); 3.x logs through log4j 1 (reload4j) and takes static voters.
