@@ -17,6 +17,7 @@ import { runScenario } from '../src/scenario/scenario-run.js';
 import { EventTimeWindows } from '../src/window/event-time-window.js';
 import { ShardUniverse } from '../src/window/shard-universe.js';
 import { brokerList } from '../test/e2e/kafka-env.js';
+import { createTopicsReady } from '../test/e2e/kafka-fixtures.js';
 
 const partitions = 4;
 /** The fetch settings both consumers use (our source's defaults). */
@@ -134,10 +135,7 @@ if (first === '--measure') {
   const admin = kafka.admin();
   await admin.connect();
   const topic = `shardwise-bench-${randomUUID().slice(0, 8)}`;
-  await admin.createTopics({
-    topics: [{ topic, numPartitions: partitions, replicationFactor: 1 }],
-    waitForLeaders: true,
-  });
+  await createTopicsReady(admin, [{ topic, numPartitions: partitions }]);
   try {
     const records = scenarioRecords(count);
     const bytes = records.reduce((sum, record) => sum + encodeJsonLine(record).length, 0);

@@ -10,6 +10,7 @@ import { dirname, join } from 'node:path';
 import { fileURLToPath } from 'node:url';
 import { Kafka, logLevel, Partitioners, type Message } from 'kafkajs';
 import { brokerAddress } from '../test/e2e/kafka-env.js';
+import { createTopicsReady } from '../test/e2e/kafka-fixtures.js';
 
 const root = join(dirname(fileURLToPath(import.meta.url)), '..');
 const cli = join(root, 'dist', 'cli', 'main.js');
@@ -26,7 +27,11 @@ const kafka = new Kafka({
 });
 
 async function fill(topic: string): Promise<void> {
-  const producer = kafka.producer({ createPartitioner: Partitioners.DefaultPartitioner });
+  const producer = kafka.producer({
+    createPartitioner: Partitioners.DefaultPartitioner,
+    idempotent: true,
+    maxInFlightRequests: 1,
+  });
   await producer.connect();
   const perWindow = Math.ceil(records / windows);
   let batch: Message[] = [];
@@ -53,13 +58,10 @@ async function round(instances: number): Promise<number> {
   await admin.connect();
   const topic = `bench-scale-${randomUUID().slice(0, 8)}`;
   const summaries = `${topic}-sum`;
-  await admin.createTopics({
-    topics: [
-      { topic, numPartitions: partitions, replicationFactor: 1 },
-      { topic: summaries, numPartitions: 1, replicationFactor: 1 },
-    ],
-    waitForLeaders: true,
-  });
+  await createTopicsReady(admin, [
+    { topic, numPartitions: partitions },
+    { topic: summaries, numPartitions: 1 },
+  ]);
   await fill(topic);
   const lastEnd = t0 + windows * 1000;
   const done = new Set<number>();

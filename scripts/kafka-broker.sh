@@ -1,6 +1,7 @@
 #!/usr/bin/env bash
-# The test broker: one Apache Kafka 3.9.1 node in KRaft mode (broker and controller in
-# one JVM) on loopback, assembled from Maven Central jars, no tarball and no Docker.
+# The test broker: one Apache Kafka node in KRaft mode (broker and controller in one JVM)
+# on loopback, assembled from Maven Central jars, no tarball and no Docker. The version is
+# SHARDWISE_KAFKA_VERSION (default 4.4.0; 3.9.1 is the other one the tests run against).
 #
 #   scripts/kafka-broker.sh start    assemble (once), format (once), start, wait until ready
 #   scripts/kafka-broker.sh stop     SIGTERM, wait, SIGKILL; silent when not running
@@ -11,7 +12,8 @@
 # to stderr. See DEVELOPERS.md for the environment variables.
 set -euo pipefail
 
-readonly KAFKA_VERSION=3.9.1
+readonly DEFAULT_KAFKA_VERSION=4.4.0
+readonly KAFKA_VERSION="${SHARDWISE_KAFKA_VERSION:-$DEFAULT_KAFKA_VERSION}"
 readonly REPO_ROOT="$(cd "$(dirname "${BASH_SOURCE[0]}")/.." && pwd)"
 
 say() { printf 'kafka-broker: %s\n' "$*" >&2; }
@@ -19,6 +21,25 @@ die() {
   say "error: $*"
   exit 1
 }
+
+# A bad version is a usage error (exit 2, as for a bad command), not a broker state.
+if ! [[ "$KAFKA_VERSION" =~ ^([0-9]+)\.([0-9]+)\.([0-9]+)$ ]]; then
+  say "error: SHARDWISE_KAFKA_VERSION=$KAFKA_VERSION is not a Kafka release number such as $DEFAULT_KAFKA_VERSION or 3.9.1"
+  exit 2
+fi
+readonly KAFKA_MAJOR="${BASH_REMATCH[1]}"
+# Kafka 3.3 made KRaft production-ready; older releases would need ZooKeeper.
+if ((KAFKA_MAJOR < 3)); then
+  say "error: SHARDWISE_KAFKA_VERSION=$KAFKA_VERSION: this script runs Kafka 3.x (3.9.1 is tested) and 4.x in KRaft mode only"
+  exit 2
+fi
+# Kafka 4 logs through log4j2, runs on Java 17 and up, and formats a dynamic controller
+# quorum (KIP-853, --standalone); 3.x logs through log4j 1 (reload4j) and takes static voters.
+if ((KAFKA_MAJOR >= 4)); then
+  readonly MIN_JAVA=17
+else
+  readonly MIN_JAVA=11
+fi
 
 readonly NEED_TOOLS='The Kafka tests need Java 17 and Maven (mvn) to assemble the test broker from Maven Central; install them (apt-get install openjdk-17-jre-headless maven)'
 
@@ -34,6 +55,9 @@ readonly PID_FILE="$STATE_DIR/kafka.pid"
 readonly BOOTSTRAP_FILE="$STATE_DIR/bootstrap"
 readonly CONFIG_FILE="$STATE_DIR/server.properties"
 readonly LOG4J_FILE="$STATE_DIR/log4j.properties"
+readonly LOG4J2_FILE="$STATE_DIR/log4j2.properties"
+# The Kafka version that formatted the data dir.
+readonly FORMATTED_FILE="$DATA_DIR/.formatted-by"
 
 check_port() {
   local name="$1" value="$2"
@@ -61,9 +85,13 @@ require_java() {
   local version major
   version="$(java -version 2>&1 | sed -n 's/.*version "\([^"]*\)".*/\1/p' | head -n 1)"
   major="${version%%.*}"
-  if ! [[ "$major" =~ ^[0-9]+$ ]] || ((major < 11)); then
-    die "java on PATH is version '${version:-unknown}', Kafka $KAFKA_VERSION needs 11 or newer. $NEED_TOOLS"
+  if ! [[ "$major" =~ ^[0-9]+$ ]] || ((major < MIN_JAVA)); then
+    die "java on PATH is version '${version:-unknown}', Kafka $KAFKA_VERSION needs $MIN_JAVA or newer. $NEED_TOOLS"
   fi
+}
+
+logging_dependency() {
+  printf '    <dependency>\n      <groupId>%s</groupId>\n      <artifactId>%s</artifactId>\n      <version>%s</version>\n    </dependency>' "$1" "$2" "$3"
 }
 
 # Fetch the broker's runtime classpath once into the cache. A marker file written last
@@ -74,8 +102,16 @@ assemble() {
   fi
   command -v mvn >/dev/null 2>&1 || die "mvn not found on PATH. $NEED_TOOLS"
   say "assembling Kafka $KAFKA_VERSION from Maven Central into $LIBS_DIR (first run only)"
-  local work started
+  local work started logging
   started=$SECONDS
+  if ((KAFKA_MAJOR >= 4)); then
+    logging="$(logging_dependency org.apache.logging.log4j log4j-slf4j-impl 2.24.3)
+$(logging_dependency org.apache.logging.log4j log4j-api 2.24.3)
+$(logging_dependency org.apache.logging.log4j log4j-core 2.24.3)"
+  else
+    logging="$(logging_dependency org.slf4j slf4j-reload4j 1.7.36)
+$(logging_dependency ch.qos.reload4j reload4j 1.2.25)"
+  fi
   mkdir -p "$(dirname "$LIBS_DIR")"
   work="$(mktemp -d "$(dirname "$LIBS_DIR")/assemble.XXXXXX")"
   cat >"$work/pom.xml" <<EOF
@@ -93,16 +129,7 @@ assemble() {
       <artifactId>kafka_2.13</artifactId>
       <version>$KAFKA_VERSION</version>
     </dependency>
-    <dependency>
-      <groupId>org.slf4j</groupId>
-      <artifactId>slf4j-reload4j</artifactId>
-      <version>1.7.36</version>
-    </dependency>
-    <dependency>
-      <groupId>ch.qos.reload4j</groupId>
-      <artifactId>reload4j</artifactId>
-      <version>1.2.25</version>
-    </dependency>
+$logging
   </dependencies>
   <build>
     <plugins>
@@ -132,11 +159,17 @@ EOF
 
 write_config() {
   mkdir -p "$DATA_DIR" "$LOG_DIR"
+  local quorum
+  if ((KAFKA_MAJOR >= 4)); then
+    quorum="controller.quorum.bootstrap.servers=127.0.0.1:$CONTROLLER_PORT"
+  else
+    quorum="controller.quorum.voters=1@127.0.0.1:$CONTROLLER_PORT"
+  fi
   cat >"$CONFIG_FILE" <<EOF
-# Written by scripts/kafka-broker.sh on every start; edits here are overwritten.
+# Written by scripts/kafka-broker.sh on every start (Kafka $KAFKA_VERSION); edits here are overwritten.
 process.roles=broker,controller
 node.id=1
-controller.quorum.voters=1@127.0.0.1:$CONTROLLER_PORT
+$quorum
 listeners=PLAINTEXT://127.0.0.1:$PORT,CONTROLLER://127.0.0.1:$CONTROLLER_PORT
 advertised.listeners=PLAINTEXT://127.0.0.1:$PORT
 controller.listener.names=CONTROLLER
@@ -160,6 +193,32 @@ log.retention.ms=-1
 num.network.threads=2
 num.io.threads=2
 EOF
+  if ((KAFKA_MAJOR >= 4)); then
+    cat >"$LOG4J2_FILE" <<EOF
+# Written by scripts/kafka-broker.sh on every start.
+status = warn
+appender.file.type = RollingFile
+appender.file.name = file
+appender.file.fileName = \${sys:kafka.logs.dir}/server.log
+appender.file.filePattern = \${sys:kafka.logs.dir}/server.log.%i
+appender.file.layout.type = PatternLayout
+appender.file.layout.pattern = [%d] %p %m (%c)%n
+appender.file.policies.type = Policies
+appender.file.policies.size.type = SizeBasedTriggeringPolicy
+appender.file.policies.size.size = 20MB
+appender.file.strategy.type = DefaultRolloverStrategy
+appender.file.strategy.max = 2
+rootLogger.level = INFO
+rootLogger.appenderRef.file.ref = file
+logger.request.name = kafka.request.logger
+logger.request.level = WARN
+logger.stateChange.name = state.change.logger
+logger.stateChange.level = WARN
+logger.clients.name = org.apache.kafka.clients
+logger.clients.level = WARN
+EOF
+    return
+  fi
   cat >"$LOG4J_FILE" <<EOF
 # Written by scripts/kafka-broker.sh on every start.
 log4j.rootLogger=INFO, file
@@ -177,19 +236,49 @@ EOF
 
 java_classpath() { printf '%s/*' "$LIBS_DIR"; }
 
+# The JVM options that point the broker's logging at the config write_config wrote.
+logging_options() {
+  if ((KAFKA_MAJOR >= 4)); then
+    printf '%s\n' "-Dlog4j2.configurationFile=$LOG4J2_FILE" "-Dkafka.logs.dir=$LOG_DIR"
+  else
+    printf '%s\n' "-Dlog4j.configuration=file:$LOG4J_FILE" "-Dkafka.logs.dir=$LOG_DIR"
+  fi
+}
+
+# The Kafka version that formatted this data dir; data formatted before the version was
+# recorded came from 3.9.1, the only version the script ran then.
+formatted_version() {
+  if [[ -f "$FORMATTED_FILE" ]]; then
+    cat "$FORMATTED_FILE"
+  else
+    printf '3.9.1\n'
+  fi
+}
+
 format_storage() {
   if [[ -f "$DATA_DIR/meta.properties" ]]; then
+    local formatted
+    formatted="$(formatted_version)"
+    if [[ "$formatted" != "$KAFKA_VERSION" ]]; then
+      die "the data in $DATA_DIR was formatted by Kafka $formatted, and this start asks for $KAFKA_VERSION (SHARDWISE_KAFKA_VERSION); run scripts/kafka-broker.sh reset to delete it (topics, offsets), or use another SHARDWISE_BROKER_DIR"
+    fi
     return
   fi
-  local cluster_id
-  cluster_id="$(java -Dlog4j.configuration="file:$LOG4J_FILE" -Dkafka.logs.dir="$LOG_DIR" \
-    -cp "$(java_classpath)" kafka.tools.StorageTool random-uuid 2>>"$LOG_DIR/storage-tool.log" | tail -n 1)"
+  local cluster_id standalone=()
+  local -a logging
+  mapfile -t logging < <(logging_options)
+  cluster_id="$(java "${logging[@]}" -cp "$(java_classpath)" kafka.tools.StorageTool random-uuid \
+    2>>"$LOG_DIR/storage-tool.log" | tail -n 1)"
   [[ -n "$cluster_id" ]] || die "kafka.tools.StorageTool random-uuid printed nothing (see $LOG_DIR/storage-tool.log)"
-  say "formatting $DATA_DIR with cluster id $cluster_id"
-  java -Dlog4j.configuration="file:$LOG4J_FILE" -Dkafka.logs.dir="$LOG_DIR" \
-    -cp "$(java_classpath)" kafka.tools.StorageTool format \
-    -t "$cluster_id" -c "$CONFIG_FILE" --ignore-formatted >>"$LOG_DIR/storage-tool.log" 2>&1 ||
+  # A dynamic quorum (controller.quorum.bootstrap.servers) starts from a voter set written
+  # at format time: this node alone.
+  if ((KAFKA_MAJOR >= 4)); then standalone=(--standalone); fi
+  say "formatting $DATA_DIR for Kafka $KAFKA_VERSION with cluster id $cluster_id"
+  java "${logging[@]}" -cp "$(java_classpath)" kafka.tools.StorageTool format \
+    -t "$cluster_id" -c "$CONFIG_FILE" "${standalone[@]}" --ignore-formatted \
+    >>"$LOG_DIR/storage-tool.log" 2>&1 ||
     die "kafka.tools.StorageTool format failed (see $LOG_DIR/storage-tool.log)"
+  printf '%s\n' "$KAFKA_VERSION" >"$FORMATTED_FILE"
 }
 
 # The pid from the pid file, if that process is alive and is our broker (pid files
@@ -204,6 +293,12 @@ running_pid() {
   cmdline="$(tr '\0' ' ' <"/proc/$pid/cmdline")"
   [[ "$cmdline" == *kafka.Kafka*"$CONFIG_FILE"* ]] || return 1
   printf '%s\n' "$pid"
+}
+
+# The Kafka version of a running broker, read from its classpath (…/kafka-VERSION/libs/*).
+running_version() {
+  tr '\0' '\n' <"/proc/$1/cmdline" 2>/dev/null |
+    sed -n 's|.*/kafka-\([0-9][0-9.]*\)/libs/\*$|\1|p' | head -n 1
 }
 
 port_open() { (exec 3<>"/dev/tcp/127.0.0.1/$1") 2>/dev/null; }
@@ -267,12 +362,17 @@ cmd_start() {
 
   local pid
   if pid="$(running_pid)"; then
+    local version
+    version="$(running_version "$pid")"
+    if [[ "$version" != "$KAFKA_VERSION" ]]; then
+      die "the broker in $STATE_DIR (pid $pid) runs Kafka ${version:-of an unknown version}, and this start asks for $KAFKA_VERSION (SHARDWISE_KAFKA_VERSION); stop it first (scripts/kafka-broker.sh stop), or use another SHARDWISE_BROKER_DIR and KAFKA_PORT"
+    fi
     if ! broker_ready; then
       say "broker (pid $pid) is running but not answering yet; waiting"
       wait_ready "$pid"
     fi
     publish_bootstrap
-    say "already running (pid $pid) at $BOOTSTRAP"
+    say "already running (pid $pid, Kafka $KAFKA_VERSION) at $BOOTSTRAP"
     printf '%s\n' "$BOOTSTRAP"
     return
   fi
@@ -294,9 +394,10 @@ cmd_start() {
   say "starting Kafka $KAFKA_VERSION at $BOOTSTRAP (controller 127.0.0.1:$CONTROLLER_PORT), logs in $LOG_DIR"
   # setsid: the broker outlives the npm pretest step that starts it. 9>&-: it must not
   # inherit the start lock.
+  local -a logging
+  mapfile -t logging < <(logging_options)
   setsid nohup java -Xms512m -Xmx512m -XX:+UseG1GC -XX:MaxGCPauseMillis=20 \
-    -XX:+ExitOnOutOfMemoryError -Djava.awt.headless=true \
-    -Dkafka.logs.dir="$LOG_DIR" -Dlog4j.configuration="file:$LOG4J_FILE" \
+    -XX:+ExitOnOutOfMemoryError -Djava.awt.headless=true "${logging[@]}" \
     -cp "$(java_classpath)" kafka.Kafka "$CONFIG_FILE" \
     </dev/null >"$LOG_DIR/kafka.out" 2>&1 9>&- &
   pid=$!
@@ -339,7 +440,7 @@ cmd_status() {
     say "running (pid $pid) but not accepting clients at $BOOTSTRAP; logs in $LOG_DIR"
     exit 1
   fi
-  say "running (pid $pid) at $BOOTSTRAP"
+  say "running (pid $pid, Kafka $(running_version "$pid")) at $BOOTSTRAP"
   printf '%s\n' "$BOOTSTRAP"
 }
 

@@ -1,6 +1,7 @@
 #!/usr/bin/env bash
 # npm pretest: make sure the tools the test suites call exist, then start the Kafka test
-# broker (unless KAFKA_BROKERS points at one already).
+# broker (unless KAFKA_BROKERS points at one already): Kafka 4.4.0, or the release named by
+# SHARDWISE_KAFKA_VERSION (see scripts/kafka-broker.sh).
 #
 # Tools, with the Debian package that provides each:
 #   prometheus, promtool  prometheus   (Prometheus server and rule unit tests)

@@ -32,7 +32,7 @@ import type { Command, CommandIO } from './command.js';
 import { summaryOf } from './command-list.js';
 import { maxAheadHelp, readUniverseOptions, readWindowOptions } from './window-options.js';
 import { judgeOptionSpec, readJudgeSettings } from './judge-options.js';
-import { byteSize, parseOptions } from './option-values.js';
+import { byteSize, duration, parseOptions } from './option-values.js';
 import {
   kafkaOptionsHelp,
   kafkaSourceOptionSpec,
@@ -78,6 +78,11 @@ ${mergeOptionsHelp}
                           load in a window is how far its end offset grew. Offsets
                           are an upper bound on records (transaction markers and
                           compaction); partitions added mid-run join the universe.
+  --session-timeout D     group session timeout (default 30s): how long the broker
+                          keeps the partitions of a watch that stopped without
+                          leaving (killed, host lost), so a restart on the same
+                          --group waits at most this long; brokers accept 6s and
+                          up by default (group.min.session.timeout.ms)
   With --group, offsets are committed only below windows still open, so a restart
   resumes after the last judged window; --from applies only to partitions the
   group has no position for. With --shard-from partition the universe is the
@@ -197,6 +202,7 @@ export const watchOptions = {
   input: { type: 'string' },
   scenario: { type: 'string' },
   ...kafkaSourceOptionSpec,
+  'session-timeout': { type: 'string' },
   ...mergeOptionSpec,
   seed: { type: 'string' },
   duration: { type: 'string' },
@@ -228,7 +234,12 @@ type Values = ReturnType<typeof parseOptions<typeof watchOptions>>;
 /** Where the records come from, once the options are read. */
 type SourcePlan =
   | { readonly kind: 'file'; readonly path: string }
-  | { readonly kind: 'kafka'; readonly kafka: ParsedKafkaSource }
+  | {
+      readonly kind: 'kafka';
+      readonly kafka: ParsedKafkaSource;
+      /** `--session-timeout`, ms; undefined for the source's default. */
+      readonly sessionTimeoutMs: number | undefined;
+    }
   | { readonly kind: 'offsets'; readonly kafka: ParsedKafkaSource }
   | { readonly kind: 'merge'; readonly merge: MergeSettings }
   | {
@@ -294,6 +305,16 @@ async function readPlan(values: Values, io: CommandIO): Promise<WatchPlan> {
       'is missing: give --input FILE|-, --scenario NAME or --brokers H:P --topic T (see --help)',
     );
   }
+  if (
+    values['session-timeout'] !== undefined &&
+    (values.brokers === undefined || values.merge !== undefined)
+  ) {
+    throw new UsageError(
+      '--session-timeout',
+      values['session-timeout'],
+      'applies only to a Kafka source (--brokers H:P --topic T)',
+    );
+  }
   const { windowMs, hopMs, latenessMs, maxAheadMs, maxShards } = readWindowOptions(values);
   if (values['offsets-only'] === true && values.brokers === undefined) {
     throw new UsageError('--offsets-only', '', 'needs --brokers H:P and --topic T');
@@ -341,8 +362,20 @@ async function readPlan(values: Values, io: CommandIO): Promise<WatchPlan> {
       const kafka = parseKafkaSource(values, { env: io.env });
       for (const warning of kafka.warnings)
         io.stderr.write(`shardwise watch: warning: ${warning}\n`);
-      source = { kind: values['offsets-only'] === true ? 'offsets' : 'kafka', kafka };
-      if (source.kind === 'offsets') checkOffsetsOnly(values);
+      const sessionTimeout = values['session-timeout'];
+      if (values['offsets-only'] === true) {
+        source = { kind: 'offsets', kafka };
+        checkOffsetsOnly(values);
+      } else {
+        source = {
+          kind: 'kafka',
+          kafka,
+          sessionTimeoutMs:
+            sessionTimeout === undefined
+              ? undefined
+              : duration('--session-timeout', sessionTimeout),
+        };
+      }
     } else {
       const path = values.input as string;
       if (path !== '-') await checkReadable(path);
@@ -643,6 +676,7 @@ function openSource(
         groupId: source.kafka.groupId,
         from: source.kafka.from,
         shardFrom: source.kafka.shardFrom,
+        sessionTimeoutMs: source.sessionTimeoutMs,
         windows: {
           windowMs: plan.run.windowMs,
           hopMs: plan.run.hopMs,

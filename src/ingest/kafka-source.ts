@@ -101,7 +101,7 @@ export interface KafkaSourceOptions extends KafkaConnectionOptions {
   readonly maxBytes?: number;
   /** Group session timeout, ms (default 30000). */
   readonly sessionTimeoutMs?: number;
-  /** Group heartbeat interval, ms (default 3000). */
+  /** Group heartbeat interval, ms (default 3000, or a third of a shorter session timeout). */
   readonly heartbeatIntervalMs?: number;
   /** Receives the source's events from the start (see also {@link KafkaSource.on}). */
   readonly onEvent?: KafkaSourceListener;
@@ -595,10 +595,13 @@ export class KafkaSource implements AsyncIterable<SourceItem> {
 
   /** Makes, connects and runs a consumer, retrying with backoff while the brokers are away. */
   private async startConsumer(): Promise<void> {
+    const sessionTimeout = this.options.sessionTimeoutMs ?? 30_000;
     const consumer = this.kafka.consumer({
       groupId: this.groupId,
-      sessionTimeout: this.options.sessionTimeoutMs ?? 30_000,
-      heartbeatInterval: this.options.heartbeatIntervalMs ?? 3000,
+      sessionTimeout,
+      // Kafka's advice: heartbeats no further apart than a third of the session timeout.
+      heartbeatInterval:
+        this.options.heartbeatIntervalMs ?? Math.min(3000, Math.floor(sessionTimeout / 3)),
       maxWaitTimeInMs: this.options.maxWaitTimeMs ?? 500,
       maxBytesPerPartition: this.options.maxBytesPerPartition ?? 4 << 20,
       maxBytes: this.options.maxBytes ?? 16 << 20,

@@ -277,6 +277,14 @@ describe('shardwise watch: bad usage exits 2 with one line naming the option and
       'shardwise watch: --seed: "3" applies only to --scenario',
     ],
     [
+      ['watch', '--input', '-', '--session-timeout', '6s'],
+      'shardwise watch: --session-timeout: "6s" applies only to a Kafka source (--brokers H:P --topic T)',
+    ],
+    [
+      ['watch', '--brokers', '127.0.0.1:9', '--topic', 't', '--session-timeout', 'soon'],
+      'shardwise watch: --session-timeout: "soon" is not a duration (examples: 500ms, 10s, 5m, 1h)',
+    ],
+    [
       ['watch'],
       'shardwise watch: --input: "" is missing: give --input FILE|-, --scenario NAME or --brokers H:P --topic T (see --help)',
     ],

@@ -9,6 +9,7 @@ import { promisify } from 'node:util';
 import { Kafka, Partitioners, logLevel } from 'kafkajs';
 import { describe, it, expect } from 'vitest';
 import { MISSING_BROKER_MESSAGE, brokerAddress, brokerList } from './kafka-env.js';
+import { createTopicsReady } from './kafka-fixtures.js';
 
 const run = promisify(execFile);
 
@@ -75,14 +76,15 @@ describe('test broker', () => {
     });
     const topic = `shardwise-e2e-broker-${randomUUID()}`;
     const admin = kafka.admin();
-    const producer = kafka.producer({ createPartitioner: Partitioners.DefaultPartitioner });
+    // Idempotent, as testProducer() explains: a retried request must not write twice.
+    const producer = kafka.producer({
+      createPartitioner: Partitioners.DefaultPartitioner,
+      idempotent: true,
+      maxInFlightRequests: 1,
+    });
     await admin.connect();
     try {
-      const created = await admin.createTopics({
-        topics: [{ topic, numPartitions: 2, replicationFactor: 1 }],
-        waitForLeaders: true,
-      });
-      expect(created).toBe(true);
+      await createTopicsReady(admin, [{ topic, numPartitions: 2 }]);
 
       // Timestamps from 2023 on purpose: the broker must keep old event times as given.
       const sent = Array.from({ length: 6 }, (_, i) => ({

@@ -4,6 +4,7 @@
 import { readFileSync } from 'node:fs';
 import { homedir } from 'node:os';
 import { join } from 'node:path';
+import { fileURLToPath } from 'node:url';
 
 export const MISSING_BROKER_MESSAGE =
   'The Kafka tests need Java 17 and Maven (mvn) to assemble the test broker from Maven Central; run npm test (its pretest step starts the broker) or set KAFKA_BROKERS';
@@ -58,4 +59,25 @@ export function brokerAddress(env: NodeJS.ProcessEnv = process.env): string {
 /** brokerAddress() split for clients that take a list, such as kafkajs. */
 export function brokerList(env: NodeJS.ProcessEnv = process.env): string[] {
   return brokerAddress(env).split(',');
+}
+
+/**
+ * The Kafka version scripts/kafka-broker.sh runs: SHARDWISE_KAFKA_VERSION, else the
+ * script's default (read from the script, so the two cannot drift apart).
+ */
+export function kafkaVersion(env: NodeJS.ProcessEnv = process.env): string {
+  const chosen = env.SHARDWISE_KAFKA_VERSION?.trim();
+  if (chosen) return chosen;
+  const script = fileURLToPath(new URL('../../scripts/kafka-broker.sh', import.meta.url));
+  const match = /^readonly DEFAULT_KAFKA_VERSION=(\d+\.\d+\.\d+)$/m.exec(
+    readFileSync(script, 'utf8'),
+  );
+  if (match === null) throw new Error(`${script} names no DEFAULT_KAFKA_VERSION`);
+  return match[1];
+}
+
+/** The folder of the broker jars scripts/kafka-broker.sh assembles for {@link kafkaVersion}. */
+export function kafkaLibsDir(env: NodeJS.ProcessEnv = process.env): string {
+  const cacheRoot = env.SHARDWISE_CACHE || join(env.HOME || homedir(), '.cache', 'shardwise');
+  return join(cacheRoot, `kafka-${kafkaVersion(env)}`, 'libs');
 }

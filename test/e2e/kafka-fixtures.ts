@@ -6,7 +6,7 @@ import { readFileSync } from 'node:fs';
 import { dirname, join } from 'node:path';
 import { fileURLToPath } from 'node:url';
 import { promisify } from 'node:util';
-import { Kafka, Partitioners, logLevel, type Admin, type Message } from 'kafkajs';
+import { Kafka, Partitioners, logLevel, type Admin, type Message, type Producer } from 'kafkajs';
 import type { RecordSink } from '../../src/ingest/decode.js';
 import type { KafkaSourceEvent } from '../../src/ingest/kafka-events.js';
 import type { KafkaSourceOptions } from '../../src/ingest/kafka-source.js';
@@ -28,6 +28,50 @@ export function testClient(): Kafka {
   });
 }
 
+/**
+ * Creates topics (replication 1) and waits until the broker's metadata shows each with all
+ * its partitions led. kafkajs's own `waitForLeaders` retries only LEADER_NOT_AVAILABLE, but
+ * a KRaft broker answers UNKNOWN_TOPIC_OR_PARTITION until its metadata image has the new
+ * topic (on Kafka 4.4.0 here, up to about 0.5 s after CreateTopics returns), which
+ * kafkajs then throws out of `createTopics`.
+ */
+export async function createTopicsReady(
+  admin: Admin,
+  topics: readonly { topic: string; numPartitions: number }[],
+  timeoutMs = 30_000,
+): Promise<void> {
+  const created = await admin.createTopics({
+    topics: topics.map((entry) => ({ ...entry, replicationFactor: 1 })),
+    waitForLeaders: false,
+  });
+  if (!created) throw new Error(`topics ${topics.map((entry) => entry.topic).join(', ')} exist`);
+  const started = Date.now();
+  let last = 'no answer yet';
+  for (;;) {
+    try {
+      const { topics: described } = await admin.fetchTopicMetadata({
+        topics: topics.map((entry) => entry.topic),
+      });
+      const ready = topics.every(({ topic, numPartitions }) => {
+        const partitions = described.find((entry) => entry.name === topic)?.partitions ?? [];
+        return partitions.length === numPartitions && partitions.every((p) => p.leader >= 0);
+      });
+      if (ready) return;
+      last = 'partitions without a leader';
+    } catch (error) {
+      const type = (error as { type?: string }).type;
+      if (type !== 'UNKNOWN_TOPIC_OR_PARTITION' && type !== 'LEADER_NOT_AVAILABLE') throw error;
+      last = type;
+    }
+    if (Date.now() - started > timeoutMs) {
+      throw new Error(
+        `topics ${topics.map((entry) => entry.topic).join(', ')} not ready after ${timeoutMs} ms (${last})`,
+      );
+    }
+    await new Promise((resolve) => setTimeout(resolve, 100));
+  }
+}
+
 /** Creates and deletes the topics of one test file. */
 export class TopicPool {
   private readonly kafka = testClient();
@@ -39,11 +83,7 @@ export class TopicPool {
     this.admin ??= this.kafka.admin();
     await this.admin.connect();
     const topic = `shardwise-e2e-${label}-${randomUUID().slice(0, 8)}`;
-    const created = await this.admin.createTopics({
-      topics: [{ topic, numPartitions: partitions, replicationFactor: 1 }],
-      waitForLeaders: true,
-    });
-    if (!created) throw new Error(`topic ${topic} was not created`);
+    await createTopicsReady(this.admin, [{ topic, numPartitions: partitions }]);
     this.created.push(topic);
     return topic;
   }
@@ -59,15 +99,30 @@ export class TopicPool {
 }
 
 /**
- * Produces messages with kafkajs (explicit partitioner, all acks), `perRequest` a request:
- * each request makes one record batch per partition, the unit a fetch returns.
+ * A kafkajs producer for test data: idempotent (acks from all in-sync replicas, one request
+ * in flight), because kafkajs retries a whole request when one partition in it fails, and
+ * without idempotence the partitions that had taken it get it twice. On Kafka 3.9.1 here a
+ * partition answers NOT_LEADER_OR_FOLLOWER for a moment after its topic shows a leader, so
+ * the first send to a new topic sometimes wrote duplicates.
+ */
+export function testProducer(): Producer {
+  return testClient().producer({
+    createPartitioner: Partitioners.DefaultPartitioner,
+    idempotent: true,
+    maxInFlightRequests: 1,
+  });
+}
+
+/**
+ * Produces messages with {@link testProducer}, `perRequest` a request: each request makes
+ * one record batch per partition, the unit a fetch returns.
  */
 export async function produceMessages(
   topic: string,
   messages: Message[],
   perRequest = 500,
 ): Promise<void> {
-  const producer = testClient().producer({ createPartitioner: Partitioners.DefaultPartitioner });
+  const producer = testProducer();
   await producer.connect();
   try {
     for (let start = 0; start < messages.length; start += perRequest) {

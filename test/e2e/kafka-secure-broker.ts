@@ -1,14 +1,16 @@
-// A second, short-lived Kafka 3.9.1 node for the security tests: SASL (PLAIN,
-// SCRAM-SHA-256, SCRAM-SHA-512) on a plaintext listener and on a TLS listener whose
-// certificate a throw-away CA signs. It runs from the jars scripts/kafka-broker.sh
-// assembles, in a temporary folder, on free ports, and is stopped by the test.
+// A second, short-lived Kafka node for the security tests: SASL (PLAIN, SCRAM-SHA-256,
+// SCRAM-SHA-512) on a plaintext listener and on a TLS listener whose certificate a
+// throw-away CA signs. It runs the test broker's version (SHARDWISE_KAFKA_VERSION) from the
+// jars scripts/kafka-broker.sh assembles, in a temporary folder, on free ports, with static
+// controller voters (both 3.x and 4.x take them), and is stopped by the test.
 import { execFile, spawn, type ChildProcess } from 'node:child_process';
 import { existsSync, mkdtempSync, rmSync, writeFileSync, readFileSync } from 'node:fs';
 import { createServer } from 'node:net';
-import { homedir, tmpdir } from 'node:os';
+import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { promisify } from 'node:util';
 import { Kafka, logLevel, type SASLOptions } from 'kafkajs';
+import { kafkaLibsDir, kafkaVersion } from './kafka-env.js';
 
 const run = promisify(execFile);
 
@@ -20,15 +22,46 @@ export const secureUsers = {
 } as const;
 
 function libsDir(): string {
-  const cacheRoot =
-    process.env.SHARDWISE_CACHE || join(process.env.HOME || homedir(), '.cache', 'shardwise');
-  const libs = join(cacheRoot, 'kafka-3.9.1', 'libs');
+  const libs = kafkaLibsDir();
   if (!existsSync(join(libs, '.complete'))) {
     throw new Error(
-      `the Kafka jars are not in ${libs}; run bash scripts/kafka-broker.sh start once to assemble them (needs Java 17 and Maven)`,
+      `the Kafka ${kafkaVersion()} jars are not in ${libs}; run bash scripts/kafka-broker.sh start once to assemble them (needs Java 17 and Maven)`,
     );
   }
   return libs;
+}
+
+/** Logging to `server.log` in `directory`: log4j2 from Kafka 4 on, log4j 1 (reload4j) before. */
+function loggingOptions(directory: string): string[] {
+  const log = join(directory, 'server.log');
+  if (Number(kafkaVersion().split('.')[0]) >= 4) {
+    const config = join(directory, 'log4j2.properties');
+    writeFileSync(
+      config,
+      [
+        'appender.file.type = File',
+        'appender.file.name = file',
+        `appender.file.fileName = ${log}`,
+        'appender.file.layout.type = PatternLayout',
+        'appender.file.layout.pattern = [%d] %p %m (%c)%n',
+        'rootLogger.level = WARN',
+        'rootLogger.appenderRef.file.ref = file',
+      ].join('\n') + '\n',
+    );
+    return [`-Dlog4j2.configurationFile=${config}`];
+  }
+  const config = join(directory, 'log4j.properties');
+  writeFileSync(
+    config,
+    [
+      'log4j.rootLogger=WARN, file',
+      'log4j.appender.file=org.apache.log4j.FileAppender',
+      `log4j.appender.file.File=${log}`,
+      'log4j.appender.file.layout=org.apache.log4j.PatternLayout',
+      'log4j.appender.file.layout.ConversionPattern=[%d] %p %m (%c)%n',
+    ].join('\n') + '\n',
+  );
+  return [`-Dlog4j.configuration=file:${config}`];
 }
 
 async function freePort(): Promise<number> {
@@ -155,24 +188,7 @@ export class SecureBroker {
     ];
     const config = join(directory, 'server.properties');
     writeFileSync(config, lines.join('\n') + '\n');
-    const log4j = join(directory, 'log4j.properties');
-    writeFileSync(
-      log4j,
-      [
-        'log4j.rootLogger=WARN, file',
-        'log4j.appender.file=org.apache.log4j.FileAppender',
-        `log4j.appender.file.File=${join(directory, 'server.log')}`,
-        'log4j.appender.file.layout=org.apache.log4j.PatternLayout',
-        'log4j.appender.file.layout.ConversionPattern=[%d] %p %m (%c)%n',
-      ].join('\n') + '\n',
-    );
-    const java = [
-      '-Xms256m',
-      '-Xmx256m',
-      `-Dlog4j.configuration=file:${log4j}`,
-      '-cp',
-      `${libs}/*`,
-    ];
+    const java = ['-Xms256m', '-Xmx256m', ...loggingOptions(directory), '-cp', `${libs}/*`];
     const { stdout: clusterId } = await run('java', [
       ...java,
       'kafka.tools.StorageTool',
@@ -246,6 +262,9 @@ export class SecureBroker {
       try {
         await admin.connect();
         await admin.listTopics();
+        // Ready for consumer groups too: a fresh Kafka 4.4.0 node answers the first group
+        // requests with COORDINATOR_LOAD_IN_PROGRESS while it loads its offsets topic.
+        await admin.fetchOffsets({ groupId: 'shardwise-e2e-ready-probe', topics: [] });
         await admin.disconnect();
         return;
       } catch (error) {
@@ -255,7 +274,7 @@ export class SecureBroker {
       }
     }
     throw new Error(
-      `the secure test broker did not accept a SASL login within 90 s: ${String(lastError)}`,
+      `the secure test broker did not accept a SASL login and a group request within 90 s: ${String(lastError)}`,
     );
   }
 }

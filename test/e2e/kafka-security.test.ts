@@ -17,7 +17,7 @@ import { BrokersUnreachableError, KafkaIngestError } from '../../src/ingest/kafk
 import { produceToKafka } from '../../src/ingest/kafka-sink.js';
 import { KafkaSource, type KafkaSourceOptions } from '../../src/ingest/kafka-source.js';
 import type { CountRecord } from '../../src/window/count-record.js';
-import { CollectingSink, EventLog } from './kafka-fixtures.js';
+import { CollectingSink, createTopicsReady, EventLog } from './kafka-fixtures.js';
 import { SecureBroker, secureUsers } from './kafka-secure-broker.js';
 
 let broker: SecureBroker;
@@ -32,10 +32,7 @@ beforeAll(async () => {
   broker = await SecureBroker.start();
   const admin = broker.adminClient().admin();
   await admin.connect();
-  await admin.createTopics({
-    topics: [{ topic, numPartitions: 2, replicationFactor: 1 }],
-    waitForLeaders: true,
-  });
+  await createTopicsReady(admin, [{ topic, numPartitions: 2 }]);
   await admin.disconnect();
 }, 120_000);
 
