@@ -32,6 +32,7 @@ export class JudgingPipeline {
   private stalled = false;
   private records = 0;
   private readonly keys: WindowKeyAnalyst | null;
+  private readonly universe: ShardUniverse;
 
   /**
    * @param universe the shards records are counted under
@@ -51,6 +52,7 @@ export class JudgingPipeline {
     this.judge = judge;
     this.clock = clock;
     this.keys = options.keys ?? null;
+    this.universe = universe;
     this.windows = new EventTimeWindows(universe, windowOptions, (window) =>
       this.judgeWindow(window),
     );
@@ -65,9 +67,12 @@ export class JudgingPipeline {
   record(ts: number, shard: string, count: number, key?: string): void {
     this.sawRecordSinceTick = true;
     this.records++;
+    const layout = this.universe.layout;
     const index = this.windows.add(ts, shard, count);
     if (key !== undefined && index >= 0 && this.keys !== null) {
-      this.keys.record(ts, index, key, count);
+      // Closing a window may have retired ids and moved this shard's index.
+      const now = this.universe.layout === layout ? index : this.universe.indexOf(shard);
+      this.keys.record(ts, now, key, count);
     }
   }
 

@@ -1,5 +1,6 @@
 import type { CountRecord, RejectionReason } from './count-record.js';
 import { UsageError } from './errors.js';
+import { remapCounts, ShardRetirement } from './shard-retirement.js';
 import { outsideUniverse, type ShardUniverse } from './shard-universe.js';
 
 /** One finished window: the per-shard count vector the judge works on. */
@@ -340,12 +341,13 @@ export class EventTimeWindows {
   }
 
   private emit(window: number, counts: Float64Array | null, total: number): void {
+    const retained = this.retireStaleShards(window, counts, total);
     const size = this.universe.size;
     const start = window * this.hopMs;
     const closed: ClosedWindow = {
       start,
       end: start + this.windowMs,
-      counts: fitCounts(counts, size),
+      counts: fitCounts(retained, size),
       total,
       late: this.pendingLate,
       rejected: this.pendingRejected,
@@ -355,6 +357,31 @@ export class EventTimeWindows {
     this.running.windowsClosed++;
     this.onClose(closed);
   }
+
+  /**
+   * At a window boundary, a growing universe retires the ids that stopped reporting
+   * (shard-retirement.ts); the open windows and the closing one follow the new indices.
+   */
+  private retireStaleShards(
+    window: number,
+    counts: Float64Array | null,
+    total: number,
+  ): Float64Array | null {
+    if (this.universe.declared) return counts;
+    this.retirement ??= new ShardRetirement(this.universe);
+    const open = [...this.open.values()];
+    const remap = this.retirement.atBoundary(
+      window,
+      counts,
+      total,
+      open.map((state) => state.counts),
+    );
+    if (remap === null) return counts;
+    for (const state of open) state.counts = remapCounts(state.counts, remap);
+    return counts === null ? null : remapCounts(counts, remap);
+  }
+
+  private retirement: ShardRetirement | null = null;
 }
 
 function addTo(window: OpenWindow, index: number, count: number): void {

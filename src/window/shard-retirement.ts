@@ -1,0 +1,118 @@
+import type { ShardRemap, ShardUniverse } from './shard-universe.js';
+
+/**
+ * Closed windows an id may go without a count before it retires, whatever the traffic.
+ * Our choice, stated in the README: long enough that a quiet real shard is not churned in
+ * and out of the universe, short enough that a shard that went away soon leaves m.
+ */
+export const retireAfterWindows = 10;
+
+/**
+ * The fair share, in requests, over the shards that did report, at which an id absent from
+ * the window retires at once: a live shard placed at random with that share stays empty
+ * with probability e^-share, here 1 in 1000 (share = ln 1000, about 6.9). Our choice,
+ * stated in the README; below it an empty window is too common to mean the shard is gone.
+ */
+export const absentShareForRetirement = Math.log(1000);
+
+/**
+ * Decides, at each window boundary of a growing universe, which ids stopped reporting and
+ * retires them (ShardUniverse.retire), so that m, the shards a window is judged over, is
+ * the shards reporting now rather than every id ever seen, and a flood of bogus ids cannot
+ * lock real shards out for the rest of the run. An id retires when it has no count in the
+ * window closing nor in any window still open (so no load is ever dropped), and one of:
+ *
+ * - it has had no count in the last {@link retireAfterWindows} closed windows;
+ * - the closing window's fair share over the shards that reported is at least
+ *   {@link absentShareForRetirement}, so a live shard would hardly be empty;
+ * - the universe refused an id for being full since the previous boundary: room for the
+ *   newcomers goes to ids that are not reporting.
+ *
+ * Retirement happens only at a boundary, before the closing window is handed on, so every
+ * window is judged on one set of ids. Memory: one number per shard. Cost per boundary:
+ * O(m), plus O(m x open windows) when some id is a candidate.
+ */
+export class ShardRetirement {
+  private readonly universe: ShardUniverse;
+  /** Per index, the latest closed window that counted the id. */
+  private lastCounted: Float64Array = new Float64Array(0);
+  /** Ids of the universe that {@link lastCounted} covers (indices 0..tracked-1). */
+  private tracked = 0;
+  private refusedSeen: number;
+
+  constructor(universe: ShardUniverse) {
+    this.universe = universe;
+    this.refusedSeen = universe.refusedFull;
+  }
+
+  /**
+   * Window `window` (its index in hops) is closing with `counts` (indexed like the universe,
+   * possibly longer; null: no counts) summing to `total`; `openCounts` are the windows still
+   * open. Returns the remap when ids retired (the caller moves these arrays; listeners of the
+   * universe have moved theirs), else null.
+   */
+  atBoundary(
+    window: number,
+    counts: Float64Array | null,
+    total: number,
+    openCounts: readonly Float64Array[],
+  ): ShardRemap | null {
+    const size = this.universe.size;
+    this.track(size, window);
+    let reporting = 0;
+    for (let index = 0; index < size; index++) {
+      if (counts !== null && index < counts.length && counts[index] > 0) {
+        this.lastCounted[index] = window;
+        reporting++;
+      }
+    }
+    const refused = this.universe.refusedFull;
+    const full = refused !== this.refusedSeen;
+    this.refusedSeen = refused;
+    const absentGoes = full || (reporting > 0 && total / reporting >= absentShareForRetirement);
+    const candidate = (index: number) =>
+      this.lastCounted[index] !== window &&
+      (absentGoes || window - this.lastCounted[index] >= retireAfterWindows);
+    let any = false;
+    for (let index = 0; index < size && !any; index++) any = candidate(index);
+    if (!any) return null;
+    const keep = new Uint8Array(size);
+    for (let index = 0; index < size; index++) if (!candidate(index)) keep[index] = 1;
+    for (const open of openCounts) {
+      const length = Math.min(size, open.length);
+      for (let index = 0; index < length; index++) if (open[index] > 0) keep[index] = 1;
+    }
+    const remap = this.universe.retire((index) => keep[index] === 1);
+    if (remap !== null) {
+      this.lastCounted = remapCounts(this.lastCounted.subarray(0, size), remap);
+      this.tracked = remap.size;
+    }
+    return remap;
+  }
+
+  /** Ids admitted since the last boundary count as seen now: they have had no window yet. */
+  private track(size: number, window: number): void {
+    if (this.lastCounted.length < size) {
+      const grown = new Float64Array(Math.max(size, this.lastCounted.length * 2));
+      grown.set(this.lastCounted.subarray(0, this.tracked));
+      this.lastCounted = grown;
+    }
+    this.lastCounted.fill(window, this.tracked, size);
+    this.tracked = size;
+  }
+}
+
+/**
+ * An array indexed like the universe, moved to the indices after a retirement: entry `old`
+ * goes to `remap.indexAfter[old]`, retired entries are dropped. The result has `remap.size`
+ * entries (entries past the previous size, if any, are dropped too). O(length).
+ */
+export function remapCounts(values: Float64Array, remap: ShardRemap): Float64Array {
+  const moved = new Float64Array(remap.size);
+  const length = Math.min(values.length, remap.indexAfter.length);
+  for (let index = 0; index < length; index++) {
+    const at = remap.indexAfter[index];
+    if (at >= 0) moved[at] = values[index];
+  }
+  return moved;
+}
