@@ -1,7 +1,7 @@
 import type { CountRecord, RejectionReason } from './count-record.js';
 import { UsageError } from './errors.js';
 import { remapCounts, ShardRetirement } from './shard-retirement.js';
-import { outsideUniverse, type ShardUniverse } from './shard-universe.js';
+import { outsideUniverse, tooManyShards, type ShardUniverse } from './shard-universe.js';
 
 /** One finished window: the per-shard count vector the judge works on. */
 export interface ClosedWindow {
@@ -205,7 +205,8 @@ export class EventTimeWindows {
       this.reject('bad timestamp');
       return -1;
     }
-    const index = this.universe.admit(shard);
+    let index = this.universe.admit(shard);
+    if (index === tooManyShards) index = this.admitAfterClosing(ts, shard);
     if (index < 0) {
       this.reject(index === outsideUniverse ? 'outside universe' : 'too many shards');
       return -1;
@@ -379,6 +380,23 @@ export class EventTimeWindows {
     if (remap === null) return counts;
     for (const state of open) state.counts = remapCounts(state.counts, remap);
     return counts === null ? null : remapCounts(counts, remap);
+  }
+
+  /**
+   * A full growing universe refused `shard`: its timestamp still moves event time on (it is
+   * valid; only room is lacking), and the windows that closes may retire ids that stopped
+   * reporting, so the id is offered once more. Without this a flood that fills the
+   * universe and stops would leave every later id refused and no window closing.
+   */
+  private admitAfterClosing(ts: number, shard: string): number {
+    if (ts > this.newest) {
+      this.newest = ts;
+      this.currentWatermark = ts - this.latenessMs;
+    }
+    if (this.currentWatermark >= this.dueAt) {
+      this.closeThrough(Math.floor((this.currentWatermark - this.windowMs) / this.hopMs));
+    }
+    return this.universe.admit(shard);
   }
 
   private retirement: ShardRetirement | null = null;
