@@ -104,12 +104,11 @@ describe('judging a recording of a growing universe again', () => {
     const recorder = new WindowRecorder({
       path,
       settings: {
+        ...settings,
         source: { kind: 'test' },
         windowMs,
-        hopMs: windowMs,
         latenessMs: 0,
         declaredUniverse: false,
-        ...settings,
         keys: null,
       },
     });
