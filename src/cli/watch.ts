@@ -560,6 +560,7 @@ async function watch(plan: WatchPlan, io: CommandIO): Promise<number> {
     openAtEnd: [],
   };
   let windows = 0;
+  let retired = 0;
   const mergeMetrics =
     mergeSource === null || exporter === null
       ? null
@@ -572,6 +573,7 @@ async function watch(plan: WatchPlan, io: CommandIO): Promise<number> {
     // After a resume with sliding windows, windows already judged by the last run close again.
     if (kafkaInfo?.judgedThrough != null && window.end <= kafkaInfo.judgedThrough) return;
     windows++;
+    retired += judgement.retiredShards ?? 0;
     incidents.openAtEnd = judgement.incidents;
     // The screen subscribes itself; the lines are for everything else.
     if (screen === null) output.write(JSON.stringify(judgement));
@@ -649,7 +651,7 @@ async function watch(plan: WatchPlan, io: CommandIO): Promise<number> {
   }
   await output.drained();
   output.check();
-  io.stderr.write(summary(windows, pipeline, incidents, interrupted));
+  io.stderr.write(summary(windows, pipeline, incidents, interrupted, retired));
   return 0;
 }
 
@@ -704,6 +706,7 @@ function summary(
   pipeline: JudgingPipeline,
   incidents: { opened: Incident[]; cleared: number; openAtEnd: readonly Incident[] },
   interrupted: boolean,
+  retired: number,
 ): string {
   const totals = pipeline.totals;
   const rejected = rejectionReasons
@@ -721,6 +724,7 @@ function summary(
       (incident) => `    ${incident.finding} on ${incident.shard} since ${incident.since}`,
     ),
   ];
+  if (retired > 0) lines.push(`  shards retired: ${retired} (ids that stopped reporting left m)`);
   if (totals.quietWindowsSkipped > 0) {
     lines.push(`  ${totals.quietWindowsSkipped} empty windows in one long gap were not judged`);
   }
