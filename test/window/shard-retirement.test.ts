@@ -3,6 +3,8 @@ import { Judge } from '../../src/judge/judge.js';
 import { defaultJudgeSettings } from '../../src/judge/judge-settings.js';
 import type { Judgement } from '../../src/judge/judgement.js';
 import { JudgingPipeline } from '../../src/judge/judging-pipeline.js';
+import { KeyAnalysis } from '../../src/keys/key-analysis.js';
+import { defaultKeySketchSettings } from '../../src/keys/window-key-stats.js';
 import { ShardUniverse } from '../../src/window/shard-universe.js';
 
 const second = 1000;
@@ -99,5 +101,145 @@ describe('a growing universe flooded with bogus ids', () => {
       5, 4, 0, 0, 0, 0,
     ]);
     expect(universe.ids).toEqual(['db-0', 'db-1', 'db-2', 'db-3']);
+  });
+});
+
+describe('every holder of per-shard state follows a retirement', () => {
+  /**
+   * Shards "gone", a-0..a-14 and "hot" (admitted in that order, so hot moves from index 16
+   * to 15 when gone retires), each window with 100 requests per a-shard; `perWindow` says what gone and
+   * hot send. Records carry keys: distinct ones, except `hotKey` requests of hot. Each
+   * record carries `unit` requests (so "100 requests" are 100 x unit).
+   */
+  function run(
+    settings: Partial<typeof defaultJudgeSettings>,
+    windows: number,
+    perWindow: (window: number) => { gone: number; hot: number; hotKey: number },
+    unit = 1,
+  ) {
+    const universe = ShardUniverse.growing();
+    const judgeSettings = { ...defaultJudgeSettings, ...settings, hopMs: windowMs };
+    const judge = new Judge(universe, judgeSettings);
+    const keys = new KeyAnalysis(universe, {
+      windowMs,
+      hopMs: windowMs,
+      sketch: defaultKeySketchSettings,
+      simulations: 100,
+      alpha: judgeSettings.alpha,
+      null: judgeSettings.null,
+      maxFlagged: judgeSettings.maxFlagged,
+    });
+    const pipeline = new JudgingPipeline(universe, { windowMs, latenessMs: 0 }, judge, Date.now, {
+      keys,
+    });
+    const verdicts: Judgement[] = [];
+    pipeline.events.on('window judged', ({ judgement }) => verdicts.push(judgement));
+    for (let window = 0; window < windows; window++) {
+      const at = base + window * windowMs;
+      const { gone, hot, hotKey } = perWindow(window);
+      const sendHot = () => {
+        for (let request = 0; request < hot; request++) {
+          const key = request < hotKey ? 'the-key' : `hot-${window}-${request}`;
+          pipeline.record(at, 'hot', unit, key);
+        }
+      };
+      // After window 0 hot's keyed requests come first: the first record of a window closes
+      // the one before, where ids retire, so the key of that very record must follow its
+      // shard's new index. In window 0 it comes last, so it is admitted last (index 16).
+      if (window > 0) sendHot();
+      const shards = ['gone', ...Array.from({ length: 15 }, (_, shard) => `a-${shard}`)];
+      for (const shard of shards) {
+        const requests = shard === 'gone' ? gone : 100;
+        for (let request = 0; request < requests; request++) {
+          pipeline.record(at + 1, shard, unit, `${shard}-${window}-${request}`);
+        }
+      }
+      if (window === 0) sendHot();
+    }
+    pipeline.finish();
+    return { universe, verdicts };
+  }
+
+  it('streaks continue under the new index, and an incident of a retired shard is cleared', () => {
+    // hot sends 300 against 100 for the others (worked by hand: fair share 1800 / 17 or
+    // 1700 / 16, so about 2.7 or 2.8 times it, far past the ceiling), gone stops after
+    // window 0 and hot after window 2: both retire where the next window closes.
+    const { verdicts } = run({ confirm: 2, clear: 5 }, 5, (window) => ({
+      gone: window === 0 ? 100 : 0,
+      hot: window <= 2 ? 300 : 0,
+      hotKey: 0,
+    }));
+    expect(verdicts.map((verdict) => [verdict.shards, verdict.retiredShards])).toEqual([
+      [17, 0],
+      [16, 1],
+      [16, 0],
+      [15, 1],
+      [15, 0],
+    ]);
+    // Window 1: hot is flagged a second time in a row under its new index, so its incident
+    // opens with confirm 2 (a streak that did not follow would restart at 1).
+    const hotFlag = verdicts[1].flagged.find((flag) => flag.shard === 'hot');
+    expect(hotFlag?.streak).toBe(2);
+    expect(verdicts[1].opened.map((incident) => incident.shard)).toEqual(['hot']);
+    expect(verdicts[2].incidents.map((incident) => incident.shard)).toEqual(['hot']);
+    // Window 3: hot retired; its incident ends, listed as cleared (since window 0, 4 windows).
+    expect(verdicts[3].cleared).toEqual([
+      { shard: 'hot', finding: 'hotspot', since: '2025-12-01T00:00:00.000Z', windows: 4 },
+    ]);
+    expect(verdicts[3].incidents).toEqual([]);
+  });
+
+  it("the learned baseline keeps each shard's share under its new index", () => {
+    // hot always sends 2000 requests against 1000 (records of 10): under the baseline null
+    // that is its usual share once learned (worked by hand: after window 0 its learned
+    // share is (2000 + 100) / (18 000 + 1700), so 2000 of 18 000 reads as 1.04 times it).
+    // gone stops after window 5; if the learned shares did not
+    // follow the renumbering, hot (index 16 -> 15) would be judged against a-14's share and
+    // read as about twice its usual load, with 17 000 requests far past the ceiling.
+    const { verdicts } = run(
+      { null: 'baseline', baselineWindows: 4, confirm: 1 },
+      10,
+      (window) => ({ gone: window <= 5 ? 100 : 0, hot: 200, hotKey: 0 }),
+      10,
+    );
+    console.log(
+      JSON.stringify(
+        verdicts.map((v) => [
+          v.shards,
+          v.retiredShards,
+          v.findings,
+          v.fullest,
+          v.emptiest,
+          v.baseline?.learnedWindows,
+          v.flagged.length,
+          v.spreadMode,
+          v.judgedRequests,
+        ]),
+      ),
+    );
+    expect(verdicts[6].retiredShards).toBe(1);
+    for (const verdict of verdicts.slice(1)) {
+      expect(verdict.baseline?.ready).toBe(true);
+      expect(verdict.flagged.filter((flag) => flag.shard === 'hot')).toEqual([]);
+      expect(verdict.findings).not.toContain('hotspot');
+    }
+  });
+
+  it("key statistics move with their shard, the record that closed the window's included", () => {
+    // hot sends 300, 250 of them with one key (worked by hand: 250 of hot's excess of about
+    // 190 requests, so the key surely carries it all: cause "hot key"); gone stops after
+    // window 0 and retires where window 1 closes, at hot's first record of window 2.
+    const { verdicts } = run({}, 3, (window) => ({
+      gone: window === 0 ? 100 : 0,
+      hot: 300,
+      hotKey: 250,
+    }));
+    expect(verdicts[1].retiredShards).toBe(1);
+    for (const verdict of verdicts) {
+      const cause = verdict.keys?.causes.find((found) => found.shard === 'hot');
+      expect(cause?.cause).toBe('hot key');
+      expect(cause?.topKey?.key).toBe('the-key');
+      expect(cause?.topKey?.count).toBe(250);
+    }
   });
 });
