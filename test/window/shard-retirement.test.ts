@@ -5,6 +5,8 @@ import type { Judgement } from '../../src/judge/judgement.js';
 import { JudgingPipeline } from '../../src/judge/judging-pipeline.js';
 import { KeyAnalysis } from '../../src/keys/key-analysis.js';
 import { defaultKeySketchSettings } from '../../src/keys/window-key-stats.js';
+import { EventTimeWindows } from '../../src/window/event-time-window.js';
+import { retireAfterWindows } from '../../src/window/shard-retirement.js';
 import { ShardUniverse } from '../../src/window/shard-universe.js';
 
 const second = 1000;
@@ -241,5 +243,86 @@ describe('every holder of per-shard state follows a retirement', () => {
       expect(cause?.topKey?.key).toBe('the-key');
       expect(cause?.topKey?.count).toBe(250);
     }
+  });
+});
+
+describe('ShardRetirement: when an id retires', () => {
+  /** Windows over a growing universe; each closed window as ids -> count. */
+  function windows(options: { windowMs: number; hopMs?: number; latenessMs: number }) {
+    const universe = ShardUniverse.growing();
+    const closed: { start: number; counts: Record<string, number>; total: number }[] = [];
+    const eventWindows = new EventTimeWindows(universe, options, (window) => {
+      const counts: Record<string, number> = {};
+      window.counts.forEach((count, index) => (counts[universe.idAt(index)] = count));
+      closed.push({ start: (window.start - base) / second, counts, total: window.total });
+    });
+    return { universe, eventWindows, closed };
+  }
+
+  it(`keeps an id through ${retireAfterWindows - 1} empty windows of thin traffic and retires it at the ${retireAfterWindows}th`, () => {
+    // Worked by hand: a sends 1 request per window (1 per reporting shard, far below
+    // ln 1000), b only in window 0, so b retires only by the count of empty windows: where
+    // window 10 closes, its 10th without b.
+    const { eventWindows, closed, universe } = windows({ windowMs, latenessMs: 0 });
+    eventWindows.add(base, 'b', 1);
+    for (let window = 0; window < 12; window++) eventWindows.add(base + window * windowMs, 'a', 1);
+    eventWindows.closeAll();
+    expect(closed.map((window) => Object.keys(window.counts).length)).toEqual([
+      2, 2, 2, 2, 2, 2, 2, 2, 2, 2, 1, 1,
+    ]);
+    expect(universe.retiredTotal).toBe(1);
+  });
+
+  it('keeps an id absent from the closing window while a window still open counts it, so no load is dropped', () => {
+    // Worked by hand, lateness 5 s: a, b, c report in window 0; in window 1 only a and b;
+    // c's window-2 record (at 21 s) comes before window 1 closes (at 25 s, the watermark
+    // reaching 20 s). 50 per reporting shard would retire an absent id, but c is counted in
+    // the open window 2, so it stays, and window 2 holds its 50.
+    const { eventWindows, closed } = windows({ windowMs, latenessMs: 5 * second });
+    for (const shard of ['a', 'b', 'c']) eventWindows.add(base, shard, 50);
+    for (const shard of ['a', 'b']) eventWindows.add(base + 12 * second, shard, 50);
+    eventWindows.add(base + 21 * second, 'c', 50);
+    eventWindows.add(base + 25 * second, 'a', 50);
+    eventWindows.closeAll();
+    expect(closed).toEqual([
+      { start: 0, counts: { a: 50, b: 50, c: 50 }, total: 150 },
+      { start: 10, counts: { a: 50, b: 50, c: 0 }, total: 100 },
+      // b retired where window 2 closed: absent from it and from every open window.
+      { start: 20, counts: { a: 50, c: 50 }, total: 100 },
+    ]);
+  });
+
+  it('drops no load of sliding windows when ids retire', () => {
+    // Worked by hand, 20 s windows every 10 s, lateness 0: each record counts in the two
+    // windows that cover it. a and b send 50 at 0, 10, 20, 30 and 40 s; x at 0 s and at
+    // 35 s, before anything of 30 s. x's 35 s record closes window 10 (10-30 s), where x is
+    // absent with 100 requests per reporting shard, but windows 20 and 30 hold x's 50, so x
+    // stays until window 40 closes without it. Every window's total is the sum of its counts.
+    const { eventWindows, closed } = windows({
+      windowMs: 20 * second,
+      hopMs: windowMs,
+      latenessMs: 0,
+    });
+    eventWindows.add(base, 'x', 50);
+    for (let step = 0; step < 3; step++) {
+      for (const shard of ['a', 'b']) eventWindows.add(base + step * windowMs, shard, 50);
+    }
+    eventWindows.add(base + 35 * second, 'x', 50);
+    for (let step = 3; step < 5; step++) {
+      for (const shard of ['a', 'b']) eventWindows.add(base + step * windowMs, shard, 50);
+    }
+    eventWindows.closeAll();
+    for (const window of closed) {
+      const sum = Object.values(window.counts).reduce((total, count) => total + count, 0);
+      expect(sum).toBe(window.total);
+    }
+    expect(closed.map((window) => [window.start, window.counts])).toEqual([
+      [-10, { x: 50, a: 50, b: 50 }],
+      [0, { x: 50, a: 100, b: 100 }],
+      [10, { x: 0, a: 100, b: 100 }],
+      [20, { x: 50, a: 100, b: 100 }],
+      [30, { x: 50, a: 100, b: 100 }],
+      [40, { a: 50, b: 50 }],
+    ]);
   });
 });
