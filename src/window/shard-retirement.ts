@@ -1,4 +1,4 @@
-import type { ShardRemap, ShardUniverse } from './shard-universe.js';
+import { tooManyShards, type ShardRemap, type ShardUniverse } from './shard-universe.js';
 
 /**
  * Closed windows an id may go without a count before it retires, whatever the traffic.
@@ -115,4 +115,65 @@ export function remapCounts(values: Float64Array, remap: ShardRemap): Float64Arr
     if (at >= 0) moved[at] = values[index];
   }
   return moved;
+}
+
+/** {@link countsOfClosedWindow}'s answer. */
+export interface ClosedWindowCounts {
+  /** Load per shard, indexed like the universe after any retirement (length: its size). */
+  readonly counts: Float64Array;
+  readonly total: number;
+  /** Ids a declared universe does not hold, with their load left out. */
+  readonly outside: number;
+  /** Ids a full growing universe still refused, with their load left out. */
+  readonly tooMany: number;
+}
+
+/**
+ * The count vector of a window put together elsewhere (`watch --merge` builds it from
+ * partial summaries, keyed by shard id) over `universe`: the ids are admitted in the order
+ * given; over a growing universe `retirement` then retires ids at this window's boundary
+ * (window number `window`, in hops) as the event-time windows do, and the ids the full
+ * universe refused are offered once more. O(ids in the window + m).
+ */
+export function countsOfClosedWindow(
+  universe: ShardUniverse,
+  retirement: ShardRetirement | null,
+  window: number,
+  loads: Iterable<readonly [string, number]>,
+): ClosedWindowCounts {
+  let counts: Float64Array = new Float64Array(universe.size);
+  let total = 0;
+  let outside = 0;
+  const refused: (readonly [string, number])[] = [];
+  const add = (index: number, load: number) => {
+    if (index >= counts.length) {
+      const grown = new Float64Array(Math.max(universe.size, counts.length * 2));
+      grown.set(counts);
+      counts = grown;
+    }
+    counts[index] += load;
+    total += load;
+  };
+  for (const entry of loads) {
+    const index = universe.admit(entry[0]);
+    if (index === tooManyShards) refused.push(entry);
+    else if (index < 0) outside++;
+    else add(index, entry[1]);
+  }
+  if (retirement !== null) {
+    const remap = retirement.atBoundary(window, counts, total, []);
+    if (remap !== null) counts = remapCounts(counts, remap);
+  }
+  let tooMany = 0;
+  for (const [shard, load] of refused) {
+    const index = universe.admit(shard);
+    if (index < 0) tooMany++;
+    else add(index, load);
+  }
+  if (counts.length !== universe.size) {
+    const fitted = new Float64Array(universe.size);
+    fitted.set(counts.subarray(0, universe.size));
+    counts = fitted;
+  }
+  return { counts, total, outside, tooMany };
 }

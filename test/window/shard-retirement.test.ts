@@ -6,7 +6,11 @@ import { JudgingPipeline } from '../../src/judge/judging-pipeline.js';
 import { KeyAnalysis } from '../../src/keys/key-analysis.js';
 import { defaultKeySketchSettings } from '../../src/keys/window-key-stats.js';
 import { EventTimeWindows } from '../../src/window/event-time-window.js';
-import { retireAfterWindows } from '../../src/window/shard-retirement.js';
+import {
+  countsOfClosedWindow,
+  retireAfterWindows,
+  ShardRetirement,
+} from '../../src/window/shard-retirement.js';
 import { ShardUniverse } from '../../src/window/shard-universe.js';
 
 const second = 1000;
@@ -324,5 +328,37 @@ describe('ShardRetirement: when an id retires', () => {
       [30, { x: 50, a: 100, b: 100 }],
       [40, { a: 50, b: 50 }],
     ]);
+  });
+});
+
+describe('countsOfClosedWindow: windows put together elsewhere (watch --merge)', () => {
+  it('retires ids at each window and gives a full universe room for the ids it refused', () => {
+    // Worked by hand, a universe of 10: window 0 brings 15 bogus ids (10 admitted, 5
+    // refused: all 10 reported in it, so none retires). Window 1 brings 4 real shards with
+    // 10 each: refused at first, then the 10 bogus ids, absent while the universe was
+    // full, retire, and the 4 are admitted into the room.
+    const universe = ShardUniverse.growing({ maxShards: 10 });
+    const retirement = new ShardRetirement(universe);
+    const flood = Array.from({ length: 15 }, (_, at) => [`bogus-${at}`, 1] as const);
+    const first = countsOfClosedWindow(universe, retirement, 0, flood);
+    expect([first.counts.length, first.total, first.tooMany, first.outside]).toEqual([
+      10, 10, 5, 0,
+    ]);
+    const real = Array.from({ length: 4 }, (_, at) => [`db-${at}`, 10] as const);
+    const second = countsOfClosedWindow(universe, retirement, 1, real);
+    expect(Array.from(second.counts)).toEqual([10, 10, 10, 10]);
+    expect([second.total, second.tooMany]).toEqual([40, 0]);
+    expect(universe.ids).toEqual(['db-0', 'db-1', 'db-2', 'db-3']);
+    expect(universe.retiredTotal).toBe(10);
+  });
+
+  it('over a declared universe counts unknown ids as outside it and retires nothing', () => {
+    const universe = ShardUniverse.fromIds(['a', 'b']);
+    const counted = countsOfClosedWindow(universe, null, 0, [
+      ['a', 3],
+      ['z', 4],
+    ]);
+    expect(Array.from(counted.counts)).toEqual([3, 0]);
+    expect([counted.total, counted.outside, counted.tooMany]).toEqual([3, 1, 0]);
   });
 });
