@@ -304,7 +304,13 @@ export class Judge {
     notes: string[],
   ): Judgement {
     const update = this.tracker.update(window.start, [], [], true);
-    notes.push(m === 0 ? 'no shard has reported yet' : 'no requests in this window');
+    notes.push(
+      m > 0
+        ? 'no requests in this window'
+        : this.universe.retiredTotal > 0
+          ? 'no shard is reporting: every id seen has retired'
+          : 'no shard has reported yet',
+    );
     return {
       window: { start: iso(window.start), end: iso(window.end) },
       requests: window.total,

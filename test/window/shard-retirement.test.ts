@@ -102,6 +102,8 @@ describe('a growing universe flooded with bogus ids', () => {
     }
     pipeline.finish();
     expect(verdicts.map((verdict) => verdict.shards)).toEqual([10, 0, 4, 4, 4, 4]);
+    // The note of the window without shards says why (common practice: say what m rests on).
+    expect(verdicts[1].notes).toContain('no shard is reporting: every id seen has retired');
     expect(verdicts.map((verdict) => verdict.retiredShards)).toEqual([0, 10, 0, 0, 0, 0]);
     expect(verdicts.map((verdict) => verdict.rejected['too many shards'] ?? 0)).toEqual([
       5, 4, 0, 0, 0, 0,
