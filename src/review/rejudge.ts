@@ -56,6 +56,8 @@ export async function* rejudgeRecording(
   /** A growing universe: the ids of the line last followed, and its indices in `universe`. */
   let growingIds: readonly string[] | null = null;
   let lineIndex: Int32Array | null = null;
+  /** Ids the recording retired inside a merged window, to retire where the next one starts. */
+  let retireDeferred = false;
 
   const flush = (): ReviewWindow | null => {
     if (pending === null || judge === null || universe === null) return null;
@@ -122,9 +124,12 @@ export async function* rejudgeRecording(
       const judged = flush();
       if (judged !== null) yield judged;
     }
-    if (!universe.declared && window.shardIds !== growingIds) {
+    if (
+      !universe.declared &&
+      (window.shardIds !== growingIds || (pending === null && retireDeferred))
+    ) {
       growingIds = window.shardIds;
-      followGrowing(universe, window, pending === null, merging);
+      retireDeferred = followGrowing(universe, window, pending === null, merging);
       lineIndex = lineIndices(universe, window.shardIds);
     }
     if (pending === null) {
@@ -179,18 +184,19 @@ function universeOf(window: RecordedWindow): ShardUniverse {
  * merged window they stay until it is judged (their load is in it). Then the line's new ids
  * are admitted. Judged window by window the universe must then list exactly the line's
  * ids: survivors keep their order and new ids come last, so anything else is another
- * run's recording.
+ * run's recording. Returns true when ids the line no longer lists stay for now.
  */
 function followGrowing(
   universe: ShardUniverse,
   window: RecordedWindow,
   atBoundary: boolean,
   merging: boolean,
-): void {
+): boolean {
   const listed = new Set(window.shardIds);
+  const deferred = !atBoundary && universe.ids.some((id) => !listed.has(id));
   if (atBoundary) universe.retire((index) => listed.has(universe.idAt(index)));
   for (const id of window.shardIds) universe.admit(id);
-  if (merging) return;
+  if (merging) return deferred;
   const ids = universe.ids;
   const at = ids.findIndex((id, index) => id !== window.shardIds[index]);
   if (at >= 0 || ids.length !== window.shardIds.length) {
@@ -198,6 +204,7 @@ function followGrowing(
       `the shard ids change at line ${window.line} (shard ${at} was ${JSON.stringify(ids[at])}, now ${JSON.stringify(window.shardIds[at])}): review one run's recording at a time`,
     );
   }
+  return deferred;
 }
 
 /** Index in `universe` of each of a line's ids. O(ids). */
