@@ -74,8 +74,8 @@ Shard universe:
   Without either the universe grows as shards report; a shard that never
   reports is then invisible, so the cold tests are off and the output says so.
   Ids that stop reporting retire where a window closes (none for 10 windows,
-  or absent while reporting shards average 6.9+ requests, or the universe is
-  full), so m counts the shards reporting now; verdicts say retiredShards.
+  or absent while k reporting shards average ln(1000 k)+ requests, or the
+  universe is full), so m counts the shards reporting now (retiredShards).
   A scenario declares its own shards and shares.
 
 Windows:

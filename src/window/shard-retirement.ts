@@ -8,12 +8,20 @@ import { tooManyShards, type ShardRemap, type ShardUniverse } from './shard-univ
 export const retireAfterWindows = 10;
 
 /**
- * The fair share, in requests, over the shards that did report, at which an id absent from
- * the window retires at once: a live shard placed at random with that share stays empty
- * with probability e^-share, here 1 in 1000 (share = ln 1000, about 6.9). Our choice,
- * stated in the README; below it an empty window is too common to mean the shard is gone.
+ * How unlikely it must be that any live shard of a window is empty by chance before the ids
+ * absent from it retire at once: 1 in 1000. With k shards reporting and a fair share of
+ * N / k requests each, a live shard placed at random is empty with probability about
+ * e^-(N / k), so the ids absent from the window retire when k e^-(N / k) <= 1 / 1000, that
+ * is N / k >= ln(1000 k) (6.9 requests per shard for one shard, 11.1 for 64, 18.4 for
+ * 100 000). Our choice, stated in the README; below it an empty window is too common among
+ * live shards to mean that one is gone.
  */
-export const absentShareForRetirement = Math.log(1000);
+export const chanceOfEmptyLiveShard = 1 / 1000;
+
+/** The fair share over `reporting` shards at which absent ids retire at once (see above). */
+export function absentShareForRetirement(reporting: number): number {
+  return Math.log(reporting / chanceOfEmptyLiveShard);
+}
 
 /**
  * Decides, at each window boundary of a growing universe, which ids stopped reporting and
@@ -23,8 +31,8 @@ export const absentShareForRetirement = Math.log(1000);
  * window closing nor in any window still open (so no load is ever dropped), and one of:
  *
  * - it has had no count in the last {@link retireAfterWindows} closed windows;
- * - the closing window's fair share over the shards that reported is at least
- *   {@link absentShareForRetirement}, so a live shard would hardly be empty;
+ * - the closing window's fair share over the shards that reported is so large that a live
+ *   shard would hardly be empty ({@link chanceOfEmptyLiveShard});
  * - the universe refused an id for being full since the previous boundary: room for the
  *   newcomers goes to ids that are not reporting.
  *
@@ -69,7 +77,8 @@ export class ShardRetirement {
     const refused = this.universe.refusedFull;
     const full = refused !== this.refusedSeen;
     this.refusedSeen = refused;
-    const absentGoes = full || (reporting > 0 && total / reporting >= absentShareForRetirement);
+    const absentGoes =
+      full || (reporting > 0 && total / reporting >= absentShareForRetirement(reporting));
     const candidate = (index: number) =>
       this.lastCounted[index] !== window &&
       (absentGoes || window - this.lastCounted[index] >= retireAfterWindows);

@@ -152,8 +152,8 @@ describe('shardwise watch on a file', () => {
 
   it('says in the summary how many ids of a growing universe retired', async () => {
     // Worked by hand: a, b, c report 50 each in the first 10 s window, only a and b in the
-    // next (50 requests per reporting shard: c would be empty with probability e^-50), so c
-    // retires before the second window is judged.
+    // next (50 requests per reporting shard, above ln(1000 x 2) = 7.6: a live c would be
+    // empty with probability e^-50), so c retires before the second window is judged.
     const lines = [
       ...['a', 'b', 'c'].map((shard) => `{"ts":1764547200000,"shard":"${shard}","count":50}`),
       ...['a', 'b'].map((shard) => `{"ts":1764547210000,"shard":"${shard}","count":50}`),

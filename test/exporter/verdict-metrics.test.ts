@@ -251,8 +251,8 @@ describe('VerdictMetrics', () => {
     const { pipeline, judgements, scrape } = observed(ShardUniverse.growing());
     expect(sampleOf(await scrape(), 'shardwise_shards_retired_total').value).toBe(0);
     // Worked by hand: 8 shards report 100 each in window 0, only s-0..s-3 in window 1 (100
-    // each: an absent shard would be empty with probability e^-100), so s-4..s-7 retire
-    // where window 1 closes, at the record of window 2.
+    // each, above ln(1000 x 4) = 8.3: a live shard would be empty with probability e^-100),
+    // so s-4..s-7 retire where window 1 closes, at the record of window 2.
     for (let shard = 0; shard < 8; shard++) pipeline.record(startMs, `s-${shard}`, 100);
     for (let shard = 0; shard < 4; shard++) pipeline.record(startMs + windowMs, `s-${shard}`, 100);
     pipeline.record(startMs + 2 * windowMs, 's-0', 100);

@@ -64,7 +64,8 @@ describe('a growing universe flooded with bogus ids', () => {
     // were refused: 50 001 retire, and window 2's flood fills the room again. Window 3's
     // db-0 closes window 2 (no id refused since, 1 request per shard: nobody retires), so
     // db-1..db-63 find the universe full and are refused in window 3 (63 records). Window
-    // 4's first record closes window 3, where 100 requests per reporting shard mean an
+    // 4's first record closes window 3, where 100 requests per reporting shard (above
+    // ln(1000 x 1) = 6.9, since only db-0 reported) mean an
     // absent id is no live shard: the 99 999 flood ids left retire. From window 4 on
     // nothing is refused and m is 64: the real shards lose one window, not the run.
     for (const verdict of verdicts.slice(4)) {
@@ -267,8 +268,8 @@ describe('ShardRetirement: when an id retires', () => {
 
   it(`keeps an id through ${retireAfterWindows - 1} empty windows of thin traffic and retires it at the ${retireAfterWindows}th`, () => {
     // Worked by hand: a sends 1 request per window (1 per reporting shard, far below
-    // ln 1000), b only in window 0, so b retires only by the count of empty windows: where
-    // window 10 closes, its 10th without b.
+    // ln(1000 x 1) = 6.9), b only in window 0, so b retires only by the count of empty
+    // windows: where window 10 closes, its 10th without b.
     const { eventWindows, closed, universe } = windows({ windowMs, latenessMs: 0 });
     eventWindows.add(base, 'b', 1);
     for (let window = 0; window < 12; window++) eventWindows.add(base + window * windowMs, 'a', 1);
@@ -279,10 +280,28 @@ describe('ShardRetirement: when an id retires', () => {
     expect(universe.retiredTotal).toBe(1);
   });
 
+  it('keeps a live shard that is empty by chance among many: the level holds for the whole window', () => {
+    // Worked by hand: 1000 shards report 7 each in window 0; in window 1 one of them sends
+    // nothing. 7 requests per reporting shard: a live shard is empty with probability
+    // e^-7 (about 1 in 1100), so among 999 one such shard is expected about once per
+    // window; it retires only at ln(1000 x 999), about 13.8 requests per reporting shard.
+    const { eventWindows, closed, universe } = windows({ windowMs, latenessMs: 0 });
+    for (let window = 0; window < 3; window++) {
+      for (let shard = 0; shard < 1000; shard++) {
+        if (window === 1 && shard === 500) continue;
+        eventWindows.add(base + window * windowMs, `s-${shard}`, 7);
+      }
+    }
+    eventWindows.closeAll();
+    expect(closed.map((window) => Object.keys(window.counts).length)).toEqual([1000, 1000, 1000]);
+    expect(universe.retiredTotal).toBe(0);
+  });
+
   it('keeps an id absent from the closing window while a window still open counts it, so no load is dropped', () => {
     // Worked by hand, lateness 5 s: a, b, c report in window 0; in window 1 only a and b;
     // c's window-2 record (at 21 s) comes before window 1 closes (at 25 s, the watermark
-    // reaching 20 s). 50 per reporting shard would retire an absent id, but c is counted in
+    // reaching 20 s). 50 per reporting shard (above ln(1000 x 2) = 7.6) would retire an
+    // absent id, but c is counted in
     // the open window 2, so it stays, and window 2 holds its 50.
     const { eventWindows, closed } = windows({ windowMs, latenessMs: 5 * second });
     for (const shard of ['a', 'b', 'c']) eventWindows.add(base, shard, 50);
@@ -302,7 +321,7 @@ describe('ShardRetirement: when an id retires', () => {
     // Worked by hand, 20 s windows every 10 s, lateness 0: each record counts in the two
     // windows that cover it. a and b send 50 at 0, 10, 20, 30 and 40 s; x at 0 s and at
     // 35 s, before anything of 30 s. x's 35 s record closes window 10 (10-30 s), where x is
-    // absent with 100 requests per reporting shard, but windows 20 and 30 hold x's 50, so x
+    // absent with 100 requests per reporting shard (above ln 2000 = 7.6), but windows 20 and 30 hold x's 50, so x
     // stays until window 40 closes without it. Every window's total is the sum of its counts.
     const { eventWindows, closed } = windows({
       windowMs: 20 * second,
