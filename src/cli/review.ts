@@ -72,7 +72,9 @@ Input (exactly one):
 Shard universe (--input and Kafka only; a recording carries its own):
   --shards N|A..B|a,b,c   declare the shards, equal shares
   --shard-map FILE        declare the shards with relative weights
-  --max-shards N          most shards accepted (default 100000)
+  --max-shards N          most shards accepted (default 100000); without
+                          --shards or --shard-map, ids that stop reporting
+                          retire as in watch
 
 Windows:
   --window D              window length (default 10s). On a recording: a whole

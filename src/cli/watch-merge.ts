@@ -7,7 +7,8 @@ import type { JudgingPipeline } from '../judge/judging-pipeline.js';
 import { WindowMerge, type MergedWindow, type WindowCoverage } from '../partials/window-merge.js';
 import type { RejectionReason } from '../window/count-record.js';
 import type { ClosedWindow } from '../window/event-time-window.js';
-import { outsideUniverse, tooManyShards, type ShardUniverse } from '../window/shard-universe.js';
+import { countsOfClosedWindow, ShardRetirement } from '../window/shard-retirement.js';
+import type { ShardUniverse } from '../window/shard-universe.js';
 
 /** What `watch --merge` needs besides the judge. */
 export interface MergeSettings {
@@ -37,6 +38,8 @@ export class SummaryMergeSource implements RecordSource {
   private readonly reader: KafkaSummaryReader;
   private readonly settings: MergeSettings;
   private readonly universe: ShardUniverse;
+  /** A growing universe retires ids that stopped reporting as each window is judged. */
+  private readonly retirement: ShardRetirement | null;
   private readonly pipeline: JudgingPipeline;
   private readonly windowMs: number;
   private merge: WindowMerge | null = null;
@@ -60,6 +63,7 @@ export class SummaryMergeSource implements RecordSource {
     this.topic = options.settings.topic;
     this.label = `summaries on ${options.settings.topic}`;
     this.universe = options.universe;
+    this.retirement = options.universe.declared ? null : new ShardRetirement(options.universe);
     this.pipeline = options.pipeline;
     this.windowMs = options.windowMs;
     this.onIncomplete = options.onIncomplete;
@@ -153,29 +157,19 @@ export class SummaryMergeSource implements RecordSource {
   }
 
   private judge(merged: MergedWindow): void {
-    const counts = new Float64Array(this.universe.size);
     const rejected: Partial<Record<RejectionReason, number>> = { ...merged.rejected };
-    let total = 0;
-    let grown = counts;
-    for (const [shard, load] of merged.counts) {
-      const index = this.universe.admit(shard);
-      if (index === outsideUniverse || index === tooManyShards) {
-        const reason = index === outsideUniverse ? 'outside universe' : 'too many shards';
-        rejected[reason] = (rejected[reason] ?? 0) + 1;
-        continue;
-      }
-      if (index >= grown.length) {
-        const larger = new Float64Array(this.universe.size);
-        larger.set(grown);
-        grown = larger;
-      }
-      grown[index] += load;
-      total += load;
-    }
+    const { counts, total, outside, tooMany } = countsOfClosedWindow(
+      this.universe,
+      this.retirement,
+      Math.floor(merged.start / this.windowMs),
+      merged.counts,
+    );
+    if (outside > 0) rejected['outside universe'] = (rejected['outside universe'] ?? 0) + outside;
+    if (tooMany > 0) rejected['too many shards'] = (rejected['too many shards'] ?? 0) + tooMany;
     const window: ClosedWindow = {
       start: merged.start,
       end: merged.end,
-      counts: grown,
+      counts,
       total,
       late: merged.late,
       rejected,

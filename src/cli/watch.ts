@@ -96,6 +96,9 @@ Shard universe:
   --max-shards N          most shards accepted (default 100000)
   Without either the universe grows as shards report; a shard that never
   reports is then invisible, so the cold tests are off and the output says so.
+  Ids that stop reporting retire where a window closes (none for 10 windows,
+  or absent while k reporting shards average ln(1000 k)+ requests, or the
+  universe is full), so m counts the shards reporting now (retiredShards).
   A scenario declares its own shards and shares.
 
 Windows:
@@ -571,6 +574,7 @@ async function watch(plan: WatchPlan, io: CommandIO): Promise<number> {
     openAtEnd: [],
   };
   let windows = 0;
+  let retired = 0;
   const mergeMetrics =
     mergeSource === null || exporter === null
       ? null
@@ -584,6 +588,7 @@ async function watch(plan: WatchPlan, io: CommandIO): Promise<number> {
     // After a resume with sliding windows, windows already judged by the last run close again.
     if (resumedThrough !== null && window.end <= resumedThrough) return;
     windows++;
+    retired += judgement.retiredShards ?? 0;
     incidents.openAtEnd = judgement.incidents;
     // The screen subscribes itself; the lines are for everything else.
     if (screen === null) output.write(jsonSafe(JSON.stringify(judgement)));
@@ -643,7 +648,7 @@ async function watch(plan: WatchPlan, io: CommandIO): Promise<number> {
   }
   await output.drained();
   output.check();
-  io.stderr.write(summary(windows, pipeline, incidents, interrupted));
+  io.stderr.write(summary(windows, pipeline, incidents, interrupted, retired));
   return 0;
 }
 
@@ -731,6 +736,7 @@ function summary(
   pipeline: JudgingPipeline,
   incidents: { opened: Incident[]; cleared: number; openAtEnd: readonly Incident[] },
   interrupted: boolean,
+  retired: number,
 ): string {
   const totals = pipeline.totals;
   const rejected = rejectionReasons
@@ -769,6 +775,7 @@ function summary(
       lines.push(`    and ${totals.gapCount - totals.gaps.length} more`);
     }
   }
+  if (retired > 0) lines.push(`  shards retired: ${retired} (ids that stopped reporting left m)`);
   if (interrupted && pipeline.openWindows > 0) {
     lines.push(`  interrupted: ${plural(pipeline.openWindows, 'partial window')} not judged`);
   }

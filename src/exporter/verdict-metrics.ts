@@ -60,6 +60,7 @@ export const verdictMetricNames = [
   'shardwise_records_total',
   'shardwise_rejected_records_total',
   'shardwise_windows_closed_total',
+  'shardwise_shards_retired_total',
   'shardwise_window_judging_duration_seconds',
   'shardwise_source_lag_seconds',
   'shardwise_source_stalled',
@@ -142,6 +143,7 @@ export class VerdictMetrics {
   private readonly records: Counter<'outcome'>;
   private readonly rejections: Counter<'reason'>;
   private readonly windowsClosed: Counter;
+  private readonly shardsRetired: Counter;
   private readonly judgingTime: Histogram;
   private readonly lag: Gauge;
   private readonly stalled: Gauge;
@@ -306,6 +308,11 @@ export class VerdictMetrics {
       help: 'Windows closed and judged',
       registers,
     });
+    this.shardsRetired = new Counter({
+      name: 'shardwise_shards_retired_total',
+      help: 'Shard ids a growing universe (no --shards or --shard-map) retired because they stopped reporting: they left m, and their room went to ids that report later',
+      registers,
+    });
     this.judgingTime = new Histogram({
       name: 'shardwise_window_judging_duration_seconds',
       help: 'Time to judge one closed window, seconds',
@@ -342,6 +349,7 @@ export class VerdictMetrics {
         }
         this.show(judgement);
         this.windowsClosed.inc();
+        this.shardsRetired.inc(judgement.retiredShards ?? 0);
         this.lastWindowEnd.set(window.end / 1000);
         const now = this.clock();
         this.lastJudgedAt = now;

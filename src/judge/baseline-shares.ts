@@ -106,6 +106,28 @@ export class BaselineShares {
     this.learned++;
     this.version++;
   }
+
+  /**
+   * Follows a retirement of a growing universe (`indexAfter[old]` is a shard's new index,
+   * -1 when it retired, `size` the shards after): retired shards' weight leaves the
+   * learned total, and sum w_t^2 N_t shrinks in the same proportion, as if their requests
+   * had never been counted. O(m).
+   */
+  follow(indexAfter: Int32Array, size: number): void {
+    const moved = new Float64Array(size);
+    let kept = 0;
+    const length = Math.min(this.weighted.length, indexAfter.length);
+    for (let shard = 0; shard < length; shard++) {
+      const at = indexAfter[shard];
+      if (at < 0) continue;
+      moved[at] = this.weighted[shard];
+      kept += this.weighted[shard];
+    }
+    if (this.weightedTotal > 0) this.weightedSquares *= Math.min(1, kept / this.weightedTotal);
+    this.weighted = moved;
+    this.weightedTotal = kept;
+    this.version++;
+  }
 }
 
 /**

@@ -120,6 +120,24 @@ export class IncidentTracker {
     open.sort((a, b) => a.since - b.since || a.index - b.index);
     return { streaks, open, opened, cleared };
   }
+
+  /**
+   * Follows a retirement of a growing universe: states move to their shards' new indices;
+   * those of retired shards are dropped, and the open incidents among them are returned
+   * (they end: the shard stopped reporting). O(tracked).
+   */
+  follow(indexAfter: Int32Array): TrackedIncident[] {
+    const ended: TrackedIncident[] = [];
+    const moved: ShardState[] = [];
+    for (const state of this.states.values()) {
+      const at = state.index < indexAfter.length ? indexAfter[state.index] : -1;
+      if (at >= 0) moved.push({ ...state, index: at });
+      else if (state.open) ended.push(snapshot(state));
+    }
+    this.states.clear();
+    for (const state of moved) this.states.set(trackingKey(state.index, state.finding), state);
+    return ended;
+  }
 }
 
 function snapshot(state: ShardState): TrackedIncident {

@@ -3,7 +3,7 @@ import type { Placement } from '../chance/placement.js';
 import { spreadTest } from '../chance/spread.js';
 import { logBinomialAtLeast, logBinomialAtMost } from '../chance/tails.js';
 import type { ClosedWindow } from '../window/event-time-window.js';
-import type { ShardUniverse } from '../window/shard-universe.js';
+import type { ShardRemap, ShardUniverse } from '../window/shard-universe.js';
 import { BaselineShares } from './baseline-shares.js';
 import { ChanceMemo } from './chance-memo.js';
 import { robustSpread, scaleCounts } from './dispersion-scaling.js';
@@ -75,6 +75,9 @@ export class Judge {
   private scratch = new Float64Array(0);
   private judgedScratch = new Float64Array(0);
   private exactScratch = new Float64Array(0);
+  /** Ids retired since the last judged window, and incidents that ended with them. */
+  private retiredSinceWindow = 0;
+  private endedByRetirement: { readonly id: string; readonly incident: TrackedIncident }[] = [];
 
   /**
    * @param universe the shards the windows count (ids, declared shares, declared or growing)
@@ -95,6 +98,7 @@ export class Judge {
     this.tracker = new IncidentTracker(settings.confirm, settings.clear);
     this.baseline =
       settings.null === 'baseline' ? new BaselineShares(settings.baselineWindows) : null;
+    if (!universe.declared) universe.onRetire((remap) => this.followRetirement(remap));
   }
 
   /** The approximate false-incident rate per day under random placement (see the class note). */
@@ -287,11 +291,15 @@ export class Judge {
       flagged,
       incidents: update.open.map((incident) => this.incident(incident, window.start)),
       opened: update.opened.map((incident) => this.incident(incident, window.start)),
-      cleared: update.cleared.map((incident) => this.incident(incident, window.start)),
+      cleared: [
+        ...this.endedIncidents(window.start),
+        ...update.cleared.map((incident) => this.incident(incident, window.start)),
+      ],
       falseIncidentsPerDay: this.falseIncidentsPerDay,
       late: window.late,
       rejected: window.rejected,
       coldTests,
+      ...this.retirementFields(),
       alpha: s.alpha,
       notes,
     };
@@ -307,8 +315,15 @@ export class Judge {
     findings: Finding[] = ['too little traffic'],
   ): Judgement {
     const update = this.tracker.update(window.start, [], [], true);
-    if (findings.length > 0)
-      notes.push(m === 0 ? 'no shard has reported yet' : 'no requests in this window');
+    if (findings.length > 0) {
+      notes.push(
+        m > 0
+          ? 'no requests in this window'
+          : this.universe.retiredTotal > 0
+            ? 'no shard is reporting: every id seen has retired'
+            : 'no shard has reported yet',
+      );
+    }
     return {
       window: { start: iso(window.start), end: iso(window.end) },
       requests: window.total,
@@ -332,11 +347,12 @@ export class Judge {
       flagged: [],
       incidents: update.open.map((incident) => this.incident(incident, window.start)),
       opened: [],
-      cleared: [],
+      cleared: this.endedIncidents(window.start),
       falseIncidentsPerDay: this.falseIncidentsPerDay,
       late: window.late,
       rejected: window.rejected,
       coldTests,
+      ...this.retirementFields(),
       alpha: this.settings.alpha,
       notes,
     };
@@ -421,6 +437,40 @@ export class Judge {
       since: iso(incident.since),
       windows: Math.round((windowStart - incident.since) / this.settings.hopMs) + 1,
     };
+  }
+
+  /**
+   * A growing universe retired ids (at a window boundary, before the next window reaches
+   * the judge): streaks and learned shares move to the new indices; open incidents of
+   * retired shards end, and are listed as cleared with the next window.
+   */
+  private followRetirement(remap: ShardRemap): void {
+    for (const incident of this.tracker.follow(remap.indexAfter)) {
+      this.endedByRetirement.push({ id: remap.previousIds[incident.index], incident });
+    }
+    this.baseline?.follow(remap.indexAfter, remap.size);
+    this.declaredCache = null;
+    this.retiredSinceWindow += remap.retired;
+  }
+
+  /** `retiredShards` of a verdict over a growing universe (absent for a declared one). */
+  private retirementFields(): { retiredShards?: number } {
+    if (this.universe.declared) return {};
+    const retiredShards = this.retiredSinceWindow;
+    this.retiredSinceWindow = 0;
+    return { retiredShards };
+  }
+
+  /** Incidents ended by a retirement since the last window, as cleared with this one. */
+  private endedIncidents(windowStart: number): Incident[] {
+    const ended = this.endedByRetirement.map(({ id, incident }) => ({
+      shard: id,
+      finding: incident.finding,
+      since: iso(incident.since),
+      windows: Math.round((windowStart - incident.since) / this.settings.hopMs) + 1,
+    }));
+    this.endedByRetirement = [];
+    return ended;
   }
 
   /** The null shares for this window's m shards and N requests. */

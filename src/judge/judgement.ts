@@ -75,6 +75,12 @@ export interface Judgement {
   readonly rejected: Readonly<Partial<Record<RejectionReason, number>>>;
   /** False without a declared universe: a shard that never reports cannot be seen. */
   readonly coldTests: boolean;
+  /**
+   * A growing universe only (absent for a declared one): ids that retired at the boundary
+   * before this window, having stopped reporting, so that they are not in `shards` (see
+   * src/window/shard-retirement.ts). An open incident on a retired shard is in `cleared`.
+   */
+  readonly retiredShards?: number;
   readonly alpha: number;
   /** Plain-language notes on what the numbers rest on (cold tests off, baseline learning). */
   readonly notes: readonly string[];

@@ -100,6 +100,7 @@ export class JudgingPipeline {
   private readonly partitionDelivered: boolean[] = [];
   private backlogged: (partition: number) => boolean = () => false;
   private reportedIdle = '';
+  private readonly universe: ShardUniverse;
 
   /**
    * @param universe the shards records are counted under
@@ -120,6 +121,7 @@ export class JudgingPipeline {
     this.judge = judge;
     this.clock = clock;
     this.keys = options.keys ?? null;
+    this.universe = universe;
     this.windows = new EventTimeWindows(universe, windowOptions, (window) =>
       this.judgeWindow(window),
     );
@@ -179,9 +181,12 @@ export class JudgingPipeline {
     key: string | undefined,
     partition: number,
   ) {
+    const layout = this.universe.layout;
     const index = this.windows.add(ts, shard, count, partition);
     if (key !== undefined && index >= 0 && this.keys !== null) {
-      this.keys.record(ts, index, key, count);
+      // Closing a window may have retired ids and moved this shard's index.
+      const now = this.universe.layout === layout ? index : this.universe.indexOf(shard);
+      this.keys.record(ts, now, key, count);
     }
   }
 

@@ -74,6 +74,8 @@ export class KeyAnalysis implements WindowKeyAnalyst {
     this.universe = universe;
     this.settings = settings;
     this.windows = new KeyedWindows(settings.windowMs, settings.hopMs, settings.sketch);
+    // Ids retire at a window boundary, before that window's verdict is asked for.
+    if (!universe.declared) universe.onRetire((remap) => this.windows.follow(remap.indexAfter));
   }
 
   record(ts: number, shardIndex: number, key: string, count: number): void {

@@ -65,6 +65,11 @@ export class KeyedWindows {
     return this.open.size;
   }
 
+  /** Follows a retirement of a growing universe (see WindowKeyStats.follow). */
+  follow(indexAfter: Int32Array): void {
+    for (const stats of this.open.values()) stats.follow(indexAfter);
+  }
+
   private statsFor(window: number): WindowKeyStats | null {
     if (window <= this.closedThrough) return null;
     let stats = this.open.get(window);

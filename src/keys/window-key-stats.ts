@@ -68,4 +68,20 @@ export class WindowKeyStats {
     shard.heavy.add(keptKey(key, hashes.second), count);
     shard.distinct.add(combinedHash(hashes));
   }
+
+  /**
+   * Follows a retirement of a growing universe: each shard's statistics move to its new
+   * index (`indexAfter[old]`), a retired shard's are dropped. O(shards).
+   */
+  follow(indexAfter: Int32Array): void {
+    const moved: (ShardKeyStats | undefined)[] = [];
+    this.shards.forEach((shard, index) => {
+      const at = index < indexAfter.length ? indexAfter[index] : -1;
+      if (shard === undefined || at < 0) return;
+      while (moved.length < at) moved.push(undefined);
+      moved[at] = shard;
+    });
+    this.shards.length = moved.length;
+    for (let index = 0; index < moved.length; index++) this.shards[index] = moved[index];
+  }
 }

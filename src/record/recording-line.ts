@@ -5,7 +5,7 @@ import type { Judgement } from '../judge/judgement.js';
  * `watch --no-ui` prints it, plus what `review` needs to judge the window again: its full
  * count vector and the settings in force. The shard ids (and the declared shares, when they
  * are unequal) ride on the first line of each file and again whenever a growing universe
- * has grown, so every file, a rotated one included, can be read on its own.
+ * has grown or retired ids, so every file, a rotated one included, can be read on its own.
  */
 export interface RecordingLine extends Judgement {
   /** The recording format's version; a reader refuses versions it does not know. */
@@ -13,7 +13,7 @@ export interface RecordingLine extends Judgement {
   /** Load per shard, indexed like `shardIds` (the ids in force when this line was read). */
   readonly counts: readonly number[];
   readonly settings: RecordedSettings;
-  /** Shard ids by index; on the first line of a file and whenever the universe grew. */
+  /** Shard ids by index; on the first line of a file and whenever the universe grew or retired ids. */
   readonly shardIds?: readonly string[];
   /** Declared shares by index, when they are unequal; with `shardIds`. */
   readonly shares?: readonly number[];

@@ -37,6 +37,7 @@ export class WindowRecorder {
   private fd: number;
   private bytes = 0;
   private idsWritten = -1;
+  private layoutWritten = -1;
   private rotations = 0;
 
   /** Opens (truncates) the file; throws the system error when it cannot be written. */
@@ -58,7 +59,8 @@ export class WindowRecorder {
   /** Writes one window's line. `universe` gives the ids (and shares) its counts are indexed by. */
   record(window: ClosedWindow, judgement: Judgement, universe: ShardUniverse): void {
     const size = window.counts.length;
-    const withIds = size !== this.idsWritten;
+    // A growing universe that retired ids may hold other ids at the same size.
+    const withIds = size !== this.idsWritten || universe.layout !== this.layoutWritten;
     let text = this.line(window, judgement, universe, withIds);
     if (this.bytes > 0 && this.bytes + Buffer.byteLength(text) > this.maxBytes) {
       this.rotate();
@@ -66,6 +68,7 @@ export class WindowRecorder {
       if (!withIds) text = this.line(window, judgement, universe, true);
     }
     this.idsWritten = size;
+    this.layoutWritten = universe.layout;
     const buffer = Buffer.from(text);
     let written = 0;
     while (written < buffer.length) {

@@ -50,6 +50,22 @@ export class HeatGrid {
     );
   }
 
+  /**
+   * Follows a retirement of a growing universe: row `old` moves to `indexAfter[old]`, rows
+   * of retired shards are dropped (their history leaves the strip with them). O(m x columns).
+   */
+  follow(indexAfter: Int32Array): void {
+    const capacity = 2 * this.least;
+    const moved = new Float32Array(this.sums.length);
+    const rows = Math.min(this.shards, indexAfter.length);
+    for (let shard = 0; shard < rows; shard++) {
+      const at = indexAfter[shard];
+      if (at < 0) continue;
+      moved.set(this.sums.subarray(shard * capacity, (shard + 1) * capacity), at * capacity);
+    }
+    this.sums = moved;
+  }
+
   private widen(m: number): void {
     const capacity = 2 * this.least;
     const grown = new Float32Array(Math.max(m, this.shards * 2) * capacity);

@@ -53,6 +53,11 @@ export async function* rejudgeRecording(
   } | null = null;
   let recordedMs = 0;
   let lastShares: Float64Array | null = null;
+  /** A growing universe: the ids of the line last followed, and its indices in `universe`. */
+  let growingIds: readonly string[] | null = null;
+  let lineIndex: Int32Array | null = null;
+  /** Ids the recording retired inside a merged window, to retire where the next one starts. */
+  let retireDeferred = false;
 
   const flush = (): ReviewWindow | null => {
     if (pending === null || judge === null || universe === null) return null;
@@ -110,7 +115,7 @@ export async function* rejudgeRecording(
       universe = universeOf(window);
       lastShares = window.shares;
       judge = new Judge(universe, { ...options.settings, hopMs: merging ? windowMs : hopMs });
-    } else {
+    } else if (universe.declared) {
       grow(universe, window);
       if (window.shares !== null) lastShares = window.shares;
     }
@@ -118,6 +123,14 @@ export async function* rejudgeRecording(
     if (pending !== null && pending.start !== start) {
       const judged = flush();
       if (judged !== null) yield judged;
+    }
+    if (
+      !universe.declared &&
+      (window.shardIds !== growingIds || (pending === null && retireDeferred))
+    ) {
+      growingIds = window.shardIds;
+      retireDeferred = followGrowing(universe, window, pending === null, merging);
+      lineIndex = lineIndices(universe, window.shardIds);
     }
     if (pending === null) {
       pending = {
@@ -137,7 +150,7 @@ export async function* rejudgeRecording(
       pending.counts = grown;
     }
     for (let shard = 0; shard < window.counts.length; shard++) {
-      pending.counts[shard] += window.counts[shard];
+      pending.counts[lineIndex === null ? shard : lineIndex[shard]] += window.counts[shard];
     }
     pending.total += window.total;
     pending.late += window.judgement.late ?? 0;
@@ -154,9 +167,9 @@ export async function* rejudgeRecording(
 function universeOf(window: RecordedWindow): ShardUniverse {
   const ids = window.shardIds;
   if (window.settings.declaredUniverse === false) {
-    const universe = ShardUniverse.growing({ maxShards: Math.max(ids.length, 100_000) });
-    for (const id of ids) universe.admit(id);
-    return universe;
+    // The recording already kept within its run's --max-shards; merged windows may hold the
+    // ids of several recorded ones at once, so no cap here.
+    return ShardUniverse.growing({ maxShards: Number.MAX_SAFE_INTEGER });
   }
   const options = { maxShards: Math.max(ids.length, 1) };
   return window.shares === null
@@ -164,7 +177,42 @@ function universeOf(window: RecordedWindow): ShardUniverse {
     : ShardUniverse.fromWeights(ids, Array.from(window.shares), options);
 }
 
-/** Admits ids a growing universe gained; any other change means another run's recording. */
+/**
+ * A growing universe follows a line that carries new ids: where the line starts a judged
+ * window (`atBoundary`), ids the line no longer lists retire first, as they did in the
+ * recording run at that boundary, so the judge's state follows them the same way; inside a
+ * merged window they stay until it is judged (their load is in it). Then the line's new ids
+ * are admitted. Judged window by window the universe must then list exactly the line's
+ * ids: survivors keep their order and new ids come last, so anything else is another
+ * run's recording. Returns true when ids the line no longer lists stay for now.
+ */
+function followGrowing(
+  universe: ShardUniverse,
+  window: RecordedWindow,
+  atBoundary: boolean,
+  merging: boolean,
+): boolean {
+  const listed = new Set(window.shardIds);
+  const deferred = !atBoundary && universe.ids.some((id) => !listed.has(id));
+  if (atBoundary) universe.retire((index) => listed.has(universe.idAt(index)));
+  for (const id of window.shardIds) universe.admit(id);
+  if (merging) return deferred;
+  const ids = universe.ids;
+  const at = ids.findIndex((id, index) => id !== window.shardIds[index]);
+  if (at >= 0 || ids.length !== window.shardIds.length) {
+    throw new Error(
+      `the shard ids change at line ${window.line} (shard ${at} was ${JSON.stringify(ids[at])}, now ${JSON.stringify(window.shardIds[at])}): review one run's recording at a time`,
+    );
+  }
+  return deferred;
+}
+
+/** Index in `universe` of each of a line's ids. O(ids). */
+function lineIndices(universe: ShardUniverse, ids: readonly string[]): Int32Array {
+  return Int32Array.from(ids, (id) => universe.indexOf(id));
+}
+
+/** Admits ids a declared universe gained; any other change means another run's recording. */
 function grow(universe: ShardUniverse, window: RecordedWindow): void {
   const ids = window.shardIds;
   for (let at = 0; at < ids.length; at++) {

@@ -151,6 +151,7 @@ export class ReviewBuilder {
     this.count++;
     this.requests += window.total;
     this.shards = Math.max(this.shards, m);
+    if (window.shardIds !== this.lastIds) this.followIds(window.shardIds);
     this.lastIds = window.shardIds;
     this.falseIncidentsPerDay = judgement.falseIncidentsPerDay;
     for (const text of judgement.notes) {
@@ -183,6 +184,19 @@ export class ReviewBuilder {
     relativeLoads(window, this.relative);
     this.heat.add(window.start, window.end, this.relative, m);
     this.considerPeak(window);
+  }
+
+  /**
+   * A growing universe that retired ids renumbered its shards: the heat strip's rows move
+   * with their ids (a universe that only grew keeps every index). O(m) when the ids change.
+   */
+  private followIds(ids: readonly string[]): void {
+    const previous = this.lastIds;
+    let moved = previous.length > ids.length;
+    for (let at = 0; at < previous.length && !moved; at++) moved = previous[at] !== ids[at];
+    if (!moved) return;
+    const indexOf = new Map(ids.map((id, at) => [id, at]));
+    this.heat.follow(Int32Array.from(previous, (id) => indexOf.get(id) ?? -1));
   }
 
   /** The finished model. */
@@ -227,7 +241,8 @@ export class ReviewBuilder {
       if (at !== undefined && !rows.includes(at) && rows.length < heatRows) rows.push(at);
     }
     const peaks: { shard: number; peak: number }[] = [];
-    for (let shard = 0; shard < this.shards; shard++) {
+    // The shards of the last window: after a retirement, indices past them hold no shard.
+    for (let shard = 0; shard < Math.min(this.shards, this.lastIds.length); shard++) {
       if (rows.includes(shard)) continue;
       peaks.push({ shard, peak: Math.max(...this.heat.means(shard)) });
     }

@@ -1,6 +1,7 @@
 import type { CountRecord, RejectionReason } from './count-record.js';
 import { UsageError } from './errors.js';
-import { outsideUniverse, type ShardUniverse } from './shard-universe.js';
+import { remapCounts, ShardRetirement } from './shard-retirement.js';
+import { outsideUniverse, tooManyShards, type ShardUniverse } from './shard-universe.js';
 
 /** One finished window: the per-shard count vector the judge works on. */
 export interface ClosedWindow {
@@ -323,7 +324,8 @@ export class EventTimeWindows {
       this.reject('bad timestamp');
       return -1;
     }
-    const index = this.universe.admit(shard);
+    let index = this.universe.admit(shard);
+    if (index === tooManyShards) index = this.admitAfterClosing(ts, shard, partition);
     if (index < 0) {
       this.reject(index === outsideUniverse ? 'outside universe' : 'too many shards');
       return -1;
@@ -530,12 +532,13 @@ export class EventTimeWindows {
   }
 
   private emit(window: number, counts: Float64Array | null, total: number): void {
+    const retained = this.retireStaleShards(window, counts, total);
     const size = this.universe.size;
     const start = window * this.hopMs;
     const closed: ClosedWindow = {
       start,
       end: start + this.windowMs,
-      counts: fitCounts(counts, size),
+      counts: fitCounts(retained, size),
       total,
       late: this.pendingLate,
       rejected: this.pendingRejected,
@@ -547,6 +550,46 @@ export class EventTimeWindows {
     this.running.windowsClosed++;
     this.onClose(closed);
   }
+
+  /**
+   * At a window boundary, a growing universe retires the ids that stopped reporting
+   * (shard-retirement.ts); the open windows and the closing one follow the new indices.
+   */
+  private retireStaleShards(
+    window: number,
+    counts: Float64Array | null,
+    total: number,
+  ): Float64Array | null {
+    if (this.universe.declared) return counts;
+    this.retirement ??= new ShardRetirement(this.universe);
+    const open = [...this.open.values()];
+    const remap = this.retirement.atBoundary(
+      window,
+      counts,
+      total,
+      open.map((state) => state.counts),
+    );
+    if (remap === null) return counts;
+    for (const state of open) state.counts = remapCounts(state.counts, remap);
+    return counts === null ? null : remapCounts(counts, remap);
+  }
+
+  /**
+   * A full growing universe refused `shard`: its timestamp still moves event time on (it is
+   * valid; only room is lacking), and the windows that closes may retire ids that stopped
+   * reporting, so the id is offered once more. Without this a flood that fills the
+   * universe and stops would leave every later id refused and no window closing.
+   */
+  private admitAfterClosing(ts: number, shard: string, partition: number): number {
+    if (ts > this.newest) this.newest = ts;
+    this.advancePartition(partition, ts);
+    if (this.currentWatermark >= this.dueAt) {
+      this.closeThrough(Math.floor((this.currentWatermark - this.windowMs) / this.hopMs));
+    }
+    return this.universe.admit(shard);
+  }
+
+  private retirement: ShardRetirement | null = null;
 }
 
 function addTo(window: OpenWindow, index: number, count: number): void {

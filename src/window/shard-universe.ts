@@ -9,6 +9,22 @@ export const tooManyShards = -2;
 /** Default of `--max-shards`: bounds memory against a flood of bogus ids. */
 export const defaultMaxShards = 100_000;
 
+/**
+ * How a growing universe changed when ids retired (see {@link ShardUniverse.retire}): every
+ * holder of state indexed like the universe moves entry `old` to `indexAfter[old]` and drops
+ * it where that is -1. Survivors keep their order; indices only ever move down.
+ */
+export interface ShardRemap {
+  /** The ids by index before the change (the universe's own array, no longer written). */
+  readonly previousIds: readonly string[];
+  /** New index of each previous index, -1 for a retired id. */
+  readonly indexAfter: Int32Array;
+  /** Number of shards after the change. */
+  readonly size: number;
+  /** Ids retired by this change. */
+  readonly retired: number;
+}
+
 /** Settings shared by every way of building a universe. */
 export interface UniverseOptions {
   /** `--max-shards`: the most shards a universe may hold (default 100000). */
@@ -20,16 +36,17 @@ export interface UniverseOptions {
  * and the expected share p_i of each. A declared universe (a count, a range,
  * a list or a shard map) has a fixed size, so a shard that never reports is
  * still seen, as an empty shard. An undeclared one grows as ids arrive, with
- * equal shares, up to `maxShards`; the cold and empty tests mean nothing
- * there and the judge switches them off.
+ * equal shares, up to `maxShards`, and retires ids that stopped reporting
+ * ({@link retire}, decided by shard-retirement.ts at window boundaries); the
+ * cold and empty tests mean nothing there and the judge switches them off.
  */
 export class ShardUniverse {
   /** True when the shard set was given up front, false when it grows. */
   readonly declared: boolean;
   /** The cap on the number of shards. */
   readonly maxShards: number;
-  private readonly idList: string[];
-  private readonly indexById: Map<string, number>;
+  private idList: string[];
+  private indexById: Map<string, number>;
   private readonly weights: readonly number[] | null;
   private sharesCache: Float64Array | null = null;
 
@@ -189,7 +206,10 @@ export class ShardUniverse {
     return new ShardUniverse([], null, false, checkMaxShards(options.maxShards));
   }
 
-  /** Number of shards m (for a growing universe: seen so far). */
+  /**
+   * Number of shards m (for a growing universe: those admitted and not retired, see
+   * {@link retire}).
+   */
   get size(): number {
     return this.idList.length;
   }
@@ -238,7 +258,10 @@ export class ShardUniverse {
     const index = this.indexById.get(id);
     if (index !== undefined) return index;
     if (this.declared) return outsideUniverse;
-    if (this.idList.length >= this.maxShards) return tooManyShards;
+    if (this.idList.length >= this.maxShards) {
+      this.refusedWhileFull++;
+      return tooManyShards;
+    }
     // Ids decoded from a file may be slices of a large read buffer; a joined
     // copy keeps the universe from pinning that buffer for the whole run.
     const kept = Array.from(id).join('');
@@ -247,6 +270,74 @@ export class ShardUniverse {
     this.indexById.set(kept, added);
     return added;
   }
+
+  /** Ids refused by {@link admit} because the growing universe was full, since it was built. */
+  get refusedFull(): number {
+    return this.refusedWhileFull;
+  }
+
+  /** Ids retired since the universe was built. */
+  get retiredTotal(): number {
+    return this.retiredCount;
+  }
+
+  /**
+   * Changes whenever ids retire, so a holder of ids by index (a recording) can tell that
+   * the same size now means other ids.
+   */
+  get layout(): number {
+    return this.layoutVersion;
+  }
+
+  /**
+   * Calls `listener` synchronously whenever ids retire, before {@link retire} returns:
+   * every holder of per-index state (a judge, key analysis) follows the remap there.
+   * Returns the unsubscribe function.
+   */
+  onRetire(listener: (remap: ShardRemap) => void): () => void {
+    this.retireListeners.push(listener);
+    return () => {
+      this.retireListeners = this.retireListeners.filter((kept) => kept !== listener);
+    };
+  }
+
+  /**
+   * Retires the ids of a growing universe for which `keep(index)` is false: the survivors
+   * keep their order and take indices 0..size-1, the retired ids leave m, and their room
+   * goes to ids that report later. Listeners learn the remap before this returns. Null when
+   * nothing retires. O(m). Throws for a declared universe, whose shards are fixed.
+   */
+  retire(keep: (index: number) => boolean): ShardRemap | null {
+    if (this.declared) throw new Error('a declared shard universe cannot retire shards');
+    const previousIds = this.idList;
+    const indexAfter = new Int32Array(previousIds.length);
+    const survivors: string[] = [];
+    for (let index = 0; index < previousIds.length; index++) {
+      if (keep(index)) {
+        indexAfter[index] = survivors.length;
+        survivors.push(previousIds[index]);
+      } else {
+        indexAfter[index] = -1;
+      }
+    }
+    const retired = previousIds.length - survivors.length;
+    if (retired === 0) return null;
+    // A fresh array, not the old one rewritten: readers that kept `ids` (a review window)
+    // see the ids of their own window, and notice the change by identity.
+    this.idList = survivors;
+    this.indexById = new Map(survivors.map((id, index) => [id, index]));
+    this.sharesCache = null;
+    this.retiredCount += retired;
+    this.layoutVersion++;
+    const remap: ShardRemap = { previousIds, indexAfter, size: survivors.length, retired };
+    for (const listener of this.retireListeners) listener(remap);
+    return remap;
+  }
+
+  private refusedWhileFull = 0;
+  private retiredCount = 0;
+  private layoutVersion = 0;
+  private retireListeners: ((remap: ShardRemap) => void)[] = [];
 }
 
 function checkMaxShards(maxShards: number | undefined): number {

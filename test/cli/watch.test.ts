@@ -150,6 +150,26 @@ describe('shardwise watch on a file', () => {
     expect(verdict).toMatchObject({ shards: 2, requests: 10, coldTests: false });
   });
 
+  it('says in the summary how many ids of a growing universe retired', async () => {
+    // Worked by hand: a, b, c report 50 each in the first 10 s window, only a and b in the
+    // next (50 requests per reporting shard, above ln(1000 x 2) = 7.6: a live c would be
+    // empty with probability e^-50), so c retires before the second window is judged.
+    const lines = [
+      ...['a', 'b', 'c'].map((shard) => `{"ts":1764547200000,"shard":"${shard}","count":50}`),
+      ...['a', 'b'].map((shard) => `{"ts":1764547210000,"shard":"${shard}","count":50}`),
+    ];
+    const { code, out, err } = await run(
+      ['watch', '--input', '-', '--no-ui'],
+      lines.join('\n') + '\n',
+    );
+    expect(code).toBe(0);
+    expect(verdicts(out).map((verdict) => [verdict.shards, verdict.retiredShards])).toEqual([
+      [3, 0],
+      [2, 1],
+    ]);
+    expect(err).toMatch(/^ {2}shards retired: 1 \(ids that stopped reporting left m\)$/m);
+  });
+
   it('writes a recording with the full count vector and the settings', async () => {
     const file = join(dir, 'rec-source.jsonl');
     await run([

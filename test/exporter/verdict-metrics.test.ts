@@ -250,6 +250,19 @@ describe('VerdictMetrics', () => {
     expect(samplesOf(samples, 'shardwise_emptiest_shard_relative_load')).toHaveLength(1);
   });
 
+  it('counts the ids a growing universe retires', async () => {
+    const { pipeline, judgements, scrape } = observed(ShardUniverse.growing());
+    expect(sampleOf(await scrape(), 'shardwise_shards_retired_total').value).toBe(0);
+    // Worked by hand: 8 shards report 100 each in window 0, only s-0..s-3 in window 1 (100
+    // each, above ln(1000 x 4) = 8.3: a live shard would be empty with probability e^-100),
+    // so s-4..s-7 retire where window 1 closes, at the record of window 2.
+    for (let shard = 0; shard < 8; shard++) pipeline.record(startMs, `s-${shard}`, 100);
+    for (let shard = 0; shard < 4; shard++) pipeline.record(startMs + windowMs, `s-${shard}`, 100);
+    pipeline.record(startMs + 2 * windowMs, 's-0', 100);
+    expect(judgements.map((judgement) => judgement.retiredShards)).toEqual([0, 4]);
+    expect(sampleOf(await scrape(), 'shardwise_shards_retired_total').value).toBe(4);
+  });
+
   it('removes a flagged shard series once the shard is no longer flagged', async () => {
     const universe = ShardUniverse.fromShardsOption('s-0..s-15');
     const { pipeline, judgements, scrape } = observed(universe, { null: 'uniform' });

@@ -1,6 +1,10 @@
 import jStat from 'jstat';
 import { describe, expect, it } from 'vitest';
+import { Judge } from '../../src/judge/judge.js';
+import { defaultJudgeSettings } from '../../src/judge/judge-settings.js';
+import { JudgingPipeline } from '../../src/judge/judging-pipeline.js';
 import { ReviewBuilder } from '../../src/review/review-model.js';
+import { ShardUniverse } from '../../src/window/shard-universe.js';
 import { judgeScenario } from './judged-scenario.js';
 
 describe('ReviewBuilder', () => {
@@ -54,5 +58,46 @@ describe('ReviewBuilder', () => {
     const hot = judged.windows.filter(({ judgement }) => judgement.findings.includes('hotspot'));
     expect(hot.some(({ window }) => window.start === model.peak!.start)).toBe(true);
     expect(model.heat.rows[0].shard).toBe('seat-17');
+  });
+});
+
+describe('ReviewBuilder over a growing universe that retired ids', () => {
+  it('keeps each heat strip row with its own shard across the renumbering', () => {
+    // Worked by hand: window 0 has gone 100, a 100, hot 300 (relative loads 0.6, 0.6, 1.8 of
+    // the fair share 500 / 3); gone stops, retires where window 1 closes, and window 1 has
+    // a 100, hot 300 (0.5 and 1.5 of 400 / 2). hot moves from index 2 to 1.
+    const windowMs = 10_000;
+    const base = Date.UTC(2025, 11, 1);
+    const universe = ShardUniverse.growing();
+    const judge = new Judge(universe, { ...defaultJudgeSettings, hopMs: windowMs });
+    const pipeline = new JudgingPipeline(universe, { windowMs, latenessMs: 0 }, judge);
+    const builder = new ReviewBuilder({
+      source: 'test',
+      judgedHere: true,
+      settings: {
+        ...defaultJudgeSettings,
+        windowMs,
+        hopMs: windowMs,
+        declaredUniverse: false,
+      },
+    });
+    pipeline.events.on('window judged', ({ window, judgement }) =>
+      builder.add({ ...window, shardIds: universe.ids, shares: null, judgement }),
+    );
+    for (const [shard, count] of [
+      ['gone', 100],
+      ['a', 100],
+      ['hot', 300],
+    ] as const) {
+      pipeline.record(base, shard, count);
+    }
+    pipeline.record(base + windowMs, 'a', 100);
+    pipeline.record(base + windowMs, 'hot', 300);
+    pipeline.finish();
+    const rows = new Map(builder.build().heat.rows.map((row) => [row.shard, row.means]));
+    expect(rows.get('hot')?.map((mean) => Number(mean.toFixed(4)))).toEqual([1.8, 1.5]);
+    expect(rows.get('a')?.map((mean) => Number(mean.toFixed(4)))).toEqual([0.6, 0.5]);
+    // A retired shard's history leaves the strip with it.
+    expect(rows.has('gone')).toBe(false);
   });
 });

@@ -164,3 +164,40 @@ describe('ShardUniverse.fromWeights', () => {
     expect(() => ShardUniverse.fromWeights(['a', 'b'], [1])).toThrow(/2 shards but 1 weights/);
   });
 });
+
+describe('ShardUniverse.retire', () => {
+  it('keeps the survivors in order under new indices and tells every listener the remap', () => {
+    // Worked by hand: a b c d e, retiring b and d, leaves a c e at 0 1 2.
+    const universe = ShardUniverse.growing();
+    for (const id of ['a', 'b', 'c', 'd', 'e']) universe.admit(id);
+    const before = universe.ids;
+    const heard: number[][] = [];
+    universe.onRetire((remap) => heard.push(Array.from(remap.indexAfter)));
+    const remap = universe.retire((index) => index % 2 === 0);
+    expect(remap?.retired).toBe(2);
+    expect(remap?.previousIds).toBe(before);
+    expect(heard).toEqual([[0, -1, 1, -1, 2]]);
+    expect(universe.ids).toEqual(['a', 'c', 'e']);
+    // A fresh array: a reader holding the old one still sees its own window's ids.
+    expect(universe.ids).not.toBe(before);
+    expect(before).toEqual(['a', 'b', 'c', 'd', 'e']);
+    expect([universe.indexOf('c'), universe.indexOf('b')]).toEqual([1, outsideUniverse]);
+    expect(universe.shares).toEqual(new Float64Array([1 / 3, 1 / 3, 1 / 3]));
+    expect([universe.retiredTotal, universe.layout]).toEqual([2, 1]);
+    // A retired id that reports again is admitted afresh, at the end.
+    expect(universe.admit('b')).toBe(3);
+    expect(universe.retire(() => true)).toBeNull();
+    expect(universe.layout).toBe(1);
+  });
+
+  it('makes room in a full universe, and refuses to retire shards of a declared one', () => {
+    const universe = ShardUniverse.growing({ maxShards: 2 });
+    universe.admit('a');
+    universe.admit('b');
+    expect(universe.admit('c')).toBe(tooManyShards);
+    expect(universe.refusedFull).toBe(1);
+    universe.retire((index) => index === 1);
+    expect(universe.admit('c')).toBe(1);
+    expect(() => ShardUniverse.ofCount(4).retire(() => false)).toThrow(/declared/);
+  });
+});
