@@ -144,8 +144,13 @@ Judging:
                           rejects at alpha, then robust (with 16 shards or more:
                           with fewer, one hot shard moves every residual)
   --confirm K             consecutive flagged windows that open an incident
-                          (default 3)
-  --clear J               consecutive clean windows that clear it (default 5)
+                          (default 3); a window with too little traffic does not
+                          count, and two in a row break the run. A CUSUM per
+                          shard (design excess --min-excess, off at 0) also opens
+                          one on a small excess that lasts, at the same false-
+                          incident rate
+  --clear J               consecutive clean windows that clear it (default 5),
+                          or J x 10 windows in a row without a flag
   --max-flagged N         most shards listed per window (default 10)
 
 Keys (request events with "key"; Kafka message keys with --shard-from partition):

@@ -7,8 +7,16 @@ import type { ShardRemap, ShardUniverse } from '../window/shard-universe.js';
 import { BaselineShares } from './baseline-shares.js';
 import { ChanceMemo } from './chance-memo.js';
 import { robustSpread, scaleCounts } from './dispersion-scaling.js';
-import { IncidentTracker, trackingKey, type TrackedIncident } from './incident-tracker.js';
+import {
+  IncidentTracker,
+  trackingKey,
+  windowsWithoutFlagToClearFactor,
+  type PersistenceUpdate,
+  type SequentialFlag,
+  type TrackedIncident,
+} from './incident-tracker.js';
 import { checkJudgeSettings, type JudgeSettings } from './judge-settings.js';
+import { leastNullRunLength, SequentialEvidence } from './sequential-evidence.js';
 import type {
   BaselineStatus,
   ExtremeShardVerdict,
@@ -66,6 +74,8 @@ export class Judge {
   readonly settings: JudgeSettings;
   private readonly universe: ShardUniverse;
   private readonly tracker: IncidentTracker;
+  /** The CUSUM across windows; null at --min-excess 0 (no design excess to test for). */
+  private readonly sequential: SequentialEvidence | null;
   private readonly baseline: BaselineShares | null;
   private readonly memo: ChanceMemo;
   /** Memo keys: declared shares belong to a universe, learned ones to one judge. */
@@ -96,6 +106,8 @@ export class Judge {
     this.universeKey = universeKeyOf(universe);
     this.judgeKey = nextJudgeKey++;
     this.tracker = new IncidentTracker(settings.confirm, settings.clear);
+    this.sequential =
+      settings.minExcess > 0 ? new SequentialEvidence(settings.minExcess, settings.confirm) : null;
     this.baseline =
       settings.null === 'baseline' ? new BaselineShares(settings.baselineWindows) : null;
     if (!universe.declared) universe.onRetire((remap) => this.followRetirement(remap));
@@ -104,6 +116,18 @@ export class Judge {
   /** The approximate false-incident rate per day under random placement (see the class note). */
   get falseIncidentsPerDay(): number {
     return (dayMs / this.settings.hopMs) * this.settings.alpha ** this.settings.confirm;
+  }
+
+  /**
+   * The CUSUM's false-incident rate per day for m shards: its threshold is set so that this
+   * is the window rule's rate, and it is an upper estimate at every traffic level (the least
+   * null run length of sequential-evidence.ts). Null when the CUSUM is off.
+   */
+  cusumFalseIncidentsPerDay(m: number): number | null {
+    if (this.sequential === null) return null;
+    if (m === 0) return 0;
+    const threshold = this.sequential.threshold(m, this.settings.alpha ** this.settings.confirm);
+    return ((dayMs / this.settings.hopMs) * m) / leastNullRunLength(threshold);
   }
 
   /** Judges one closed window; windows must come in start order. */
@@ -242,7 +266,15 @@ export class Judge {
     if (!hotspot && !cold && !uneven && !tooLittle) findings.push('chance');
     if (tooLittle) findings.push('too little traffic');
 
-    const update = this.tracker.update(window.start, hotCandidates, coldCandidates, tooLittle);
+    const sequentialHot = this.accumulate(window, judgedCounts, judgedTotal, shares, m, tooLittle);
+    const update = this.tracker.update(
+      window.start,
+      hotCandidates,
+      coldCandidates,
+      tooLittle,
+      sequentialHot,
+    );
+    this.afterUpdate(update, notes);
     const flagged = this.flag(
       hotCandidates,
       coldCandidates,
@@ -296,6 +328,7 @@ export class Judge {
         ...update.cleared.map((incident) => this.incident(incident, window.start)),
       ],
       falseIncidentsPerDay: this.falseIncidentsPerDay,
+      cusumFalseIncidentsPerDay: this.cusumFalseIncidentsPerDay(m),
       late: window.late,
       rejected: window.rejected,
       coldTests,
@@ -314,6 +347,7 @@ export class Judge {
     notes: string[],
     findings: Finding[] = ['too little traffic'],
   ): Judgement {
+    this.sequential?.reset();
     const update = this.tracker.update(window.start, [], [], true);
     if (findings.length > 0) {
       notes.push(
@@ -324,6 +358,7 @@ export class Judge {
             : 'no shard has reported yet',
       );
     }
+    this.afterUpdate(update, notes);
     return {
       window: { start: iso(window.start), end: iso(window.end) },
       requests: window.total,
@@ -347,8 +382,12 @@ export class Judge {
       flagged: [],
       incidents: update.open.map((incident) => this.incident(incident, window.start)),
       opened: [],
-      cleared: this.endedIncidents(window.start),
+      cleared: [
+        ...this.endedIncidents(window.start),
+        ...update.cleared.map((incident) => this.incident(incident, window.start)),
+      ],
       falseIncidentsPerDay: this.falseIncidentsPerDay,
+      cusumFalseIncidentsPerDay: this.cusumFalseIncidentsPerDay(m),
       late: window.late,
       rejected: window.rejected,
       coldTests,
@@ -436,6 +475,7 @@ export class Judge {
       finding: incident.finding,
       since: iso(incident.since),
       windows: Math.round((windowStart - incident.since) / this.settings.hopMs) + 1,
+      test: incident.test,
     };
   }
 
@@ -468,9 +508,53 @@ export class Judge {
       finding: incident.finding,
       since: iso(incident.since),
       windows: Math.round((windowStart - incident.since) / this.settings.hopMs) + 1,
+      test: incident.test,
     }));
     this.endedByRetirement = [];
     return ended;
+  }
+
+  /**
+   * The CUSUM's step for one window: the shards it holds hot. A window with too little
+   * traffic ends every run of evidence.
+   */
+  private accumulate(
+    window: ClosedWindow,
+    judgedCounts: ArrayLike<number>,
+    judgedTotal: number,
+    shares: Float64Array | null,
+    m: number,
+    tooLittle: boolean,
+  ): SequentialFlag[] {
+    const sequential = this.sequential;
+    if (sequential === null) return [];
+    if (tooLittle) {
+      sequential.reset();
+      return [];
+    }
+    const s = this.settings;
+    const weight = Math.min(1, s.hopMs / (window.end - window.start));
+    const threshold = sequential.threshold(m, s.alpha ** s.confirm);
+    return sequential.update(window.start, weight, judgedCounts, judgedTotal, shares, m, threshold);
+  }
+
+  /** Notes on what opened and cleared, and a fresh CUSUM for a shard whose hotspot cleared. */
+  private afterUpdate(update: PersistenceUpdate, notes: string[]): void {
+    for (const incident of update.opened) {
+      if (incident.test !== 'cusum') continue;
+      notes.push(
+        `hotspot incident on ${this.universe.idAt(incident.index)} opened by evidence accumulated across windows (CUSUM for ${round(1 + this.settings.minExcess)}x the share), not by ${this.settings.confirm} flagged windows in a row`,
+      );
+    }
+    const quiet = this.settings.clear * windowsWithoutFlagToClearFactor;
+    for (const incident of update.clearedWithoutEvidence) {
+      notes.push(
+        `${incident.finding} incident on ${this.universe.idAt(incident.index)} cleared after ${quiet} windows without a flag, some with too little traffic to judge: it could no longer be seen, not seen to end`,
+      );
+    }
+    for (const incident of update.cleared) {
+      if (incident.finding === 'hotspot') this.sequential?.forget(incident.index);
+    }
   }
 
   /** The null shares for this window's m shards and N requests. */

@@ -65,10 +65,19 @@ export interface Judgement {
   readonly incidents: readonly Incident[];
   /** Incidents that opened with this window. */
   readonly opened: readonly Incident[];
-  /** Incidents that cleared with this window (--clear clean windows in a row). */
+  /**
+   * Incidents that cleared with this window: --clear clean windows in a row, or --clear x 10
+   * windows in a row without a flag, judged or not (then a note says so).
+   */
   readonly cleared: readonly Incident[];
   /** About windows_per_day x alpha^confirm: an approximation (see Judge). */
   readonly falseIncidentsPerDay: number;
+  /**
+   * The same for incidents the CUSUM opens (test `cusum`): its threshold is set to this rate
+   * from Siegmund's approximation of its run length, an upper estimate at every traffic
+   * level (sequential-evidence.ts). Null at --min-excess 0, where the CUSUM is off.
+   */
+  readonly cusumFalseIncidentsPerDay: number | null;
   /** Units of load that arrived after their window had closed (since the previous window). */
   readonly late: number;
   /** Records rejected since the previous window, by reason. */
@@ -143,6 +152,11 @@ export interface Incident {
   readonly since: string;
   /** Windows from `since` through this one. */
   readonly windows: number;
+  /**
+   * The test that opened it: `window`, --confirm flagged windows in a row; `cusum`, evidence
+   * accumulated across windows (a one-sided CUSUM on the shard's count) crossed its threshold.
+   */
+  readonly test: 'window' | 'cusum';
 }
 
 export interface BaselineStatus {

@@ -111,7 +111,13 @@ describe('shardwise watch on a file', () => {
       if (planted) expect(verdict.fullest?.shard).toBe('seat-17');
     });
     expect(windows[8].incidents).toEqual([
-      { shard: 'seat-17', finding: 'hotspot', since: '2025-12-01T00:01:00.000Z', windows: 3 },
+      {
+        shard: 'seat-17',
+        finding: 'hotspot',
+        since: '2025-12-01T00:01:00.000Z',
+        windows: 3,
+        test: 'window',
+      },
     ]);
     expect(windows[0].null).toBe('uniform');
     expect(err).toMatch(/^shardwise watch: 24 windows judged, 15360 records read/m);

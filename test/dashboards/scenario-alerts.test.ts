@@ -252,9 +252,19 @@ describe('alert rules on scraped scenario runs', () => {
     const wrong = await scrapeScenario({ scenario: 'weighted', minutes: 17, null: 'uniform' });
     expect(wrong.judgements.every((judgement) => judgement.findings.includes('uneven'))).toBe(true);
     const uneven = { null: 'uniform', spread: 'auto', finding: 'uneven', ...target };
+    // The shards with the largest ranges carry about 1.25x the equal share in every window:
+    // a persistent excess the sequential (CUSUM) test accumulates into a sustained hotspot
+    // within minutes, as it should against the wrong null.
+    const hot = { ...uneven, finding: 'hotspot', severity: 'warning' };
     let result = await promtoolOn('weighted-uniform', wrong, [
-      { at: 600, firing: {} },
-      { at: 990, firing: { ShardwiseLoadUneven: { ...uneven, severity: 'info' } } },
+      { at: 600, firing: { ShardwiseHotspotSustained: hot } },
+      {
+        at: 990,
+        firing: {
+          ShardwiseLoadUneven: { ...uneven, severity: 'info' },
+          ShardwiseHotspotSustained: hot,
+        },
+      },
     ]);
     expect(result.stdout + result.stderr).not.toMatch(/FAILED/);
     expect(result.code).toBe(0);

@@ -328,12 +328,24 @@ describe('persistence across windows', () => {
     );
     expect(run.map((v) => v.incidents.length)).toEqual([0, 0, 1, 1, 1, 0, 0]);
     expect(run[2].opened).toEqual([
-      { shard: '17', finding: 'hotspot', since: '2025-12-01T00:00:00.000Z', windows: 3 },
+      {
+        shard: '17',
+        finding: 'hotspot',
+        since: '2025-12-01T00:00:00.000Z',
+        windows: 3,
+        test: 'window',
+      },
     ]);
     expect(run[3].flagged[0].streak).toBe(4);
     expect(run[4].incidents[0].windows).toBe(5);
     expect(run[5].cleared).toEqual([
-      { shard: '17', finding: 'hotspot', since: '2025-12-01T00:00:00.000Z', windows: 6 },
+      {
+        shard: '17',
+        finding: 'hotspot',
+        since: '2025-12-01T00:00:00.000Z',
+        windows: 6,
+        test: 'window',
+      },
     ]);
   });
 

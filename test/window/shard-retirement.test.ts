@@ -193,7 +193,13 @@ describe('every holder of per-shard state follows a retirement', () => {
     expect(verdicts[2].incidents.map((incident) => incident.shard)).toEqual(['hot']);
     // Window 3: hot retired; its incident ends, listed as cleared (since window 0, 4 windows).
     expect(verdicts[3].cleared).toEqual([
-      { shard: 'hot', finding: 'hotspot', since: '2025-12-01T00:00:00.000Z', windows: 4 },
+      {
+        shard: 'hot',
+        finding: 'hotspot',
+        since: '2025-12-01T00:00:00.000Z',
+        windows: 4,
+        test: 'window',
+      },
     ]);
     expect(verdicts[3].incidents).toEqual([]);
   });
