@@ -5,6 +5,7 @@ import type { Judgement } from '../src/judge/judgement.js';
 import type { ClosedWindow } from '../src/window/event-time-window.js';
 import { ShardUniverse } from '../src/window/shard-universe.js';
 import { MultinomialDraws } from './multinomial-draws.js';
+import { OverdispersedDraws } from './overdispersed-draws.js';
 
 /**
  * Calibration runs: simulated windows (exact multinomial draws) judged by the real Judge,
@@ -302,4 +303,89 @@ export function unevenTrafficReport(
 /** Monte Carlo standard error of a rate estimated from `windows` windows. */
 export function standardError(rate: number, windows: number): number {
   return Math.sqrt((rate * (1 - rate)) / windows);
+}
+
+/** Over-dispersed traffic: independent negative binomial counts (variance phi x mean). */
+export interface ClumpedRun extends RunSettings {
+  /** Over-dispersion of every shard's counts (1: Poisson). */
+  readonly phi: number;
+  /** Windows judged before counting (the spread learns there). */
+  readonly warmupWindows: number;
+  /** Traffic shares (null: equal); the judge's null stays equal shares. */
+  readonly trafficShares?: Float64Array | null;
+  /** Level factor per window index (a slow drift of the traffic level); absent: 1. */
+  readonly level?: (index: number) => number;
+  /** A planted hotspot on shard 0 through the whole run: factor x its share. */
+  readonly hotFactor?: number;
+}
+
+export interface ClumpedRates {
+  readonly windows: number;
+  readonly hotspot: number;
+  readonly cold: number;
+  readonly uneven: number;
+  readonly tooLittleTraffic: number;
+  /** Windows whose notes call the traffic lumpy (plenty of it, but clumped). */
+  readonly lumpy: number;
+  /** With a planted hotspot: windows with the finding and shard 0 flagged. */
+  readonly detection: number;
+  /** Shards flagged hot per window (beside shard 0 when one is planted). */
+  readonly otherHot: number;
+  readonly staticAlarms: readonly number[];
+  readonly medianLearnedPhi: number;
+}
+
+/**
+ * Windows of over-dispersed counts (OverdispersedDraws: gamma-Poisson per shard) judged
+ * against equal shares after a warm-up; every finding is false unless a hotspot is planted.
+ */
+export function clumpedRates(run: ClumpedRun): ClumpedRates {
+  const m = run.shards;
+  const judge = judgeFor(m, run.judge);
+  const draws = new OverdispersedDraws(run.seed);
+  let shares: Float64Array | null = run.trafficShares ?? null;
+  if (run.hotFactor !== undefined) {
+    // Shard 0 takes factor x its share; the others share the rest in proportion (as plantedPower).
+    const base = shares ?? new Float64Array(m).fill(1 / m);
+    const hot = base[0] * run.hotFactor;
+    const rest = (1 - hot) / (1 - base[0]);
+    shares = base.map((share, shard) => (shard === 0 ? hot : share * rest));
+  }
+  const tally = { hotspot: 0, cold: 0, uneven: 0, little: 0, lumpy: 0, detected: 0, other: 0 };
+  const staticAlarms = staticLimits.map(() => 0);
+  const phis: number[] = [];
+  for (let index = 0; index < run.warmupWindows + run.windows; index++) {
+    const counts = new Float64Array(m);
+    const mean = m * run.perShard * (run.level?.(index) ?? 1);
+    const total = draws.draw(mean, shares, run.phi, counts);
+    const verdict = judge.judge(windowOf(index, counts, total));
+    if (index < run.warmupWindows) continue;
+    const has = (finding: string) => verdict.findings.includes(finding as never);
+    if (has('hotspot')) tally.hotspot++;
+    if (has('cold')) tally.cold++;
+    if (has('uneven')) tally.uneven++;
+    if (has('too little traffic')) tally.little++;
+    if (verdict.notes.some((note) => note.startsWith('lumpy traffic'))) tally.lumpy++;
+    if (has('hotspot') && verdict.flagged.some((f) => f.shard === '0' && f.finding === 'hotspot'))
+      tally.detected++;
+    tally.other += verdict.flagged.filter((f) => f.finding === 'hotspot' && f.shard !== '0').length;
+    phis.push(verdict.spread.learned?.phi ?? verdict.spread.robustPhi);
+    const ratio = maxOverMean(counts, total);
+    staticLimits.forEach((limit, at) => {
+      if (ratio > limit) staticAlarms[at]++;
+    });
+  }
+  phis.sort((a, b) => a - b);
+  return {
+    windows: run.windows,
+    hotspot: tally.hotspot / run.windows,
+    cold: tally.cold / run.windows,
+    uneven: tally.uneven / run.windows,
+    tooLittleTraffic: tally.little / run.windows,
+    lumpy: tally.lumpy / run.windows,
+    detection: tally.detected / run.windows,
+    otherHot: tally.other / run.windows,
+    staticAlarms: staticAlarms.map((count) => count / run.windows),
+    medianLearnedPhi: phis[Math.floor(phis.length / 2)],
+  };
 }

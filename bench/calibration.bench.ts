@@ -3,13 +3,15 @@
 // soon it becomes an incident, what the static max/mean rules of common practice (no
 // source) do beside it, and what each spread mode reports for Zipf-keyed traffic with
 // nothing planted. Prints Markdown tables on stdout, progress on stderr.
-// Run: npx tsx bench/calibration.bench.ts [--scale F]   (F scales every window count; default 1)
+// Over-dispersed (negative binomial), Zipf-keyed and drifting traffic at the defaults.
+// Run: npx tsx bench/calibration.bench.ts [--scale F] [--clumped-only]   (F scales every window count; default 1)
 import { makePlacement } from '../src/chance/placement.js';
 import { fullestQuantile } from '../src/chance/shard-extremes.js';
 import type { JudgeSettings } from '../src/judge/judge-settings.js';
 import { runScenario } from '../src/scenario/scenario-run.js';
 import {
   chanceRates,
+  clumpedRates,
   plantedPower,
   standardError,
   staticLimits,
@@ -259,10 +261,120 @@ function unevenTraffic(): string {
   return lines.join('\n');
 }
 
-const sections = [falseFindings(), power(), unevenTraffic()];
+function clumpedTraffic(): string {
+  const alpha = 0.001;
+  const zipf = runScenario('zipf-keys', { seed: 1, startMs: 0, durationMs: 1000 }).truth
+    .trafficShares;
+  const lines = [
+    `### Clumped (over-dispersed) traffic, defaults (${shards} equal shards, alpha ${alpha}, spread auto)`,
+    '',
+    'Independent negative binomial counts per shard (variance phi x mean; bench/overdispersed-draws.ts),',
+    'after 60 windows of learning. Nothing planted: every hotspot, cold and uneven is false. Zipf keys: the',
+    'zipf-keys shares drawn multinomially, judged against equal shares. Drift: the traffic level moves',
+    'slowly between 0.3x and 1.7x (a sine over 400 windows). "lumpy" counts windows whose notes call the',
+    'traffic lumpy; the static rules beside.',
+    '',
+    head([
+      'traffic',
+      'mean/shard',
+      'phi',
+      'windows',
+      'hotspot',
+      'cold',
+      'uneven',
+      'too little traffic',
+      'lumpy',
+      'median learned phi',
+      ...staticHeads,
+    ]),
+  ];
+  const cases: [string, number, number, Partial<Parameters<typeof clumpedRates>[0]>][] = [];
+  for (const phi of [1.5, 3, 10]) {
+    for (const perShard of [0.5, 2, 10, 100, 1000, 10000]) cases.push(['NB', perShard, phi, {}]);
+  }
+  cases.push(['Zipf keys', 100, 1, { trafficShares: zipf }]);
+  cases.push(['Zipf keys', 10000, 1, { trafficShares: zipf }]);
+  cases.push([
+    'NB, drift',
+    100,
+    3,
+    { level: (index: number) => 1 + 0.7 * Math.sin((2 * Math.PI * index) / 400) },
+  ]);
+  for (const [label, perShard, phi, extra] of cases) {
+    const count = windows(1000);
+    const rates = clumpedRates({
+      shards,
+      perShard,
+      phi,
+      windows: count,
+      warmupWindows: 60,
+      seed: 5000 + Math.round(perShard * 10) + Math.round(phi * 100),
+      ...extra,
+    });
+    lines.push(
+      row([
+        label,
+        perShard,
+        phi,
+        count,
+        percent(rates.hotspot),
+        percent(rates.cold),
+        percent(rates.uneven),
+        percent(rates.tooLittleTraffic),
+        percent(rates.lumpy),
+        rates.medianLearnedPhi.toFixed(2),
+        ...rates.staticAlarms.map(percent),
+      ]),
+    );
+    progress(`clumped ${label} mean ${perShard} phi ${phi}`);
+  }
+  lines.push(
+    '',
+    'Planted hotspot on shard 0 of clumped traffic (found: windows with hotspot and shard 0 flagged; other',
+    'hot: other shards flagged hot per window).',
+    '',
+    head(['planted', 'mean/shard', 'phi', 'windows', 'found', 'other hot per window']),
+  );
+  for (const [factor, perShard, phi, extra] of [
+    [2, 100, 3, {}],
+    [1.5, 1000, 3, {}],
+    [1.3, 10000, 3, {}],
+    [2, 100, 10, {}],
+    [5.3, 10000, 1, { trafficShares: zipf }],
+  ] as const) {
+    const count = windows(300);
+    const rates = clumpedRates({
+      shards,
+      perShard,
+      phi,
+      windows: count,
+      warmupWindows: 60,
+      seed: 6000 + perShard + factor * 10,
+      hotFactor: factor,
+      ...extra,
+    });
+    lines.push(
+      row([
+        `${factor}x${'trafficShares' in extra ? ' on Zipf keys' : ''}`,
+        perShard,
+        phi,
+        count,
+        percent(rates.detection),
+        rates.otherHot.toFixed(2),
+      ]),
+    );
+    progress(`clumped power ${factor}x mean ${perShard} phi ${phi}`);
+  }
+  return lines.join('\n');
+}
+
+const only = process.argv.includes('--clumped-only');
+const sections = only
+  ? [clumpedTraffic()]
+  : [falseFindings(), power(), unevenTraffic(), clumpedTraffic()];
 process.stdout.write(
   [
-    `Calibration, seeded (command: npx tsx bench/calibration.bench.ts${scale === 1 ? '' : ` --scale ${scale}`}).`,
+    `Calibration, seeded (command: npx tsx bench/calibration.bench.ts${scale === 1 ? '' : ` --scale ${scale}`}${only ? ' --clumped-only' : ''}).`,
     '',
     ...sections.flatMap((section) => [section, '']),
   ].join('\n'),

@@ -120,7 +120,9 @@ Judging:
                           fair share (default 0.2): at huge N a tiny excess is
                           significant and irrelevant
   --min-dispersion F      "uneven" needs the dispersion index phi above F
-                          (default 1.5)
+                          times the cluster's learned phi (F times 1, random
+                          placement, in exact mode and while it learns;
+                          default 1.5)
   --max-detectable F      "too little traffic" when the smallest detectable
                           hotspot is above F times the fair share (default 3)
   --null uniform|map|baseline
@@ -137,12 +139,17 @@ Judging:
                           learned
   --spread exact|robust|auto
                           exact: multinomial tests as they are; robust: counts
-                          divided by the robust dispersion (median squared
-                          Pearson residual / 0.4549, floored at 1), so only
-                          shards that stand out from the general spread are
-                          flagged; auto (default): exact unless the spread test
-                          rejects at alpha, then robust (with 16 shards or more:
-                          with fewer, one hot shard moves every residual)
+                          divided by the cluster's usual spread, learned over
+                          the last 60 windows (mean squared Pearson residual
+                          per shard, shards that stand out and flagged ones
+                          left out; its upper 95% bound, matched on the tail
+                          of clumped counts, floored at 1), so only shards
+                          that stand out from it are flagged and "uneven"
+                          means beyond it (after 10 windows of learning);
+                          auto (default): exact unless the spread test rejects
+                          or the learned phi is surely above 1, then robust
+                          (with 16 shards or more: with fewer, one hot shard
+                          moves every residual)
   --confirm K             consecutive flagged windows that open an incident
                           (default 3); a window with too little traffic does not
                           count, and two in a row break the run. A CUSUM per

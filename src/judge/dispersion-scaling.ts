@@ -77,7 +77,7 @@ export function robustSpread(
  * before k hold no larger values. Hoare's selection with a median-of-three pivot
  * (C. A. R. Hoare, "Algorithm 65: Find", CACM 4(7), 1961). Expected O(length).
  */
-function select(values: Float64Array, length: number, k: number): number {
+export function select(values: Float64Array, length: number, k: number): number {
   let left = 0;
   let right = length - 1;
   while (right > left) {

@@ -7,6 +7,7 @@ import type { ShardRemap, ShardUniverse } from '../window/shard-universe.js';
 import { BaselineShares } from './baseline-shares.js';
 import { ChanceMemo } from './chance-memo.js';
 import { robustSpread, scaleCounts } from './dispersion-scaling.js';
+import { PooledSpread, tailDispersion, type SpreadEstimate } from './pooled-spread.js';
 import {
   IncidentTracker,
   trackingKey,
@@ -42,6 +43,14 @@ const comparisonSlack = 1e-9;
  * shard's excess moves the others by at most 1/16 of it. Our choice, stated.
  */
 const leastShardsForRobust = 16;
+/**
+ * The learned spread (pooled-spread.ts): span of its exponential weights, in windows, and
+ * the windows learned before it replaces random placement as the yardstick of "uneven".
+ * Our choices, stated: 60 windows (10 minutes of 10 s windows) pools 60 x m residuals;
+ * 10 windows are enough for the t widening to be modest (see the README's calibration).
+ */
+const spreadSpanWindows = 60;
+const spreadReadyWindows = 10;
 
 /** The shares a window is judged against, and what they rest on. */
 interface NullShares {
@@ -77,6 +86,7 @@ export class Judge {
   /** The CUSUM across windows; null at --min-excess 0 (no design excess to test for). */
   private readonly sequential: SequentialEvidence | null;
   private readonly baseline: BaselineShares | null;
+  private readonly pooled = new PooledSpread(spreadSpanWindows);
   private readonly memo: ChanceMemo;
   /** Memo keys: declared shares belong to a universe, learned ones to one judge. */
   private readonly universeKey: number;
@@ -174,11 +184,28 @@ export class Judge {
     const spreadP = probabilityFromLog(spread.logProbability);
     const robustPhi = robustSpread(counts, n, shares, this.scratch);
 
-    // The spread mode: how many independent placements the counts are worth.
+    // The learned spread (not in exact mode): pooled over recent windows. While it learns,
+    // the window itself is learned first (no shard left out: nothing is known yet) so the
+    // estimate has it; once ready, the estimate rests on earlier windows only and this
+    // window is learned after judging, without its hot and cold candidates.
+    const learnsSpread = s.spread !== 'exact';
+    const spreadReady = learnsSpread && this.pooled.learnedWindows >= spreadReadyWindows;
+    if (learnsSpread && !spreadReady) this.pooled.learn(counts, n, shares, noShards);
+    const learned: SpreadEstimate | null = learnsSpread ? this.pooled.estimate(m) : null;
+    if (learnsSpread && !spreadReady) {
+      notes.push(
+        `spread learning (${this.pooled.learnedWindows} of ${spreadReadyWindows} windows): "uneven" is judged against random placement until the cluster's usual spread is learned`,
+      );
+    }
+
+    // The spread mode: how many independent placements the counts are worth. Auto turns
+    // robust when this window's spread test rejects or the learned spread is surely above 1.
     const spreadRejects = spreadP <= s.alpha;
     const tooFewForRobust = m < leastShardsForRobust;
+    const learnedAbove = spreadReady && learned !== null && learned.lower > 1;
     const robust =
-      s.spread === 'robust' || (s.spread === 'auto' && spreadRejects && !tooFewForRobust);
+      s.spread === 'robust' ||
+      (s.spread === 'auto' && (spreadRejects || learnedAbove) && !tooFewForRobust);
     if (robust && tooFewForRobust) {
       notes.push(
         `robust spread with only ${m} shards: the median residual cannot tell a general spread from one shard standing out`,
@@ -187,12 +214,36 @@ export class Judge {
     // Under a learned baseline the counts already carry 1 / uncertainty of extra variance,
     // so that is the least dispersion the robust mode may assume.
     const leastDispersion = 1 / nullShares.uncertainty;
-    const dispersion = robust ? Math.max(robustPhi, leastDispersion) : leastDispersion;
+    const learnedUpper = learned === null ? 1 : Math.min(learned.upper, Number.MAX_VALUE);
+    // The fullest and emptiest tests divide by the bound matched on the tail of clumped
+    // counts at the per-shard level alpha / m (pooled-spread.ts, tailDispersion).
+    let dispersion = robust
+      ? Math.max(tailDispersion(n / m, learnedUpper, s.alpha / m), leastDispersion)
+      : leastDispersion;
     let judgedCounts: ArrayLike<number> = counts;
     let judgedTotal = n;
     if (dispersion > 1) {
       judgedTotal = scaleCounts(counts, 1 / dispersion, this.judgedScratch);
       judgedCounts = this.judgedScratch;
+    }
+    // Beyond the usual spread: once it is learned, a window whose spread test rejects on the
+    // divided counts too, with phi above --min-dispersion times the learned phi. Such a
+    // window's general spread changed; its shards are then judged against the window's own
+    // robust spread where that is wider (as before learning), so a broad change reads as
+    // uneven, not as many hot and cold shards.
+    let beyondUsual = false;
+    if (spreadReady && learned !== null && spreadRejects && robust) {
+      const ratioAbove = spread.dispersion > s.minDispersion * Math.max(learned.phi, 1);
+      beyondUsual =
+        ratioAbove &&
+        probabilityFromLog(
+          spreadTest(placementOf(judgedTotal, m, shares), judgedCounts).logProbability,
+        ) <= s.alpha;
+      if (beyondUsual && robustPhi > dispersion) {
+        dispersion = robustPhi;
+        judgedTotal = scaleCounts(counts, 1 / dispersion, this.judgedScratch);
+        judgedCounts = this.judgedScratch;
+      }
     }
     const spreadReason = describeSpreadMode(
       m,
@@ -201,6 +252,7 @@ export class Judge {
       spreadRejects,
       spreadP,
       spread.dispersion,
+      learned,
       robustPhi,
       dispersion,
     );
@@ -257,8 +309,24 @@ export class Judge {
 
     const hotspot = fullestP <= s.alpha && fullestReal >= leastHot;
     const cold = coldTests && ((emptiestP as number) <= s.alpha || (emptyP as number) <= s.alpha);
-    const uneven = spreadRejects && spread.dispersion > s.minDispersion && !hotspot;
-    const tooLittle = ceilingRelative > s.maxDetectable;
+    // Uneven: against random placement in exact mode and while the spread learns; once it
+    // is learned, uneven beyond the cluster's usual spread (the spread test on the counts
+    // divided by the learned bound rejects too, and phi is above --min-dispersion times the
+    // learned phi), so steady lumpiness is not uneven and a change is.
+    let uneven = spreadRejects && spread.dispersion > s.minDispersion && !hotspot;
+    if (spreadReady && robust) uneven = beyondUsual && !hotspot;
+    // Too little traffic is said when random placement itself would hide a 3x shard; when
+    // only the lumpiness does, the traffic is plenty and the notes say what is detectable.
+    let tooLittle = ceilingRelative > s.maxDetectable;
+    if (tooLittle && dispersion > 1 && judgedTotal < n) {
+      const exactCeiling = this.memo.ceiling(placementOf(exactTotal, m, shares), version, s.alpha);
+      if (exactCeiling <= s.maxDetectable) {
+        tooLittle = false;
+        notes.push(
+          `lumpy traffic: counts vary about ${round(dispersion)}x as much as random placement makes them, so only a shard above ${round(ceilingRelative)}x its fair share can be told from that (random placement alone would show ${round(exactCeiling)}x)`,
+        );
+      }
+    }
     const findings: Finding[] = [];
     if (hotspot) findings.push('hotspot');
     if (cold) findings.push('cold');
@@ -266,7 +334,17 @@ export class Judge {
     if (!hotspot && !cold && !uneven && !tooLittle) findings.push('chance');
     if (tooLittle) findings.push('too little traffic');
 
-    const sequentialHot = this.accumulate(window, judgedCounts, judgedTotal, shares, m, tooLittle);
+    // Under a learned baseline the CUSUM waits for the baseline: evidence against shares
+    // not yet learned would open incidents that in turn keep the baseline from learning.
+    const nullLearning = nullShares.baseline !== undefined && !nullShares.baseline.ready;
+    const sequentialHot = this.accumulate(
+      window,
+      judgedCounts,
+      judgedTotal,
+      shares,
+      m,
+      tooLittle || nullLearning,
+    );
     const update = this.tracker.update(
       window.start,
       hotCandidates,
@@ -286,6 +364,10 @@ export class Judge {
       shares,
       update.streaks,
     );
+
+    if (spreadReady) {
+      this.pooled.learn(counts, n, shares, new Set([...hotCandidates, ...coldCandidates]));
+    }
 
     if (this.baseline !== null) {
       const learnable =
@@ -314,7 +396,21 @@ export class Judge {
         emptiestP,
       ),
       empty: { observed: empties, expected: emptyExpected, p: emptyP },
-      spread: { phi: spread.dispersion, p: spreadP, robustPhi },
+      spread: {
+        phi: spread.dispersion,
+        p: spreadP,
+        robustPhi,
+        ...(learned === null
+          ? {}
+          : {
+              learned: {
+                phi: learned.phi,
+                upper: learnedUpper,
+                windows: learned.windows,
+                ready: spreadReady,
+              },
+            }),
+      },
       nEff: n / Math.max(spread.dispersion, 1),
       judgedRequests: judgedTotal,
       ceiling: level(ceilingRelative, equalShares, fairShare),
@@ -601,6 +697,7 @@ export class Judge {
   }
 }
 
+const noShards: ReadonlySet<number> = new Set();
 let nextJudgeKey = 0;
 let nextUniverseKey = 0;
 const universeKeys = new WeakMap<ShardUniverse, number>();
@@ -648,18 +745,26 @@ function describeSpreadMode(
   spreadRejects: boolean,
   spreadP: number,
   phi: number,
+  learned: SpreadEstimate | null,
   robustPhi: number,
   dispersion: number,
 ): string {
+  const learnedText =
+    learned === null
+      ? ''
+      : `learned phi ${round(learned.phi)} over ${learned.windows} windows, upper 95% bound ${round(learned.upper)}`;
   const scaled =
     dispersion > 1
-      ? `counts divided by ${round(dispersion)}${robust ? ` (robust phi ${round(robustPhi)}, floored at 1)` : " for the learned baseline's own uncertainty"}`
+      ? `counts divided by ${round(dispersion)}${robust ? ` (${learnedText}${dispersion === robustPhi ? `; this window is beyond it, so its own robust phi ${round(robustPhi)}` : ', matched on the tail of clumped counts'})` : " for the learned baseline's own uncertainty"}`
       : robust
-        ? `robust phi ${round(robustPhi)} is at most 1, so counts are judged as they are`
+        ? `${learnedText} is at most 1, so counts are judged as they are`
         : 'counts judged as they are';
   if (s.spread !== 'auto') return `--spread ${s.spread}: ${scaled}`;
   if (spreadRejects && m < leastShardsForRobust) {
     return `auto: the spread test rejects (p ${spreadP.toPrecision(3)} <= alpha ${s.alpha}, phi ${round(phi)}) but ${m} shards are too few for a robust spread (${leastShardsForRobust} needed); ${scaled}`;
+  }
+  if (!spreadRejects && robust) {
+    return `auto: the spread test does not reject (p ${spreadP.toPrecision(3)} > alpha ${s.alpha}) but the learned spread is above 1 (lower 95% bound ${round(learned?.lower ?? 1)}); ${scaled}`;
   }
   return spreadRejects
     ? `auto: the spread test rejects (p ${spreadP.toPrecision(3)} <= alpha ${s.alpha}, phi ${round(phi)}); ${scaled}`

@@ -43,8 +43,19 @@ export interface Judgement {
     /** Dispersion index X^2 / (m - 1) against the null shares; 1 under random placement. */
     readonly phi: number;
     readonly p: number;
-    /** Median squared Pearson residual / 0.4549 (1 under random placement), before flooring. */
+    /** Median squared Pearson residual / 0.4549 (1 under random placement): this window alone, reported only. */
     readonly robustPhi: number;
+    /**
+     * The cluster's usual spread, pooled over recent windows (not in exact mode): phi, the
+     * upper 95% bound the robust mode divides by, windows learned, and whether it is ready
+     * (then "uneven" means beyond it).
+     */
+    readonly learned?: {
+      readonly phi: number;
+      readonly upper: number;
+      readonly windows: number;
+      readonly ready: boolean;
+    };
   };
   /** N_eff = N / max(phi, 1): independent placements the spread is worth (MODEL.md). */
   readonly nEff: number;

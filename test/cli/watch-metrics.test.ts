@@ -97,9 +97,9 @@ describe('watch --metrics-port / --metrics-host / --no-metrics', () => {
     let err = '';
     stderr.on('data', (d) => (err += d));
     let finished = false;
-    // Half an hour of the chance drill in 1 s windows: seconds of judging in one run.
+    // Ten minutes of the chance drill in 1 s windows: seconds of judging in one run.
     const running = main(
-      [...scenario, '--duration', '30m', '--window', '1s', '--metrics-port', '0', '--no-keys'],
+      [...scenario, '--duration', '10m', '--window', '1s', '--metrics-port', '0', '--no-keys'],
       { stdout: new PassThrough().resume(), stderr, stdin: Readable.from(['']), env: {} },
     ).finally(() => (finished = true));
     const address = await until(() => /metrics at (http:\/\/127\.0\.0\.1:\d+)\/metrics/.exec(err));

@@ -289,7 +289,7 @@ describe('spread modes', () => {
     expect(verdict.spreadMode).toBe('robust');
     expect(verdict.spread.robustPhi).toBeGreaterThan(10);
     expect(verdict.spreadReason).toMatch(
-      /^--spread robust: counts divided by 1\d\.?\d* \(robust phi/,
+      /^--spread robust: counts divided by \d+\.?\d* \(learned phi/,
     );
     expect(verdict.flagged.map((flag) => flag.shard)).toEqual(['0']);
     expect(verdict.judgedRequests).toBeLessThan(verdict.requests / 10);

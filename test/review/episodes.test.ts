@@ -73,10 +73,10 @@ describe('episodes match the planted faults', () => {
     const review = reviewOf(judged);
     const cold = review.episodes.filter((e) => e.finding === 'cold' && e.shard === 'seat-42');
     expect(cold).toHaveLength(1);
-    // Seed 1 also flags seat-04 once at 3:30 (p = 3.7e-4 < alpha): a chance finding of one
-    // window, as alpha = 0.001 over 64 shards and 24 windows allows. Nothing else.
+    // Nothing else. (Before the learned spread, seed 1 also flagged seat-04 once at 3:30,
+    // p = 3.7e-4: a chance finding; judged against the learned spread it is not one.)
     const others = review.episodes.filter((e) => e.shard !== null && e.shard !== 'seat-42');
-    expect(others.map((e) => [e.finding, e.shard, e.windows])).toEqual([['cold', 'seat-04', 1]]);
+    expect(others.map((e) => [e.finding, e.shard, e.windows])).toEqual([]);
     expect(Math.abs(cold[0].start - plant.beginsAt)).toBeLessThanOrEqual(windowMs);
     expect(Math.abs(cold[0].end - plant.endsAt)).toBeLessThanOrEqual(windowMs);
     expect(cold[0].peakRelative).toBe(0);
