@@ -26,7 +26,7 @@ import {
 import { rejectionReasons, type RejectionReason } from '../window/count-record.js';
 import { UsageError } from '../window/errors.js';
 import { ShardUniverse } from '../window/shard-universe.js';
-import { jsonSafe, terminalSafe } from '../window/visible-text.js';
+import { jsonSafe, terminalMessage, terminalSafe } from '../window/visible-text.js';
 import type { Command, CommandIO } from './command.js';
 import { maxAheadHelp, readUniverseOptions, readWindowOptions } from './window-options.js';
 import { judgeOptionSpec, readJudgeSettings } from './judge-options.js';
@@ -38,12 +38,20 @@ import {
   type ParsedKafkaSource,
 } from './kafka-options.js';
 import { mergeOptionSpec, mergeOptionsHelp, readMergeSettings } from './merge-options.js';
+import {
+  prometheusOptionSpec,
+  prometheusOptionsHelp,
+  readPrometheusOptions,
+  type ParsedPrometheusSource,
+} from './prometheus-options.js';
+import { PrometheusSource } from '../ingest/prometheus/prometheus-source.js';
 import { MergeMetrics, SummaryMergeSource, type MergeSettings } from './watch-merge.js';
 import { durationOption, scenarioNamed, seedOption, startOption } from './scenario-options.js';
 import { chooseWatchOutput, WatchScreen } from './watch-screen.js';
 
 const help = `Usage: shardwise watch (--input FILE|- | --scenario NAME | --brokers H:P --topic T |
-                       --brokers H:P --merge SUMMARY_TOPIC) [options]
+                       --brokers H:P --merge SUMMARY_TOPIC |
+                       --prometheus URL --series SELECTOR --shard-label NAME) [options]
 
 Judges every closed window of per-shard request counts against random placement.
 On a terminal it draws the live screen (keys below); otherwise, and with --no-ui,
@@ -67,6 +75,19 @@ Source (exactly one):
                           (default: now, rounded down to a window boundary)
     --pace real-time|fast real-time releases each second of traffic once it
                           has passed (default); fast replays at full speed
+${prometheusOptionsHelp}
+                          Polled every min(window, 5s): each rise of a counter
+                          between two scrapes is one record stamped at the later
+                          scrape (a drop is a counter reset, counted from zero;
+                          a series' first sample is only a baseline), so window
+                          totals are the counters' own increase. Records are
+                          released in time order once every live series has been
+                          scraped past them; verdicts trail the wall clock by the
+                          poll, four scrape intervals and 1s (said at start). A
+                          series more than 3 of its scrape intervals behind the
+                          others is stopped: windows it leaves uncovered carry
+                          "coverage" (missing series, complete false) and are said
+                          on stderr, as are counter resets.
 ${kafkaOptionsHelp}
 ${mergeOptionsHelp}
   With --group, offsets are committed only below windows still open, so a restart
@@ -189,6 +210,7 @@ export const watchOptions = {
   scenario: { type: 'string' },
   ...kafkaSourceOptionSpec,
   ...mergeOptionSpec,
+  ...prometheusOptionSpec,
   seed: { type: 'string' },
   duration: { type: 'string' },
   start: { type: 'string' },
@@ -220,6 +242,7 @@ type SourcePlan =
   | { readonly kind: 'file'; readonly path: string }
   | { readonly kind: 'kafka'; readonly kafka: ParsedKafkaSource }
   | { readonly kind: 'merge'; readonly merge: MergeSettings }
+  | { readonly kind: 'prometheus'; readonly prometheus: ParsedPrometheusSource }
   | {
       readonly kind: 'scenario';
       readonly name: string;
@@ -259,9 +282,16 @@ export const watchCommand: Command = {
 };
 
 async function readPlan(values: Values, io: CommandIO): Promise<WatchPlan> {
-  const sourcesGiven = [values.input, values.scenario, values.brokers].filter(
+  const sourcesGiven = [values.input, values.scenario, values.brokers, values.prometheus].filter(
     (v) => v !== undefined,
   );
+  if (sourcesGiven.length > 1 && values.prometheus !== undefined) {
+    throw new UsageError(
+      '--prometheus',
+      values.prometheus,
+      'cannot be combined with --input, --scenario or --brokers (one source at a time)',
+    );
+  }
   if (sourcesGiven.length > 1 && values.brokers !== undefined) {
     throw new UsageError(
       '--brokers',
@@ -276,14 +306,16 @@ async function readPlan(values: Values, io: CommandIO): Promise<WatchPlan> {
       'cannot be combined with --scenario (one source at a time)',
     );
   }
-  if (values.input === undefined && values.scenario === undefined && values.brokers === undefined) {
+  if (sourcesGiven.length === 0) {
     throw new UsageError(
       '--input',
       '',
-      'is missing: give --input FILE|-, --scenario NAME or --brokers H:P --topic T (see --help)',
+      'is missing: give --input FILE|-, --scenario NAME, --brokers H:P --topic T or --prometheus URL (see --help)',
     );
   }
   const { windowMs, hopMs, latenessMs, maxAheadMs, maxShards } = readWindowOptions(values);
+  // Also refuses a Prometheus option given without --prometheus.
+  const prometheus = readPrometheusOptions(values, { env: io.env });
 
   let source: SourcePlan;
   let universe: ShardUniverse | null;
@@ -323,6 +355,11 @@ async function readPlan(values: Values, io: CommandIO): Promise<WatchPlan> {
       const { settings, warnings } = readMergeSettings(values, { env: io.env });
       for (const warning of warnings) io.stderr.write(`shardwise watch: warning: ${warning}\n`);
       source = { kind: 'merge', merge: settings };
+    } else if (prometheus !== null) {
+      for (const warning of prometheus.warnings) {
+        io.stderr.write(`shardwise watch: warning: ${warning}\n`);
+      }
+      source = { kind: 'prometheus', prometheus };
     } else if (values.brokers !== undefined) {
       const kafka = parseKafkaSource(values, { env: io.env });
       for (const warning of kafka.warnings)
@@ -391,7 +428,12 @@ async function watch(plan: WatchPlan, io: CommandIO): Promise<number> {
   };
   // Kafka connects first: unreachable brokers fail here (exit 1), and --shard-from
   // partition takes its universe from the topic's partition count.
-  const recordSource = plan.source.kind === 'merge' ? null : openSource(plan, io, kafkaEvent);
+  // A Prometheus source's notes (gaps, resets, incomplete windows) would scribble over the screen.
+  const sourceNote = (text: string) => {
+    if (screen === null) io.stderr.write(`shardwise watch: ${terminalMessage(text)}\n`);
+  };
+  const recordSource =
+    plan.source.kind === 'merge' ? null : openSource(plan, io, kafkaEvent, sourceNote);
   const opened = recordSource === null ? null : await recordSource.open();
   const universe = plan.universe ?? ShardUniverse.ofCount(opened?.partitions ?? 1);
   // Built before the record file is opened, so a bad setting leaves no file behind.
@@ -464,7 +506,10 @@ async function watch(plan: WatchPlan, io: CommandIO): Promise<number> {
   if (exporter !== null) {
     io.stderr.write(`shardwise watch: metrics at ${exporter.url} (also /healthz, /readyz)\n`);
   }
-  const connected = plan.source.kind === 'kafka' || plan.source.kind === 'merge';
+  const connected =
+    plan.source.kind === 'kafka' ||
+    plan.source.kind === 'merge' ||
+    plan.source.kind === 'prometheus';
   if (choice.kind === 'screen') {
     try {
       screen = new WatchScreen({
@@ -580,6 +625,7 @@ function openSource(
   plan: WatchPlan,
   io: CommandIO,
   onEvent: (event: Parameters<typeof describeKafkaEvent>[0]) => void,
+  onNote: (text: string) => void,
 ): RecordSource {
   const source = plan.source;
   switch (source.kind) {
@@ -600,6 +646,14 @@ function openSource(
           latenessMs: plan.run.latenessMs,
         },
         onEvent,
+      });
+    case 'prometheus':
+      return new PrometheusSource({
+        connection: source.prometheus.connection,
+        selector: source.prometheus.selector,
+        shardLabel: source.prometheus.shardLabel,
+        windows: { windowMs: plan.run.windowMs, hopMs: plan.run.hopMs },
+        onNote,
       });
     case 'merge':
       throw new Error('a --merge source is built with its pipeline');
@@ -624,6 +678,12 @@ function recordedSource(plan: WatchPlan): Readonly<Record<string, unknown>> {
       return { input: source.path };
     case 'merge':
       return { merge: source.merge.topic, group: source.merge.groupId ?? null };
+    case 'prometheus':
+      return {
+        prometheus: source.prometheus.connection.url,
+        series: source.prometheus.selector,
+        shardLabel: source.prometheus.shardLabel,
+      };
     case 'kafka':
       return {
         topic: source.kafka.topic,
