@@ -117,6 +117,33 @@ describe('CounterLedger', () => {
     expect(ledger.release(all).map((item) => (item as { ts: number }).ts)).toEqual([4000, 5000]);
   });
 
+  it('releases a large read of many series in time order, each series in its own order', () => {
+    const ledger = new CounterLedger('shard');
+    const read: CounterSeries[] = [];
+    for (let index = 0; index < 500; index++) {
+      const samples: [number, number][] = [];
+      // Scrape phases differ per series and collide across series (index % 7).
+      for (let sample = 0; sample < 12; sample++) {
+        samples.push([1_764_590_400_000 + sample * 1000 + (index % 7) * 100, sample * (index + 1)]);
+      }
+      read.push(series({ shard: `s-${index}` }, samples));
+    }
+    ledger.add(read);
+    const released = ledger.release(all) as { ts: number; shard: string; count: number }[];
+    // Every rise once (11 per series, the first sample a baseline) ...
+    expect(released).toHaveLength(500 * 11);
+    for (const item of released) expect(item.count).toBe(Number(item.shard.slice(2)) + 1);
+    // ... in time order, and records of one instant in the order the series were read.
+    for (let at = 1; at < released.length; at++) {
+      const before = released[at - 1];
+      const here = released[at];
+      expect(here.ts >= before.ts).toBe(true);
+      if (here.ts === before.ts) {
+        expect(Number(here.shard.slice(2)) > Number(before.shard.slice(2))).toBe(true);
+      }
+    }
+  });
+
   it('sends a shard with no traffic once (count 0), then leaves out zero increments', () => {
     const ledger = new CounterLedger('shard');
     ledger.add([
