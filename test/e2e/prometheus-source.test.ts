@@ -322,4 +322,58 @@ describe('the Prometheus source on a real Prometheus server', () => {
     );
     expect(stderr).toMatch(/episodes/);
   });
+
+  it('fails at start naming the option: a selector Prometheus refuses (its own text), an unreachable server', async () => {
+    const own = mkdtempSync(join(tmpdir(), 'shardwise-prometheus-errors-'));
+    const prometheus = await startPrometheus(own, 'scrape_configs: []\n');
+    children.push(prometheus.child);
+    const cli = async (args: string[]) =>
+      run(process.execPath, ['--import', 'tsx', 'src/cli/main.ts', ...args], {
+        cwd: repositoryRoot,
+      }).then(
+        ({ stderr }) => ({ code: 0, stderr }),
+        (error: { code: number; stderr: string }) => ({ code: error.code, stderr: error.stderr }),
+      );
+    try {
+      // A parse error and a range of something that is no series selector: HTTP 400,
+      // errorType bad_data (Prometheus documentation, from memory).
+      for (const bad of ['cache_requests_total{job=}', 'rate(cache_requests_total[5m])']) {
+        const watch = await cli([
+          'watch',
+          '--prometheus',
+          prometheus.url,
+          '--series',
+          bad,
+          '--shard-label',
+          'shard',
+          '--no-ui',
+          '--no-metrics',
+        ]);
+        expect(watch.code).toBe(2);
+        expect(watch.stderr).toContain(
+          `shardwise watch: --series: ${JSON.stringify(bad)} is refused by Prometheus (bad_data: "`,
+        );
+      }
+      const review = await cli([
+        'review',
+        '--prometheus',
+        'http://127.0.0.1:1',
+        '--series',
+        selector,
+        '--shard-label',
+        'shard',
+        '--since',
+        '2025-12-01T14:00:00Z',
+        '--until',
+        '2025-12-01T15:00:00Z',
+      ]);
+      expect(review.code).toBe(1);
+      expect(review.stderr).toMatch(
+        /^shardwise review: --prometheus "http:\/\/127\.0\.0\.1:1" cannot be reached \(connect ECONNREFUSED/,
+      );
+    } finally {
+      await prometheus.child.stop();
+      rmSync(own, { recursive: true, force: true });
+    }
+  });
 });

@@ -75,7 +75,8 @@ export async function readRangeVector(
     data?: { resultType?: string; result?: unknown };
   };
   if (reply.status !== 'success') {
-    const text = `${reply.errorType ?? 'error'}: ${reply.error ?? '(no error text)'}`;
+    // Quoted as a JSON string: the server's text stays on one line and its controls inert.
+    const text = `${reply.errorType ?? 'error'}: ${JSON.stringify(reply.error ?? '')}`;
     // 400 bad_data: the query does not parse or is no range vector; 422: it cannot run.
     const failure = status === 400 || status === 422 ? 'bad query' : 'status';
     throw new PrometheusQueryError(
