@@ -359,8 +359,20 @@ export class CounterLedger {
     return gaps;
   }
 
-  /** Forgets resets and closed gaps wholly before `before`, so a long run keeps little. */
+  /**
+   * Forgets resets and closed gaps wholly before `before`, and series stopped since before
+   * it (instances come and go: a long run must not keep every series it ever saw). A
+   * forgotten series that comes back starts again from a baseline. O(series).
+   */
   forgetBefore(before: number): void {
+    for (const state of this.stopped) {
+      if (state.newestTs >= before) continue;
+      this.stopped.delete(state);
+      this.series.delete(state.name);
+    }
+    for (const [text, state] of this.byText) {
+      if (this.series.get(state.name) !== state) this.byText.delete(text);
+    }
     let resetsKept = 0;
     while (resetsKept < this.resetTimes.length && this.resetTimes[resetsKept] < before)
       resetsKept++;

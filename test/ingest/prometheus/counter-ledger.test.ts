@@ -207,6 +207,37 @@ describe('CounterLedger', () => {
     expect(ledger.coverageOf(10_000, 12_000)).toBeUndefined();
   });
 
+  it('forgets a series stopped long ago; back again, its first sample is a new baseline', () => {
+    const ledger = new CounterLedger('shard');
+    const ticks = (from: number, to: number, value: (ts: number) => number) => {
+      const samples: [number, number][] = [];
+      for (let ts = from; ts <= to; ts += 1000) samples.push([ts, value(ts)]);
+      return samples;
+    };
+    ledger.add([
+      series(
+        { shard: 'a' },
+        ticks(1000, 10_000, (ts) => ts / 1000),
+      ),
+      series(
+        { shard: 'b' },
+        ticks(1000, 3000, (ts) => ts / 1000),
+      ),
+    ]);
+    ledger.release(all);
+    expect(ledger.seriesCount).toBe(2);
+    ledger.forgetBefore(5000);
+    expect(ledger.seriesCount).toBe(1);
+    ledger.add([
+      series(
+        { shard: 'b' },
+        ticks(11_000, 12_000, (ts) => ts / 1000),
+      ),
+    ]);
+    // 11 at 11000 is a baseline again; only the rise to 12 at 12000 counts.
+    expect(ledger.release(all)).toEqual([{ ts: 12_000, shard: 'b', count: 1, partition: 0 }]);
+  });
+
   it('writes label sets as PromQL writes a selector, values escaped', () => {
     expect(seriesName({ __name__: 'x', z: 'a"b\\c\nd', a: '1' })).toBe(
       'x{a="1",z="a\\"b\\\\c\\nd"}',
