@@ -30,16 +30,19 @@ export const prometheusOptionSpec = {
 
 /** Help lines for the options above. */
 export const prometheusOptionsHelp = [
-  '  --prometheus URL         read request counters from a Prometheus server (its HTTP',
-  '                           API; a path prefix is kept)',
-  '    --series SELECTOR      the counters, a PromQL series selector such as',
-  `                           'cache_requests_total{job="seat-cache"}' (required)`,
-  '    --shard-label NAME     the label naming the shard (required); series with the',
-  '                           same value (instances, status codes) are summed',
-  `    --prometheus-token-file FILE  a bearer token (first line), or set ${prometheusTokenVariable}`,
-  '    --prometheus-user NAME basic auth; the password from --prometheus-password-file',
-  `                           FILE or ${prometheusPasswordVariable}; never on the command line`,
-  '    --prometheus-ca FILE   PEM certificate authorities to trust (https)',
+  '  --prometheus URL        read request counters from a Prometheus server (its',
+  '                          HTTP API; a path prefix is kept)',
+  '    --series SELECTOR     the counters, a PromQL series selector such as',
+  `                          'cache_requests_total{job="seat-cache"}' (required)`,
+  '    --shard-label NAME    the label naming the shard (required); series with',
+  '                          the same value (instances, status codes) are summed',
+  '    --prometheus-token-file FILE',
+  `                          a bearer token (first line), or set`,
+  `                          ${prometheusTokenVariable}`,
+  '    --prometheus-user NAME  basic auth; the password from',
+  `                          --prometheus-password-file FILE or`,
+  `                          ${prometheusPasswordVariable}; never on the command line`,
+  '    --prometheus-ca FILE  PEM certificate authorities to trust (https)',
 ].join('\n');
 
 /** What the options give: where to read, what, and the warnings to print. */
