@@ -6,7 +6,12 @@
 // as `{"status":"error","errorType":"bad_data","error":...}` with HTTP 400), Prometheus
 // documentation, from memory. The real server is exercised in
 // test/e2e/prometheus-source.test.ts.
+import { execFileSync } from 'node:child_process';
+import { mkdtempSync, readFileSync, rmSync } from 'node:fs';
 import { createServer, type IncomingMessage, type Server } from 'node:http';
+import { createServer as createTlsServer } from 'node:https';
+import { tmpdir } from 'node:os';
+import { join } from 'node:path';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { SecretText } from '../../../src/ingest/kafka-connection.js';
 import {
@@ -181,5 +186,58 @@ describe('PrometheusSource errors at open', () => {
     await expect(source.open()).rejects.toThrow(
       /^--prometheus "http:\/\/127\.0\.0\.1:1" cannot be reached \(connect ECONNREFUSED/,
     );
+  });
+});
+
+describe('--prometheus-ca', () => {
+  it('trusts a server certificate signed by the given authority, and refuses it without', async () => {
+    // A self-signed certificate for 127.0.0.1 made by openssl (as the Kafka TLS test makes
+    // its own); TLS clients refuse a chain they cannot verify (RFC 5280 path validation).
+    const dir = mkdtempSync(join(tmpdir(), 'shardwise-prometheus-tls-'));
+    try {
+      execFileSync(
+        'openssl',
+        [
+          'req',
+          '-x509',
+          '-newkey',
+          'ec',
+          '-pkeyopt',
+          'ec_paramgen_curve:P-256',
+          '-nodes',
+          '-keyout',
+          'key.pem',
+          '-out',
+          'cert.pem',
+          '-days',
+          '1',
+          '-subj',
+          '/CN=127.0.0.1',
+          '-addext',
+          'subjectAltName=IP:127.0.0.1',
+        ],
+        { cwd: dir, stdio: 'ignore' },
+      );
+      const cert = readFileSync(join(dir, 'cert.pem'), 'utf8');
+      const tls = createTlsServer(
+        { cert, key: readFileSync(join(dir, 'key.pem'), 'utf8') },
+        (_request, response) => {
+          response.writeHead(200, { 'content-type': 'application/json' });
+          response.end('{"status":"success","data":{"resultType":"matrix","result":[]}}');
+        },
+      );
+      await new Promise<void>((resolve) => tls.listen(0, '127.0.0.1', resolve));
+      const url = `https://127.0.0.1:${(tls.address() as { port: number }).port}`;
+      try {
+        expect(await readRangeVector({ url, ca: cert }, 'x', 1000)).toEqual([]);
+        await expect(readRangeVector({ url }, 'x', 1000)).rejects.toMatchObject({
+          failure: 'unreachable',
+        });
+      } finally {
+        await new Promise((resolve) => tls.close(resolve));
+      }
+    } finally {
+      rmSync(dir, { recursive: true, force: true });
+    }
   });
 });
