@@ -15,7 +15,7 @@ export const commandList: readonly CommandEntry[] = [
   {
     name: 'watch',
     summary:
-      'judge each window of per-shard counts from a file, stdin, Kafka or a simulated cluster',
+      'judge each window of per-shard counts from a file, stdin, Kafka, Prometheus or a simulated cluster',
     load: async () => (await import('./watch.js')).watchCommand,
   },
   {

@@ -29,6 +29,13 @@ import {
 } from './kafka-options.js';
 import { duration, parseOptions } from './option-values.js';
 import { ProgressLine } from './progress-line.js';
+import { PrometheusSource } from '../ingest/prometheus/prometheus-source.js';
+import {
+  prometheusOptionSpec,
+  prometheusOptionsHelp,
+  readPrometheusOptions,
+  type ParsedPrometheusSource,
+} from './prometheus-options.js';
 import { feedRecords } from './record-feed.js';
 import {
   buildPipeline,
@@ -39,7 +46,8 @@ import {
 import { terminalSafe } from '../ui/terminal-text.js';
 import { maxAheadHelp, readUniverseOptions, readWindowOptions } from './window-options.js';
 
-const help = `Usage: shardwise review (--recording FILE... | --input FILE|- | --brokers H:P --topic T --since TIME [--until TIME]) [options]
+const help = `Usage: shardwise review (--recording FILE... | --input FILE|- | --brokers H:P --topic T --since TIME [--until TIME] |
+                        --prometheus URL --series SELECTOR --shard-label NAME --since TIME [--until TIME]) [options]
 
 A post-incident review: reads judged windows (or records, and judges them), finds the
 episodes (a shard flagged with the same finding in consecutive windows, or a
@@ -68,8 +76,20 @@ Input (exactly one):
     --tls, --tls-ca FILE, --tls-cert FILE, --tls-key FILE, --sasl-mechanism M,
     --sasl-username NAME, --sasl-password-file FILE   as for watch (the password
                           may also come from SHARDWISE_SASL_PASSWORD)
+${prometheusOptionsHelp}
+    --since TIME [--until TIME]
+                          the counters' rise in [--since, --until) (ISO-8601 with a
+                          zone, or epoch ms; --until defaults to now): each rise
+                          between two stored samples is one record stamped at the
+                          later one (a drop is a counter reset, counted from
+                          zero), the last sample before --since (5 minutes back at
+                          most) the baseline. Read in chunks of about 1e6 samples
+                          (series x chunk / scrape interval), far under the
+                          server's query.max-samples; scrape gaps (a series more
+                          than 3 of its scrape intervals behind the others) and
+                          counter resets are listed in the report's notes.
 
-Shard universe (--input and Kafka only; a recording carries its own):
+Shard universe (--input, Kafka and Prometheus; a recording carries its own):
   --shards N|A..B|a,b,c   declare the shards, equal shares
   --shard-map FILE        declare the shards with relative weights
   --max-shards N          most shards accepted (default 100000); without
@@ -128,6 +148,7 @@ export const reviewOptions = {
   recording: { type: 'string', multiple: true },
   input: { type: 'string' },
   ...kafkaConnectionOptionSpec,
+  ...prometheusOptionSpec,
   topic: { type: 'string' },
   since: { type: 'string' },
   until: { type: 'string' },
@@ -168,19 +189,26 @@ async function review(values: Values, io: CommandIO): Promise<number> {
     values.recording === undefined ? null : '--recording',
     values.input === undefined ? null : '--input',
     values.brokers === undefined ? null : '--brokers',
+    values.prometheus === undefined ? null : '--prometheus',
   ].filter((name) => name !== null);
   if (given.length === 0) {
     throw new UsageError(
       '--recording',
       '',
-      'is missing: give --recording FILE, --input FILE|- or --brokers H:P --topic T --since TIME (see --help)',
+      'is missing: give --recording FILE, --input FILE|-, --brokers H:P --topic T --since TIME or --prometheus URL --series SELECTOR --shard-label NAME --since TIME (see --help)',
     );
   }
   if (given.length > 1) {
     const second = given[1] as string;
     throw new UsageError(
       second,
-      String(second === '--input' ? values.input : values.brokers),
+      String(
+        second === '--input'
+          ? values.input
+          : second === '--brokers'
+            ? values.brokers
+            : values.prometheus,
+      ),
       `cannot be combined with ${given[0]} (one input at a time)`,
     );
   }
@@ -191,6 +219,8 @@ async function review(values: Values, io: CommandIO): Promise<number> {
   if (outputs.html !== null && outputs.html === outputs.markdown) {
     throw new UsageError('--markdown', outputs.markdown, 'is the same file as --out');
   }
+  // Also refuses a Prometheus option given without --prometheus.
+  const prometheus = readPrometheusOptions(values, { env: io.env });
   const progress = new ProgressLine(io.stderr);
   const notes: string[] = [];
   const onNote = (note: string) => notes.push(note);
@@ -198,7 +228,7 @@ async function review(values: Values, io: CommandIO): Promise<number> {
   if (values.recording !== undefined) {
     builder = await reviewRecording(values, values.recording, progress, onNote);
   } else {
-    builder = await reviewRecords(values, io, progress, onNote);
+    builder = await reviewRecords(values, io, progress, onNote, prometheus);
   }
   progress.done();
   for (const note of notes) {
@@ -403,10 +433,12 @@ async function reviewRecords(
   io: CommandIO,
   progress: ProgressLine,
   onNote: (note: string) => void,
+  prometheus: ParsedPrometheusSource | null,
 ): Promise<ReviewBuilder | null> {
   const { windowMs, hopMs, latenessMs, maxAheadMs, maxShards } = readWindowOptions(values);
   const kafka = values.brokers !== undefined ? kafkaRange(values, io) : null;
-  if (kafka === null) {
+  const promRange = prometheus === null ? null : prometheusRange(values, prometheus, io);
+  if (kafka === null && promRange === null) {
     for (const name of ['since', 'until', 'topic', 'shard-from'] as const) {
       if (values[name] !== undefined) {
         throw new UsageError(
@@ -430,9 +462,20 @@ async function reviewRecords(
     judge: readJudgeSettings(values, { sharesDeclared, hopMs }),
     keys: readKeySettings(values),
   };
+  const prometheusSource =
+    promRange === null
+      ? null
+      : new PrometheusSource({
+          ...promRange.source,
+          windows: { windowMs, hopMs },
+          range: { sinceMs: promRange.sinceMs, untilMs: promRange.untilMs },
+          onNote,
+          onProgress: (text) => progress.update(() => text),
+        });
   const source =
     kafka === null
-      ? fileRecordSource(values.input as string, io.stdin as unknown as Readable)
+      ? (prometheusSource ??
+        fileRecordSource(values.input as string, io.stdin as unknown as Readable))
       : kafkaRecordSource({
           ...kafka.connection,
           topic: kafka.topic,
@@ -462,11 +505,13 @@ async function reviewRecords(
   const pipeline = buildPipeline(counted, judge, run, false);
   const builder = new ReviewBuilder({
     source:
-      kafka === null
-        ? values.input === '-'
-          ? 'records from standard input, judged by this review'
-          : `record file ${values.input}, judged by this review`
-        : `topic ${kafka.topic}, messages from ${formatTime(kafka.sinceMs)} to ${formatTime(kafka.untilMs)}, judged by this review (no offsets committed)`,
+      promRange !== null
+        ? `Prometheus ${promRange.source.connection.url}, counters ${promRange.source.selector} by label ${promRange.source.shardLabel}, their rise from ${formatTime(promRange.sinceMs)} to ${formatTime(promRange.untilMs)}, judged by this review`
+        : kafka === null
+          ? values.input === '-'
+            ? 'records from standard input, judged by this review'
+            : `record file ${values.input}, judged by this review`
+          : `topic ${kafka.topic}, messages from ${formatTime(kafka.sinceMs)} to ${formatTime(kafka.untilMs)}, judged by this review (no offsets committed)`,
     judgedHere: true,
     settings: reviewSettingsOf(
       { ...run.judge, declaredUniverse: counted.declared },
@@ -495,7 +540,12 @@ async function reviewRecords(
     windows++;
   });
   let outside = 0;
-  const label = kafka === null ? String(values.input) : `topic ${kafka.topic}`;
+  const label =
+    promRange !== null
+      ? `Prometheus ${promRange.source.selector}`
+      : kafka === null
+        ? String(values.input)
+        : `topic ${kafka.topic}`;
   try {
     await feedRecords(source, start, pipeline, {
       keep:
@@ -547,6 +597,33 @@ function unequalShares(universe: ShardUniverse, size: number): Float64Array | nu
     if (all[shard] !== all[0]) return all.slice(0, size);
   }
   return null;
+}
+
+/** --since/--until for a Prometheus source; --topic and --shard-from do not apply. */
+function prometheusRange(values: Values, source: ParsedPrometheusSource, io: CommandIO) {
+  for (const warning of source.warnings) io.stderr.write(`shardwise review: warning: ${warning}\n`);
+  for (const name of ['topic', 'shard-from'] as const) {
+    if (values[name] !== undefined) {
+      throw new UsageError(
+        `--${name}`,
+        String(values[name]),
+        'applies only to a Kafka range (--brokers)',
+      );
+    }
+  }
+  if (values.since === undefined) {
+    throw new UsageError(
+      '--since',
+      '',
+      'is required with --prometheus (the start of the range to review)',
+    );
+  }
+  const sinceMs = instant('--since', values.since);
+  const untilMs = values.until === undefined ? Date.now() : instant('--until', values.until);
+  if (untilMs <= sinceMs) {
+    throw new UsageError('--until', values.until ?? 'now', `is not after --since ${values.since}`);
+  }
+  return { source, sinceMs, untilMs };
 }
 
 function kafkaRange(values: Values, io: CommandIO) {

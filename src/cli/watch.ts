@@ -27,7 +27,7 @@ import {
 import { rejectionReasons, type RejectionReason } from '../window/count-record.js';
 import { UsageError } from '../window/errors.js';
 import { ShardUniverse } from '../window/shard-universe.js';
-import { jsonSafe, terminalSafe } from '../window/visible-text.js';
+import { jsonSafe, terminalMessage, terminalSafe } from '../window/visible-text.js';
 import type { Command, CommandIO } from './command.js';
 import { summaryOf } from './command-list.js';
 import { maxAheadHelp, readUniverseOptions, readWindowOptions } from './window-options.js';
@@ -40,12 +40,20 @@ import {
   type ParsedKafkaSource,
 } from './kafka-options.js';
 import { mergeOptionSpec, mergeOptionsHelp, readMergeSettings } from './merge-options.js';
+import {
+  prometheusOptionSpec,
+  prometheusOptionsHelp,
+  readPrometheusOptions,
+  type ParsedPrometheusSource,
+} from './prometheus-options.js';
+import { PrometheusSource } from '../ingest/prometheus/prometheus-source.js';
 import { MergeMetrics, SummaryMergeSource, type MergeSettings } from './watch-merge.js';
 import { durationOption, scenarioNamed, seedOption, startOption } from './scenario-options.js';
 import { chooseWatchOutput, WatchScreen } from './watch-screen.js';
 
 const help = `Usage: shardwise watch (--input FILE|- | --scenario NAME | --brokers H:P --topic T |
-                       --brokers H:P --merge SUMMARY_TOPIC) [options]
+                       --brokers H:P --merge SUMMARY_TOPIC |
+                       --prometheus URL --series SELECTOR --shard-label NAME) [options]
 
 Judges every closed window of per-shard request counts against random placement.
 On a terminal it draws the live screen (keys below); otherwise, and with --no-ui,
@@ -69,6 +77,19 @@ Source (exactly one):
                           (default: now, rounded down to a window boundary)
     --pace real-time|fast real-time releases each second of traffic once it
                           has passed (default); fast replays at full speed
+${prometheusOptionsHelp}
+                          Polled every min(window, 5s): each rise of a counter
+                          between two scrapes is one record stamped at the later
+                          scrape (a drop is a counter reset, counted from zero;
+                          a series' first sample is only a baseline), so window
+                          totals are the counters' own increase. Records are
+                          released in time order once every live series has been
+                          scraped past them; verdicts trail the wall clock by the
+                          poll, four scrape intervals and 1s (said at start). A
+                          series more than 3 of its scrape intervals behind the
+                          others is stopped: windows it leaves uncovered carry
+                          "coverage" (missing series, complete false) and are said
+                          on stderr, as are counter resets.
 ${kafkaOptionsHelp}
 ${mergeOptionsHelp}
   --offsets-only          with --brokers and --topic: read no message, only the
@@ -219,6 +240,7 @@ export const watchOptions = {
   ...kafkaSourceOptionSpec,
   'session-timeout': { type: 'string' },
   ...mergeOptionSpec,
+  ...prometheusOptionSpec,
   seed: { type: 'string' },
   duration: { type: 'string' },
   start: { type: 'string' },
@@ -257,6 +279,7 @@ type SourcePlan =
     }
   | { readonly kind: 'offsets'; readonly kafka: ParsedKafkaSource }
   | { readonly kind: 'merge'; readonly merge: MergeSettings }
+  | { readonly kind: 'prometheus'; readonly prometheus: ParsedPrometheusSource }
   | {
       readonly kind: 'scenario';
       readonly name: string;
@@ -296,9 +319,16 @@ export const watchCommand: Command = {
 };
 
 async function readPlan(values: Values, io: CommandIO): Promise<WatchPlan> {
-  const sourcesGiven = [values.input, values.scenario, values.brokers].filter(
+  const sourcesGiven = [values.input, values.scenario, values.brokers, values.prometheus].filter(
     (v) => v !== undefined,
   );
+  if (sourcesGiven.length > 1 && values.prometheus !== undefined) {
+    throw new UsageError(
+      '--prometheus',
+      values.prometheus,
+      'cannot be combined with --input, --scenario or --brokers (one source at a time)',
+    );
+  }
   if (sourcesGiven.length > 1 && values.brokers !== undefined) {
     throw new UsageError(
       '--brokers',
@@ -313,11 +343,11 @@ async function readPlan(values: Values, io: CommandIO): Promise<WatchPlan> {
       'cannot be combined with --scenario (one source at a time)',
     );
   }
-  if (values.input === undefined && values.scenario === undefined && values.brokers === undefined) {
+  if (sourcesGiven.length === 0) {
     throw new UsageError(
       '--input',
       '',
-      'is missing: give --input FILE|-, --scenario NAME or --brokers H:P --topic T (see --help)',
+      'is missing: give --input FILE|-, --scenario NAME, --brokers H:P --topic T or --prometheus URL (see --help)',
     );
   }
   if (
@@ -334,6 +364,8 @@ async function readPlan(values: Values, io: CommandIO): Promise<WatchPlan> {
   if (values['offsets-only'] === true && values.brokers === undefined) {
     throw new UsageError('--offsets-only', '', 'needs --brokers H:P and --topic T');
   }
+  // Also refuses a Prometheus option given without --prometheus.
+  const prometheus = readPrometheusOptions(values, { env: io.env });
 
   let source: SourcePlan;
   let universe: ShardUniverse | null;
@@ -373,6 +405,11 @@ async function readPlan(values: Values, io: CommandIO): Promise<WatchPlan> {
       const { settings, warnings } = readMergeSettings(values, { env: io.env });
       for (const warning of warnings) io.stderr.write(`shardwise watch: warning: ${warning}\n`);
       source = { kind: 'merge', merge: settings };
+    } else if (prometheus !== null) {
+      for (const warning of prometheus.warnings) {
+        io.stderr.write(`shardwise watch: warning: ${warning}\n`);
+      }
+      source = { kind: 'prometheus', prometheus };
     } else if (values.brokers !== undefined) {
       const kafka = parseKafkaSource(values, { env: io.env });
       for (const warning of kafka.warnings)
@@ -473,10 +510,20 @@ async function watch(plan: WatchPlan, io: CommandIO): Promise<number> {
   // partition takes its universe from the topic's partition count.
   // --offsets-only: the topic's partitions are the shards, and it may gain some mid-run.
   const grown: { universe: ShardUniverse | null } = { universe: null };
+  // A Prometheus source's notes (gaps, resets, incomplete windows) would scribble over the screen.
+  const sourceNote = (text: string) => {
+    if (screen === null) io.stderr.write(`shardwise watch: ${terminalMessage(text)}\n`);
+  };
   const recordSource =
     plan.source.kind === 'merge'
       ? null
-      : openSource(plan, io, kafkaEvent, (count) => grown.universe?.growNumbered(count));
+      : openSource(
+          plan,
+          io,
+          kafkaEvent,
+          (count) => grown.universe?.growNumbered(count),
+          sourceNote,
+        );
   const opened = recordSource === null ? null : await recordSource.open();
   const universe = plan.universe ?? ShardUniverse.ofCount(opened?.partitions ?? 1);
   grown.universe = universe;
@@ -551,7 +598,10 @@ async function watch(plan: WatchPlan, io: CommandIO): Promise<number> {
     io.stderr.write(`shardwise watch: metrics at ${exporter.url} (also /healthz, /readyz)\n`);
   }
   const connected =
-    plan.source.kind === 'kafka' || plan.source.kind === 'merge' || plan.source.kind === 'offsets';
+    plan.source.kind === 'kafka' ||
+    plan.source.kind === 'merge' ||
+    plan.source.kind === 'offsets' ||
+    plan.source.kind === 'prometheus';
   if (choice.kind === 'screen') {
     try {
       screen = new WatchScreen({
@@ -670,6 +720,7 @@ function openSource(
   io: CommandIO,
   onEvent: (event: Parameters<typeof describeKafkaEvent>[0]) => void,
   onPartitions: (count: number) => void,
+  onNote: (text: string) => void,
 ): RecordSource {
   const source = plan.source;
   switch (source.kind) {
@@ -701,6 +752,14 @@ function openSource(
         },
         onEvent,
       });
+    case 'prometheus':
+      return new PrometheusSource({
+        connection: source.prometheus.connection,
+        selector: source.prometheus.selector,
+        shardLabel: source.prometheus.shardLabel,
+        windows: { windowMs: plan.run.windowMs, hopMs: plan.run.hopMs },
+        onNote,
+      });
     case 'merge':
       throw new Error('a --merge source is built with its pipeline');
   }
@@ -726,6 +785,12 @@ function recordedSource(plan: WatchPlan): Readonly<Record<string, unknown>> {
       return { merge: source.merge.topic, group: source.merge.groupId ?? null };
     case 'offsets':
       return { topic: source.kafka.topic, offsetsOnly: true };
+    case 'prometheus':
+      return {
+        prometheus: source.prometheus.connection.url,
+        series: source.prometheus.selector,
+        shardLabel: source.prometheus.shardLabel,
+      };
     case 'kafka':
       return {
         topic: source.kafka.topic,

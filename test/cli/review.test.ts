@@ -74,7 +74,7 @@ describe('shardwise review', () => {
   it.each([
     [
       ['review'],
-      'shardwise review: --recording: "" is missing: give --recording FILE, --input FILE|- or --brokers H:P --topic T --since TIME (see --help)',
+      'shardwise review: --recording: "" is missing: give --recording FILE, --input FILE|-, --brokers H:P --topic T --since TIME or --prometheus URL --series SELECTOR --shard-label NAME --since TIME (see --help)',
     ],
     [
       ['review', '--input', input, '--alpha', '3'],

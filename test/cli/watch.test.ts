@@ -312,7 +312,19 @@ describe('shardwise watch: bad usage exits 2 with one line naming the option and
     ],
     [
       ['watch'],
-      'shardwise watch: --input: "" is missing: give --input FILE|-, --scenario NAME or --brokers H:P --topic T (see --help)',
+      'shardwise watch: --input: "" is missing: give --input FILE|-, --scenario NAME, --brokers H:P --topic T or --prometheus URL (see --help)',
+    ],
+    [
+      ['watch', '--prometheus', 'http://127.0.0.1:9090', '--shard-label', 'shard'],
+      'shardwise watch: --series: "" is required with --prometheus (a series selector)',
+    ],
+    [
+      ['watch', '--input', '-', '--prometheus', 'http://127.0.0.1:9090'],
+      'shardwise watch: --prometheus: "http://127.0.0.1:9090" cannot be combined with --input, --scenario or --brokers (one source at a time)',
+    ],
+    [
+      ['watch', '--input', '-', '--shard-label', 'shard'],
+      'shardwise watch: --shard-label: "shard" needs --prometheus URL',
     ],
     [
       ['watch', '--frobnicate'],
