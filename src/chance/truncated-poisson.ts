@@ -37,7 +37,7 @@ export function cutLogMass(cut: OneSidedCut): number {
  * (floor). Its Taylor coefficients follow by the usual power-series recursion, and
  * kappa_r = mean - (r - 1)! [t^(r-1)] u(t). This avoids the catastrophic cancellation of
  * turning factorial moments into cumulants when the mean is in the millions.
- * (Derivation ours; the factorial moments quoted in MODEL.md are the check in the tests.)
+ * (Derivation ours; the factorial moments quoted in docs/model.md are the check in the tests.)
  * O(order^2) per call plus one density and one tail. Domain: any mean > 0.
  * Example: the cut {mean: 1, lower: 0, upper: 1} is Bernoulli(1/2): cumulants [0.5, 0.25, 0, ...].
  */

@@ -1,7 +1,7 @@
 import type { CountRecord } from '../window/count-record.js';
 
 /**
- * Writes a record as one JSON Lines record of INTERFACES.md, timestamps as
+ * Writes a record as one JSON Lines record of docs/formats.md, timestamps as
  * epoch ms: a request event (`{"ts","shard","key"}`) when it has a key and a
  * count of 1, otherwise a count report (`{"ts","shard","count"}`, plus `key`
  * when there is one). The key order is fixed, so equal records give equal

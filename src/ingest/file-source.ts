@@ -18,7 +18,7 @@ import { decodeUtf8Marked } from './utf8-text.js';
 /** What every source yields: a validated record or a rejection. */
 export type SourceItem = CountRecord | Rejection;
 
-/** The two record file formats of INTERFACES.md. */
+/** The two record file formats of docs/formats.md. */
 export type RecordFormat = 'jsonl' | 'csv';
 
 /** How to read a record file. */

@@ -113,7 +113,7 @@ export class KafkaMessageDecoder {
 /**
  * A JSON record whose shard is not its `shard` field: given (`shard`, from
  * the message key) or read from the field `shardField`. The other fields
- * follow the record kinds of INTERFACES.md: `ts` (epoch ms or ISO with a
+ * follow the record kinds of docs/formats.md: `ts` (epoch ms or ISO with a
  * zone; the message timestamp when absent), `count` (default 1: a request
  * event) and `key`. A count batch has its shards inside and is "wrong type"
  * here. The checks come in the order the file decoder makes them.

@@ -3,7 +3,7 @@
  * consecutive windows, or when the sequential test (sequential-evidence.ts) has accumulated
  * enough evidence across windows; it clears after `clear` consecutive clean windows, a
  * window in which the sequential test still holds the shard hot not being clean for an
- * incident that test opened (MODEL.md, "Verdicts"). One chance rejection at alpha is common over a day of
+ * incident that test opened (docs/model.md, "Verdicts"). One chance rejection at alpha is common over a day of
  * windows; the same shard rejecting k windows in a row by chance is about alpha^k as likely.
  *
  * Consecutive means consecutive: a window with too little traffic in which the shard is not

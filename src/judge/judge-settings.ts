@@ -27,7 +27,7 @@ export interface JudgeSettings {
   readonly hopMs: number;
 }
 
-/** The documented defaults (INTERFACES.md and MODEL.md). */
+/** The documented defaults (docs/formats.md and docs/model.md). */
 export const defaultJudgeSettings: Omit<JudgeSettings, 'hopMs'> = {
   alpha: 0.001,
   minExcess: 0.2,

@@ -65,7 +65,7 @@ interface NullShares {
 
 /**
  * Judges closed windows: null model, spread mode, findings, flagged shards and persistence
- * (MODEL.md, "Verdicts"). Pure: no I/O, no clock; state is the persistence streaks, the
+ * (docs/model.md, "Verdicts"). Pure: no I/O, no clock; state is the persistence streaks, the
  * learned baseline and a memo of chance answers. Settings are checked when it is built.
  *
  * Per window: one O(m) pass for the loads, the spread test and the robust spread (O(m)),

@@ -3,7 +3,7 @@ import type { KeyVerdict } from './key-verdict.js';
 
 /**
  * The verdict on one closed window: one line of `watch --no-ui`, and the core of each line
- * of a recording (INTERFACES.md, "Verdict stream"). Every probability is a p-value under
+ * of a recording (docs/formats.md, "Verdict stream"). Every probability is a p-value under
  * the null model named in `null`; it is statistical evidence, never certainty.
  *
  * Units: `relative` is the relative load r = x / (N p), 1 being the fair share. `ceiling`
@@ -25,7 +25,7 @@ export interface Judgement {
   readonly spreadMode: 'exact' | 'robust';
   /** Why that mode: the setting, or the spread test that made `auto` choose. */
   readonly spreadReason: string;
-  /** In INTERFACES.md order: hotspot, cold, uneven, chance, too little traffic. */
+  /** In docs/formats.md order: hotspot, cold, uneven, chance, too little traffic. */
   readonly findings: readonly Finding[];
   /** `failover` when a cold shard and a hotspot share the window (traffic moved). */
   readonly pattern: 'failover' | null;
@@ -57,7 +57,7 @@ export interface Judgement {
       readonly ready: boolean;
     };
   };
-  /** N_eff = N / max(phi, 1): independent placements the spread is worth (MODEL.md). */
+  /** N_eff = N / max(phi, 1): independent placements the spread is worth (docs/model.md). */
   readonly nEff: number;
   /**
    * The total the fullest/emptiest/empty tests used: N, or N / dispersion in robust mode

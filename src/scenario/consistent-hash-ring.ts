@@ -6,7 +6,7 @@ import type { RandomDraws } from './random-draws.js';
  * circumference 1, and each token owns the arc back to the previous token,
  * as in Karger et al., "Consistent hashing and random trees" (STOC 1997).
  * A shard's share then has a coefficient of variation of about
- * 1/sqrt(tokensPerShard) (MODEL.md, "Shares are rarely equal"). The shares
+ * 1/sqrt(tokensPerShard) (docs/model.md, "Shares are rarely equal"). The shares
  * sum to 1. O(m v log(m v)) for m shards and v tokens each.
  */
 export function ringShares(

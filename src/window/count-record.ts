@@ -24,7 +24,7 @@ export interface CountRecord {
  * labels and report headings, so never reword one.
  *
  * "shard id too long" is this project's own addition to the reasons listed in
- * INTERFACES.md: an id over {@link longestShardId} characters is far more
+ * docs/formats.md: an id over {@link longestShardId} characters is far more
  * likely garbage than a shard, and naming it apart from "wrong type" tells the
  * operator which producer field to look at.
  *

@@ -29,7 +29,7 @@ describe('properties of the fullest-shard law', () => {
             boxLogProbability(n, [{ share: 1 / m, count: m, lower: 0, upper: k - 1 }])
               .logProbability,
           );
-          // Each side carries its own method error, at most 1e-3 relative (MODEL.md bar).
+          // Each side carries its own method error, at most 1e-3 relative (docs/model.md bar).
           expect(Math.abs(p + none - 1)).toBeLessThanOrEqual(1e-3 * Math.min(p, none) + 1e-12);
         }
       }),

@@ -10,7 +10,7 @@ import {
 } from '../../src/chance/shard-extremes.js';
 import { huge, reference, relativeError } from './reference-data.js';
 
-const TOLERANCE = 1e-3; // MODEL.md accuracy bar: relative error <= 1e-3 for p in [1e-15, 1]
+const TOLERANCE = 1e-3; // docs/model.md accuracy bar: relative error <= 1e-3 for p in [1e-15, 1]
 
 describe('fullest shard, equal shares', () => {
   it('birthday problem: 23 people, 365 days, P(some shared day) = 0.5072972 (published; any probability handbook)', () => {

@@ -12,7 +12,7 @@ import {
 import { RandomDraws } from '../../src/scenario/random-draws.js';
 import { relativeError } from './reference-data.js';
 
-const TOLERANCE = 1e-3; // MODEL.md accuracy bar: relative error <= 1e-3 for p in [1e-15, 1]
+const TOLERANCE = 1e-3; // docs/model.md accuracy bar: relative error <= 1e-3 for p in [1e-15, 1]
 
 /** Hash-range sizes of a ring with `tokens` random tokens per shard: gamma(tokens) (demo data). */
 function ringWeights(m: number, seed: number, tokens = 16): Float64Array {

@@ -17,7 +17,7 @@ async function run(args: string[]): Promise<{ code: number; out: string; err: st
 }
 
 describe('shardwise odds', () => {
-  it('prints the INTERFACES.md JSON shape; birthday problem 0.5072972343239857 (published)', async () => {
+  it('prints the docs/formats.md JSON shape; birthday problem 0.5072972343239857 (published)', async () => {
     const { code, out } = await run([
       'odds',
       '--shards',

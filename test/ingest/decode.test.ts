@@ -43,7 +43,7 @@ function reasonOf(line: string): RejectionReason[] {
 
 const ts = 1_764_583_200_000; // 2025-12-01T10:00:00Z
 
-// Record shapes and reasons are those of INTERFACES.md ("Records on the wire").
+// Record shapes and reasons are those of docs/formats.md ("Records on the wire").
 describe('decodeJsonLine, the three record kinds', () => {
   it('reads a count report', () => {
     expect(json(`{"ts": ${ts}, "shard": "s-17", "count": 42}`)).toEqual({

@@ -22,7 +22,7 @@ function decodedJson(line: string): CountRecord[] {
 }
 
 describe('encodeJsonLine', () => {
-  it('writes the wire shapes of INTERFACES.md', () => {
+  it('writes the wire shapes of docs/formats.md', () => {
     expect(encodeJsonLine({ ts: 1_764_583_200_000, shard: 's-17', count: 42 })).toBe(
       '{"ts":1764583200000,"shard":"s-17","count":42}',
     );

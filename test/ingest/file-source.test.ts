@@ -333,7 +333,7 @@ describe('100000 fuzzed lines through decoding and windows', () => {
       const time = ts + index * 5 + jitters[index];
       lines.push(plan.make(time));
       plan.bad.forEach(bump);
-      // The watermark model of MODEL.md: newest admitted timestamp minus the lateness.
+      // The watermark model of docs/model.md: newest admitted timestamp minus the lateness.
       for (const record of plan.good) {
         if (!inside.includes(record.shard)) {
           bump('outside universe');
@@ -382,7 +382,7 @@ describe('100000 fuzzed lines through decoding and windows', () => {
       expect(totals.load).toBe(expectedLoad);
       expect(totals.late).toBe(expectedLate);
       expect(closed.reduce((sum, window) => sum + window.total, 0)).toBe(expectedLoad);
-      // Every reason of the brief reachable from a file shows up (all but "too many shards", tested above).
+      // Every reason of docs/formats.md reachable from a file shows up (all but "too many shards", tested above).
       expect(Object.keys(totals.rejected).sort()).toEqual(
         [
           'not JSON',

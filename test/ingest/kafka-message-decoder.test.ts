@@ -1,6 +1,6 @@
 // Decoding Kafka messages per --shard-from, without a broker. The reference for the
 // `field` mode is the file decoder itself (decodeJsonLine): the same line must give the
-// same records and reasons; the other modes' expectations follow INTERFACES.md.
+// same records and reasons; the other modes' expectations follow docs/formats.md.
 import fc from 'fast-check';
 import { describe, expect, it } from 'vitest';
 import { decodeJsonLine, type RecordSink } from '../../src/ingest/decode.js';

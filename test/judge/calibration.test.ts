@@ -9,7 +9,7 @@ import { runScenario } from '../../src/scenario/scenario-run.js';
 
 // The product's core claims at reduced size, seeded so that CI guards them (the full
 // table: npx tsx bench/calibration.bench.ts). Under pure chance every finding is false
-// and each must hold in at most an alpha share of windows (MODEL.md: the tests have level
+// and each must hold in at most an alpha share of windows (docs/model.md: the tests have level
 // alpha); the tolerance is 3 binomial standard errors of the Monte Carlo estimate.
 
 const shards = 64;

@@ -11,7 +11,7 @@ import { runScenario, type ScenarioRun } from '../../src/scenario/scenario-run.j
 // spread auto, 10 s windows, 2 s lateness). The test regenerates each stream and compares
 // it with the stored file; UPDATE_GOLDEN=1 rewrites the files instead (review the diff).
 // Numbers are compared with tolerances so that an accuracy-preserving change in the chance
-// engine does not break them: p-values to a relative 1e-3 (MODEL.md's accuracy bar), other
+// engine does not break them: p-values to a relative 1e-3 (docs/model.md's accuracy bar), other
 // non-integers to a relative 1e-9, integers and words exactly.
 
 const seed = 7;

@@ -39,7 +39,7 @@ describe('IncidentTracker', () => {
   // not flagged is no evidence either way. It never extends a streak; one such window between
   // two flags is bridged, two in a row break the streak. Otherwise k chance flags scattered
   // over any number of lulls open an incident, and no rate near alpha^k per k windows
-  // (MODEL.md) bounds it.
+  // (docs/model.md) bounds it.
   it('bridges one lull without counting it, breaks a streak on two in a row', () => {
     const bridged = run(3, 2, [[7], 'lull', [7], [7]]);
     expect(bridged.map((u) => u.streaks.get(14))).toEqual([1, undefined, 2, 3]);

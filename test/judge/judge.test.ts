@@ -111,7 +111,7 @@ describe('findings of one window', () => {
   });
 
   it('shows the plain binomial tail beside the adjusted p, which is up to m times larger', () => {
-    // MODEL.md: the single-step adjusted p is P(max r >= r_i) <= S1 = m x the single-shard
+    // docs/model.md: the single-step adjusted p is P(max r >= r_i) <= S1 = m x the single-shard
     // tail (Bonferroni), and at least that single tail.
     const verdict = judgeOnce(sixtyFour, filled(64, 1000, { 5: 1250 }));
     const flag = verdict.flagged[0];

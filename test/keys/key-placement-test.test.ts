@@ -12,7 +12,7 @@ describe('keyPlacementTest', () => {
     );
     expect(result.keys).toBe(23);
     expect(result.fullest.index).toBe(21);
-    // Tolerance: MODEL.md's accuracy bar, relative 1e-3.
+    // Tolerance: docs/model.md's accuracy bar, relative 1e-3.
     expect(result.fullest.p).toBeCloseTo(0.5072972343239857, 3);
   });
 

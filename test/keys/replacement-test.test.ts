@@ -4,7 +4,7 @@ import { replacementTest } from '../../src/keys/replacement-test.js';
 // Exact references computed in the test itself from first principles: for two heavy keys
 // on two equal shards, P(both on one shard) = 1/2; for light keys alone, P(max >= k) for
 // Multinomial(L, 1/m) by the sum over count vectors with each count at most k - 1 (the
-// exact small-case reference MODEL.md names), done as a product-of-shards recurrence.
+// exact small-case reference docs/model.md names), done as a product-of-shards recurrence.
 
 function logFactorial(n: number): number {
   let sum = 0;

@@ -19,7 +19,7 @@ describe('ringShares', () => {
   });
 
   it('has a share spread of about 1/sqrt(tokens per shard)', () => {
-    // MODEL.md ("Shares are rarely equal"): CV about 1/sqrt(v). Worked out: a shard's share is a sum
+    // docs/model.md ("Shares are rarely equal"): CV about 1/sqrt(v). Worked out: a shard's share is a sum
     // of v of the m v Dirichlet(1, ..., 1) arcs, and the expected sample variance of the m shares
     // gives CV^2 = m / (m v + 1), which is 1/v to within 1/(m v). Tolerance: 5 standard errors of a
     // 20-seed mean of sample CVs, about 10% relative for v >= 16 (near-normal shares) and 20% for

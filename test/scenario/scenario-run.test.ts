@@ -195,7 +195,7 @@ describe('planted ground truth shows in the counts', () => {
       return window.counts.reduce((total, count) => total + (count - fair) ** 2 / fair, 0) / 63;
     };
     for (const offset of [300, 310, 320]) {
-      // MODEL.md: phi about 1 + (N/m) CV^2; CV = 0.07/sqrt(2) and N/m near 850 here: about 3.
+      // docs/model.md: phi about 1 + (N/m) CV^2; CV = 0.07/sqrt(2) and N/m near 850 here: about 3.
       expect(phi(windowAt(offset))).toBeGreaterThan(2);
       expect(
         Math.max(

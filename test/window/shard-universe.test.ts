@@ -19,7 +19,7 @@ function usageMessage(build: () => unknown): string {
 
 describe('ShardUniverse.fromShardsOption', () => {
   it('reads a count as ids 0..n-1 with equal shares', () => {
-    // Expected ids and shares from INTERFACES.md: `--shards 64` means ids 0..63, p_i = 1/64.
+    // Expected ids and shares from docs/formats.md: `--shards 64` means ids 0..63, p_i = 1/64.
     const universe = ShardUniverse.fromShardsOption('64');
     expect(universe.declared).toBe(true);
     expect(universe.size).toBe(64);
@@ -63,7 +63,7 @@ describe('ShardUniverse.fromShardsOption', () => {
   });
 
   it('rejects bad values with a message naming the option and the value', () => {
-    // The wording is the one the brief asks for: option, quoted value, problem.
+    // The wording is the project's usage-error form: option, quoted value, problem.
     expect(usageMessage(() => ShardUniverse.fromShardsOption('0'))).toBe(
       '--shards: "0" is not a positive whole number',
     );
@@ -97,7 +97,7 @@ describe('ShardUniverse.fromShardsOption', () => {
     expect(usageMessage(() => ShardUniverse.fromShardsOption('4', { maxShards: 0 }))).toBe(
       '--max-shards: "0" is not a positive whole number',
     );
-    // Default from INTERFACES.md: 100000.
+    // Default from docs/formats.md: 100000.
     expect(defaultMaxShards).toBe(100_000);
     expect(ShardUniverse.fromShardsOption('100000').size).toBe(100_000);
     expect(() => ShardUniverse.fromShardsOption('100001')).toThrow(UsageError);

@@ -11,7 +11,7 @@ import {
   terminalSafe,
 } from '../../src/window/visible-text.js';
 
-/** One id per kind of hidden character the brief names. */
+/** One id per kind of hidden character the escaping rules name (Unicode C0/C1 controls, bidi controls, zero-width characters). */
 const hiddenIds = {
   osc: 't\u001b]0;owned\u0007',
   csi: 'c\u001b[2J',
