@@ -658,6 +658,11 @@ async function watch(plan: WatchPlan, io: CommandIO): Promise<number> {
     // Last, once the verdict is out: Kafka may now commit past this window's records.
     source.markJudgedUpTo(window.end);
   });
+  // Where each kind of rejection first happened, for the summary (file sources have lines).
+  const firstRejected = new Map<RejectionReason, number>();
+  pipeline.events.on('record rejected', ({ reason, line }) => {
+    if (line !== undefined && !firstRejected.has(reason)) firstRejected.set(reason, line);
+  });
   pipeline.events.on('incident opened', (incident) => incidents.opened.push(incident));
   pipeline.events.on('incident cleared', () => incidents.cleared++);
   pipeline.events.on('source stalled', ({ quietMs }) => {
@@ -710,7 +715,26 @@ async function watch(plan: WatchPlan, io: CommandIO): Promise<number> {
   }
   await output.drained();
   output.check();
-  io.stderr.write(summary(windows, pipeline, incidents, interrupted, retired));
+  io.stderr.write(summary(windows, pipeline, incidents, interrupted, retired, firstRejected));
+  return emptyRunVerdict(pipeline, interrupted || connected, io);
+}
+
+/**
+ * A run that counted no record says so: an empty input exits 0 (an empty log is valid),
+ * an input whose every record was rejected exits 1 (most likely the wrong file or format,
+ * which a script should notice). Interrupted and live-connected runs say nothing more.
+ */
+function emptyRunVerdict(pipeline: JudgingPipeline, quiet: boolean, io: CommandIO): number {
+  const totals = pipeline.totals;
+  if (quiet || totals.records > 0) return 0;
+  const rejected = Object.values(totals.rejected).reduce((sum, count) => sum + (count ?? 0), 0);
+  if (rejected > 0) {
+    io.stderr.write(
+      `shardwise watch: every record was rejected, nothing was judged (reasons and first lines above)\n`,
+    );
+    return 1;
+  }
+  io.stderr.write('shardwise watch: the input held no records, nothing was judged\n');
   return 0;
 }
 
@@ -814,11 +838,15 @@ function summary(
   incidents: { opened: Incident[]; cleared: number; openAtEnd: readonly Incident[] },
   interrupted: boolean,
   retired: number,
+  firstRejected: ReadonlyMap<RejectionReason, number>,
 ): string {
   const totals = pipeline.totals;
   const rejected = rejectionReasons
     .filter((reason) => (totals.rejected[reason] ?? 0) > 0)
-    .map((reason: RejectionReason) => `${reason} ${totals.rejected[reason]}`);
+    .map((reason: RejectionReason) => {
+      const line = firstRejected.get(reason);
+      return `${reason} ${totals.rejected[reason]}${line === undefined ? '' : `, first on line ${line}`}`;
+    });
   const rejectedCount = Object.values(totals.rejected).reduce(
     (sum, count) => sum + (count ?? 0),
     0,
@@ -826,7 +854,7 @@ function summary(
   const lateByPartition = [...totals.lateByPartition].sort(([a], [b]) => a - b);
   const lines = [
     `shardwise watch: ${plural(windows, 'window')} judged, ${plural(totals.recordsSeen, 'record')} read, ${plural(totals.load, 'request')} counted`,
-    `  rejected: ${rejectedCount}${rejected.length > 0 ? ` (${rejected.join(', ')})` : ''}; late: ${plural(totals.late, 'request')} in ${plural(totals.lateRecords, 'record')}`,
+    `  rejected: ${rejectedCount}${rejected.length > 0 ? ` (${rejected.join(firstRejected.size > 0 ? '; ' : ', ')})` : ''}; late: ${plural(totals.late, 'request')} in ${plural(totals.lateRecords, 'record')}`,
   ];
   if (lateByPartition.length > 1 || (lateByPartition.length === 1 && lateByPartition[0][0] !== 0)) {
     lines.push(

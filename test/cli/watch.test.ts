@@ -142,7 +142,9 @@ describe('shardwise watch on a file', () => {
     const [verdict] = verdicts(out);
     expect(verdict.requests).toBe(10);
     expect(verdict.rejected).toEqual({ 'not JSON': 1, 'outside universe': 1, 'negative count': 1 });
-    expect(err).toMatch(/rejected: 3 \(not JSON 1, negative count 1, outside universe 1\)/);
+    expect(err).toMatch(
+      /rejected: 3 \(not JSON 1, first on line 2; negative count 1, first on line 4; outside universe 1\)/,
+    );
   });
 
   it('reads standard input with -, with the cold tests off for an undeclared universe', async () => {
@@ -479,5 +481,24 @@ describe('shardwise watch and review read records through one feed', () => {
       expect(windows.every((verdict) => verdict.requests === 8)).toBe(true);
       expect(judged.err).toContain('rejected: 1 (too far ahead 1); late: 0 requests in 0 records');
     }
+  });
+});
+
+describe('shardwise watch on input it cannot judge', () => {
+  it('says an empty input held no records (exit 0) and an input of only bad records was all rejected, with where (exit 1)', async () => {
+    // Common practice for command-line filters: an empty input is not an error; input of
+    // which nothing is usable most likely is (the wrong file or format).
+    const empty = await run(['watch', '--input', '-', '--no-ui'], '');
+    expect(empty.code).toBe(0);
+    expect(empty.err).toContain('shardwise watch: the input held no records, nothing was judged');
+    const bad = await run(
+      ['watch', '--input', '-', '--no-ui'],
+      'garbage\n{"shard":"a","count":1}\n',
+    );
+    expect(bad.code).toBe(1);
+    expect(bad.err).toContain(
+      'rejected: 2 (not JSON 1, first on line 1; bad timestamp 1, first on line 2)',
+    );
+    expect(bad.err).toContain('shardwise watch: every record was rejected, nothing was judged');
   });
 });
