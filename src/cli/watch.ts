@@ -229,8 +229,9 @@ the source. It stays up when the input ends. Keys:
 
 Findings per window: hotspot, cold, uneven, chance, too little traffic; cold and
 hotspot together are named pattern "failover". Exit status: 0 when the input
-was read to its end (or the run was interrupted), 2 for bad usage, 1 for a
-failure while running.
+was read to its end (or the run was interrupted; an empty input says so), 2 for
+bad usage, 1 for a failure while running or when every record of the input was
+rejected (the summary names the first line of each kind of rejection).
 `;
 
 /** The options parseArgs accepts; exported so a test can hold --help to naming every one. */
