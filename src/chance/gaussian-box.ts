@@ -112,6 +112,10 @@ export function normalBox(cuts: readonly NormalCut[]): NormalBox {
   const top = tops.reduce((s, t) => s + t, 0);
   // The sum of the U_i is 0 while each stays below its cut: impossible unless the cuts sum above 0.
   if (!(top > 0)) return { probability: 0, numericError: 0 };
+  // The lattice step divides the cuts' sum: a sum far below the smallest standard deviation
+  // would ask for a lattice too fine to afford. Not computed (the box is then below about
+  // (8 sum / sd)^(m-1), its complement near 1).
+  if (top < smallest / 8) return { probability: NaN, numericError: Infinity };
   const steps = Math.ceil((8 * top) / smallest);
   const q = [1, 2, 4].map((n) => boxAtStep(cuts, tops, n * steps));
   // Errors a d^2 + b d^4 + ...: two Richardson steps.
