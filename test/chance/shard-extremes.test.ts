@@ -145,8 +145,8 @@ describe('window totals from 1e12 to 2^53 - 1', () => {
   // scipy 1.17.1): two shards as two disjoint binomial tails, three by an Euler-Maclaurin
   // sum over the first shard's count, four in the far tail by a Bonferroni bracket.
   // Three-shard references below 1e-4 come from 1 minus a sum near 1 whose inner terms are
-  // double precision (scipy), so they are not used; from 0.03 up the engine reports the
-  // Bonferroni lower bound (method lower-bound), a known defect checked apart below.
+  // double precision (scipy), so they are not used; from 0.03 up the engine takes the
+  // multinomial's normal limit (method complement-normal), checked apart below.
   const threeCentral = (c: (typeof huge.extremes)[number]) => c.shares.length === 3 && c.p > 0.03;
   const usable = huge.extremes.filter((c) => c.shares.length !== 3 || c.p >= 1e-4);
   const misses = (cases: typeof huge.extremes) => {
@@ -166,9 +166,14 @@ describe('window totals from 1e12 to 2^53 - 1', () => {
     expect(misses(usable.filter((c) => !threeCentral(c)))).toEqual([]);
   });
 
-  // Known defect (left open): the lower-bound method is up to 1.5x off here. Expected to fail.
-  it.fails('three shards from 0.03 up within the accuracy bar (open: lower-bound method)', () => {
-    expect(misses(usable.filter(threeCentral))).toEqual([]);
+  it('three shards from 0.03 up within the accuracy bar (normal limit of the box)', () => {
+    const central = usable.filter(threeCentral);
+    expect(central.length).toBe(24);
+    expect(misses(central)).toEqual([]);
+    for (const c of central) {
+      const groups = c.shares.map((share, i) => ({ share, count: 1, threshold: c.thresholds[i] }));
+      expect(anyShardTail(c.side, c.n, groups).method).toBe('complement-normal');
+    }
   });
 
   it('1e5 weighted shards: fullest and emptiest tails inside the Bonferroni bracket of scipy tails', () => {
