@@ -373,25 +373,19 @@ describe('--help', () => {
   );
 });
 
+/** Writes 80 s of the hot-key drill to `name` (ground truth: it plants "presale:LFT-7781" from 1:00 to 3:00). */
+async function hotKeyDrill(name: string): Promise<string> {
+  const file = join(dir, name);
+  const args = ['simulate', '--scenario', 'hot-key', '--to', file, '--start', start];
+  const simulated = await run([...args, '--seed', '7', '--duration', '80s']);
+  expect(simulated.code).toBe(0);
+  expect(simulated.err).toContain('hot key "presale:LFT-7781"');
+  return file;
+}
+
 describe('shardwise watch with keys', () => {
   it('a simulated hot-key file: the planted key is named in the verdict lines, and --no-keys leaves them out', async () => {
-    // Ground truth: the hot-key drill plants "presale:LFT-7781" from 1:00 to 3:00.
-    const file = join(dir, 'hot-key.jsonl');
-    const simulated = await run([
-      'simulate',
-      '--scenario',
-      'hot-key',
-      '--to',
-      file,
-      '--start',
-      start,
-      '--seed',
-      '7',
-      '--duration',
-      '80s',
-    ]);
-    expect(simulated.code).toBe(0);
-    expect(simulated.err).toContain('hot key "presale:LFT-7781"');
+    const file = await hotKeyDrill('hot-key.jsonl');
     const judged = await run([
       'watch',
       '--input',
@@ -428,22 +422,7 @@ describe('shardwise watch with keys', () => {
 
 describe('shardwise watch and review read records through one feed', () => {
   it('review --input of the hot-key drill names the planted key, as watch does (measured on main: review named none)', async () => {
-    // Ground truth: the hot-key drill plants "presale:LFT-7781" from 1:00 to 3:00.
-    const file = join(dir, 'hot-key-review.jsonl');
-    const simulated = await run([
-      'simulate',
-      '--scenario',
-      'hot-key',
-      '--to',
-      file,
-      '--start',
-      start,
-      '--seed',
-      '7',
-      '--duration',
-      '80s',
-    ]);
-    expect(simulated.code).toBe(0);
+    const file = await hotKeyDrill('hot-key-review.jsonl');
     const reviewed = await run(['review', '--input', file, '--shards', 'seat-00..seat-63']);
     expect(reviewed.code).toBe(0);
     expect(reviewed.out).toContain('presale:LFT-7781');
