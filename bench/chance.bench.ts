@@ -1,6 +1,6 @@
 /**
  * Speed of one full window summary (fullest and emptiest p-values, chance ceiling and floor,
- * empty-shard test, spread) at the sizes MODEL.md sets: equal shares m = 1e5, N = 1e9
+ * empty-shard test, spread) at the sizes of the README's speed targets: equal shares m = 1e5, N = 1e9
  * (target < 10 ms) and weighted shares m = 1e5 (target < 50 ms).
  * Then the weighted summary at m = 1e5 across share spreads and totals (N = 1e6 to 1e9).
  * Run: npx tsx bench/chance.bench.ts   (not part of npm test)

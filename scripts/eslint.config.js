@@ -1,5 +1,5 @@
 // Lint rules for the whole tree. The pure core (chance/, window/, judge/) may not
-// reach for node: modules, Kafka, prom-client or Ink (ARCHITECTURE.md), and only
+// reach for node: modules, Kafka, prom-client or Ink (DEVELOPERS.md, "Layout"), and only
 // cli/ may end the process. keys/ (hot keys versus placement) is pure too; it may use
 // the chance engine, judge/ types and the seeded draws of scenario/, and the core
 // imports nothing from it (judge/ defines the seam it implements).
