@@ -1,5 +1,6 @@
 import { logFactorial, logPoissonDensity } from './discrete-densities.js';
 import { fftConvolve } from './fft-convolution.js';
+import { inversionWork, sumLogDensityAt, type LatticePiece } from './lattice-inversion.js';
 import { log1mExp, logAddExp, logDifference } from './log-space.js';
 import { logBinomialAtLeast, logBinomialAtMost } from './tails.js';
 import {
@@ -253,15 +254,43 @@ function power(base: Lattice, exponent: number, maxValue: number): Lattice {
   return result;
 }
 
+/**
+ * P(W = at) exactly: by inverting W's characteristic function at `at` when that is the
+ * cheaper (many shards: few frequencies are needed), else by convolving the cut mass
+ * functions (repeated squaring within each group, FFT for long factors).
+ */
 function exactLogDensity(tilted: readonly TiltedGroup[], at: number): number {
+  const pieces: LatticePiece[] = tilted.map((t) => ({
+    ...cutMassFunction(t.cut, t.logMass, at),
+    count: t.group.count,
+  }));
+  const convolution = convolutionWorkOf(tilted, at);
+  if (inversionWorkOf(tilted, at) < convolution) {
+    // W's centre is `at` (the saddle point): the inversion's rounding is relative to the
+    // density's peak, so it is used only there. Null when it would cost more than convolving.
+    const inverted = sumLogDensityAt(pieces, at, convolution);
+    if (inverted !== null) return inverted;
+  }
   let result: Lattice = { offset: 0, values: Float64Array.of(1) };
-  for (const t of tilted) {
-    const piece = cutMassFunction(t.cut, t.logMass, at);
-    result = convolve(result, power(piece, t.group.count, at), at);
+  for (const piece of pieces) {
+    result = convolve(result, power(piece, piece.count, at), at);
   }
   const index = at - result.offset;
   if (index < 0 || index >= result.values.length) return -Infinity;
   return Math.log(result.values[index]);
+}
+
+function pieceWidth(sd: number, span: number, at: number): number {
+  return Math.min(span, at + 1, Math.ceil(28 * sd + 30));
+}
+
+function inversionWorkOf(tilted: readonly TiltedGroup[], at: number): number {
+  return inversionWork(
+    tilted.map((t) => {
+      const sd = Math.sqrt(Math.max(t.cumulants[1], 1e-12));
+      return { count: t.group.count, sd, width: pieceWidth(sd, spanOf(t.group), at) };
+    }),
+  );
 }
 
 /** Work of one product of two lattices of these widths (direct, or FFT when both are long). */
@@ -281,11 +310,11 @@ function convolutionWork(
   let width = 0;
   let work = 0;
   for (const { count, sd, span } of pieces) {
-    const pieceWidth = Math.min(span, at + 1, Math.ceil(28 * sd + 30));
+    const single = pieceWidth(sd, span, at);
     const groupWidth = Math.min(
       at + 1,
-      count * pieceWidth,
-      Math.ceil(28 * Math.sqrt(count) * sd) + pieceWidth,
+      count * single,
+      Math.ceil(28 * Math.sqrt(count) * sd) + single,
     );
     work +=
       2 * Math.log2(count + 1) * productCost(groupWidth, groupWidth) +
@@ -300,7 +329,7 @@ function spanOf(group: ShardGroup): number {
   return group.upper < Infinity ? group.upper - group.lower + 1 : Infinity;
 }
 
-function exactWork(tilted: readonly TiltedGroup[], at: number): number {
+function convolutionWorkOf(tilted: readonly TiltedGroup[], at: number): number {
   return convolutionWork(
     tilted.map((t) => ({
       count: t.group.count,
@@ -309,6 +338,11 @@ function exactWork(tilted: readonly TiltedGroup[], at: number): number {
     })),
     at,
   );
+}
+
+/** Work of the cheaper exact method. */
+function exactWork(tilted: readonly TiltedGroup[], at: number): number {
+  return Math.min(convolutionWorkOf(tilted, at), inversionWorkOf(tilted, at));
 }
 
 /**
