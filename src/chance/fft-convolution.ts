@@ -37,6 +37,32 @@ export function fftConvolve(a: Float64Array, b: Float64Array): Float64Array {
   return out;
 }
 
+/** Twiddle tables of the sizes used last (a box's convolutions repeat a few sizes). */
+const twiddleCache = new Map<number, { cosTable: Float64Array; sinTable: Float64Array }>();
+const TWIDDLE_SIZES_KEPT = 6;
+
+/** cos and sin of 2 pi k / n for k < n / 2, each from Math.cos/sin (no drifting recurrence). */
+function twiddles(n: number): { cosTable: Float64Array; sinTable: Float64Array } {
+  const kept = twiddleCache.get(n);
+  if (kept !== undefined) return kept;
+  const cosTable = new Float64Array(n / 2);
+  const sinTable = new Float64Array(n / 2);
+  for (let k = 0; k < n / 2; k++) {
+    const angle = (2 * Math.PI * k) / n;
+    cosTable[k] = Math.cos(angle);
+    sinTable[k] = Math.sin(angle);
+  }
+  const tables = { cosTable, sinTable };
+  // Kept up to 2^20 points (8 MiB of tables at most per size).
+  if (n > 2 ** 20) return tables;
+  if (twiddleCache.size >= TWIDDLE_SIZES_KEPT) {
+    const oldest = twiddleCache.keys().next().value;
+    if (oldest !== undefined) twiddleCache.delete(oldest);
+  }
+  twiddleCache.set(n, tables);
+  return tables;
+}
+
 /** In-place iterative radix-2 transform; twiddles from Math.cos/sin per index (no drifting recurrence). */
 function transform(re: Float64Array, im: Float64Array, inverse: boolean): void {
   const n = re.length;
@@ -53,21 +79,15 @@ function transform(re: Float64Array, im: Float64Array, inverse: boolean): void {
       im[j] = t;
     }
   }
+  const { cosTable, sinTable } = twiddles(n);
   const sign = inverse ? 1 : -1;
-  const cosTable = new Float64Array(n / 2);
-  const sinTable = new Float64Array(n / 2);
-  for (let k = 0; k < n / 2; k++) {
-    const angle = (2 * Math.PI * k) / n;
-    cosTable[k] = Math.cos(angle);
-    sinTable[k] = sign * Math.sin(angle);
-  }
   for (let len = 2; len <= n; len <<= 1) {
     const half = len >> 1;
     const stride = n / len;
     for (let start = 0; start < n; start += len) {
       for (let k = 0; k < half; k++) {
         const wr = cosTable[k * stride];
-        const wi = sinTable[k * stride];
+        const wi = sign * sinTable[k * stride];
         const i = start + k;
         const j = i + half;
         const xr = re[j] * wr - im[j] * wi;
