@@ -190,13 +190,15 @@ function tilt(v: Float64Array, theta: number): { logMgf: number; mean: number; v
  * log of Chernoff's bound inf_theta exp(K_W(theta) - theta x) on P(W >= x) (x above the
  * mean) or P(W <= x) (below), x relative to the sum of the offsets, from the pieces' exact
  * cumulant generating functions. Newton's method on K_W'(theta) = x from the normal
- * optimum; any theta gives a valid bound, so a few steps suffice. O(steps x widths).
+ * optimum; any theta gives a valid bound, so the steps stop once it is below `enough`
+ * (usually the first). O(steps x widths).
  */
 function logTailBound(
   stats: readonly PieceStats[],
   mean: number,
   variance: number,
   x: number,
+  enough: number,
 ): number {
   const gap = x - mean;
   if (gap === 0 || variance === 0) return 0;
@@ -214,7 +216,7 @@ function logTailBound(
     }
     const bound = logMgf - theta * x;
     if (bound < best) best = bound;
-    if (!(tiltedVariance > 0)) break;
+    if (best <= enough || !(tiltedVariance > 0)) break;
     const next = theta + (x - tiltedMean) / tiltedVariance;
     // Stay on the side of the gap; halve towards 0 rather than cross it.
     const kept = next * gap > 0 ? next : theta / 2;
@@ -281,11 +283,13 @@ export function sumLogDensityAt(
   // bound on the aliased mass is negligible (checked, and widened while it is not).
   const sd = Math.sqrt(variance);
   let period = Math.min(support, Math.ceil(2 * (Math.abs(d - mean) + 14 * sd + 16)));
+  // Aliased mass below 1e-20 of the density's own scale (about 1 / (2.5 sd) at the centre).
+  const logFloor = -Math.log(Math.max(2.5 * sd, 1)) - 20 * Math.LN10;
   while (period < support) {
-    const above = d + period <= top ? logTailBound(stats, mean, variance, d + period) : -Infinity;
-    const below = d - period >= 0 ? logTailBound(stats, mean, variance, d - period) : -Infinity;
-    // Aliased mass below 1e-20 of the density's own scale (about 1 / (2.5 sd) at the centre).
-    const logFloor = -Math.log(Math.max(2.5 * sd, 1)) - 20 * Math.LN10;
+    const above =
+      d + period <= top ? logTailBound(stats, mean, variance, d + period, logFloor) : -Infinity;
+    const below =
+      d - period >= 0 ? logTailBound(stats, mean, variance, d - period, logFloor) : -Infinity;
     if (Math.max(above, below) <= logFloor) break;
     period = Math.min(support, Math.ceil(period * 1.5));
   }
