@@ -1,4 +1,4 @@
-import gammaln from '@stdlib/math-base-special-gammaln';
+import { lgamma as gammaln } from 'lib-r-math.js';
 
 /**
  * Published asymptotic forms for the fullest shard, shown beside the exact figures as a
@@ -75,7 +75,7 @@ export function raabStegerMaximum(total: number, shards: number): AsymptoticMaxi
 /**
  * Expected fullest-shard count when N = m: Gamma^{-1}(m) - 3/2, Gonnet (1981), "Expected
  * length of the longest probe sequence in hash code searching", JACM 28(2). The inverse of
- * the gamma function is found by bisection on log Gamma (stdlib gammaln) above its minimum.
+ * the gamma function is found by bisection on log Gamma (lib-r-math.js lgamma, R's lgammafn) above its minimum.
  * O(1). Example: m = 1e6 gives about 8.0.
  */
 export function gonnetExpectedMaximum(shards: number): number {

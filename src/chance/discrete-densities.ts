@@ -1,4 +1,4 @@
-import gammaln from '@stdlib/math-base-special-gammaln';
+import { lgamma as gammaln } from 'lib-r-math.js';
 
 /**
  * Log densities of the Poisson and binomial laws with full relative precision even when
@@ -17,7 +17,7 @@ const HALF_LOG_TWO_PI = 0.5 * LOG_TWO_PI;
 /**
  * Stirling's error term: log(n!) - log(sqrt(2 pi n) (n/e)^n).
  * Loader (2000), section 3: series in 1/n for n > 15, the log-gamma function of
- * @stdlib/math-base-special-gammaln below that (where nothing cancels badly).
+ * lib-r-math.js's lgamma (R's lgammafn) below that (where nothing cancels badly).
  * O(1). Domain n >= 0. Example: stirlingError(1) = log(1) - log(sqrt(2 pi) / e) = 0.0810614667953273.
  */
 export function stirlingError(n: number): number {
@@ -95,7 +95,7 @@ export function logBinomialDensity(k: number, trials: number, share: number): nu
 }
 
 /**
- * Natural log of n! by the log-gamma function of @stdlib/math-base-special-gammaln.
+ * Natural log of n! by the log-gamma function of lib-r-math.js (lgamma, R's lgammafn).
  * O(1). Example: logFactorial(5) = log(120).
  */
 export function logFactorial(n: number): number {

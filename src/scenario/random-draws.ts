@@ -1,4 +1,4 @@
-import gammaln from '@stdlib/math-base-special-gammaln';
+import { lgamma as gammaln } from 'lib-r-math.js';
 import { mersenne, unsafeUniformIntDistribution, type RandomGenerator } from 'pure-rand';
 import { UsageError } from '../window/errors.js';
 
