@@ -8,6 +8,7 @@ import { Judge } from '../src/judge/judge.js';
 import { defaultJudgeSettings, type JudgeSettings } from '../src/judge/judge-settings.js';
 import { ShardUniverse } from '../src/window/shard-universe.js';
 import { MultinomialDraws } from './multinomial-draws.js';
+import { summaryRow } from './summary-row.js';
 
 const windows = Number(process.argv[2] ?? 40);
 if (!Number.isSafeInteger(windows) || windows < 1) {
@@ -71,7 +72,7 @@ for (const perShard of [1, 10, 100, 1000, 10000]) {
   for (const spread of ['exact', 'auto', 'robust'] as const)
     cases.push({ shards: 10_000, perShard, spread });
 }
-for (const perShard of [10, 1000]) cases.push({ shards: 64, perShard, spread: 'auto' });
+for (const perShard of [10, 1000, 6250]) cases.push({ shards: 64, perShard, spread: 'auto' });
 for (const perShard of [10, 10000])
   cases.push({ shards: 100_000, perShard, spread: 'auto', windows: 10 });
 // Weighted shares with every share distinct: the chance engine's slow path (few windows).
@@ -91,5 +92,19 @@ for (const test of cases) {
     `| ${test.shards} | ${test.perShard} | ${test.weighted ? 'weighted (map)' : 'equal'} | ${test.spread} | ${result.count} | ${result.median.toFixed(2)} | ${result.p95.toFixed(2)} | ${result.max.toFixed(2)} |`,
   );
   process.stderr.write(`${lines[lines.length - 1]}\n`);
+  if (test.shards === 64 && test.perShard === 6250) {
+    summaryRow(
+      'judging one window, m = 64, N/m = 6250',
+      `median ${result.median.toFixed(2)} ms, max ${result.max.toFixed(1)} ms`,
+      '< 2 ms',
+    );
+  }
+  if (test.shards === 10_000 && test.perShard === 10 && test.spread === 'auto') {
+    summaryRow(
+      'judging one window, m = 1e4, N/m = 10',
+      `median ${result.median.toFixed(2)} ms`,
+      '< 5 ms',
+    );
+  }
 }
 process.stdout.write(lines.join('\n') + '\n');

@@ -1,11 +1,13 @@
 // `npm run bench`: every bench, one after another, each printing its own table, then a
-// line per bench with its wall time and exit status. The Kafka benches run when a test
+// line per bench with its wall time and exit status, and a closing table of the headline
+// figures the benches report (bench/summary-row.ts) beside their targets. The Kafka benches run when a test
 // broker answers (KAFKA_BROKERS, or `bash scripts/kafka-broker.sh start`), and say so when
 // none does; the benches of the built CLI build it first. Never part of `npm test`.
 //
 //   npm run bench                 all of them (about half an hour on 2 cores)
 //   npm run bench -- chance judge only the benches whose file name starts with these words
-import { spawnSync } from 'node:child_process';
+import { spawn, spawnSync } from 'node:child_process';
+import { createInterface } from 'node:readline';
 import { dirname, join } from 'node:path';
 import { fileURLToPath } from 'node:url';
 import { brokerAddress } from '../test/e2e/kafka-env.js';
@@ -20,6 +22,7 @@ interface Bench {
 }
 
 const benches: readonly Bench[] = [
+  { file: 'odds.bench.ts', args: [], needs: 'build' },
   { file: 'chance.bench.ts', args: [] },
   { file: 'judge.bench.ts', args: [] },
   { file: 'huge-totals.bench.ts', args: ['3'] },
@@ -28,6 +31,7 @@ const benches: readonly Bench[] = [
   { file: 'calibration.bench.ts', args: [] },
   { file: 'metrics-scrape.bench.ts', args: [] },
   { file: 'review.bench.ts', args: [], needs: 'build' },
+  { file: 'watch-input.bench.ts', args: [], needs: 'build' },
   { file: 'kafka-throughput.bench.ts', args: [], needs: 'broker' },
   { file: 'scale-out.bench.ts', args: [], needs: 'broker' },
 ];
@@ -51,6 +55,27 @@ function brokerAnswers(): boolean {
 }
 
 const results: string[] = [];
+/** Rows a bench printed as `SUMMARY<TAB>what<TAB>measured<TAB>target` (bench/summary-row.ts). */
+const summary: string[][] = [];
+
+/** Runs one bench, its output passed through as it comes, its summary rows kept. */
+function runPassingThrough(
+  bench: Bench,
+): Promise<{ status: number | null; signal: NodeJS.Signals | null }> {
+  const child = spawn(
+    process.execPath,
+    [...(bench.nodeFlags ?? []), '--import', 'tsx', join(root, 'bench', bench.file), ...bench.args],
+    { cwd: root, stdio: ['inherit', 'pipe', 'inherit'] },
+  );
+  const lines = createInterface({ input: child.stdout });
+  lines.on('line', (line) => {
+    if (line.startsWith('SUMMARY\t')) summary.push(line.split('\t').slice(1, 4));
+    else console.log(line);
+  });
+  return new Promise((resolve) => {
+    child.on('close', (status, signal) => resolve({ status, signal }));
+  });
+}
 let built = false;
 let failed = false;
 for (const bench of chosen) {
@@ -71,11 +96,7 @@ for (const bench of chosen) {
   }
   console.log(`\n== ${bench.file} ${bench.args.join(' ')}`);
   const started = performance.now();
-  const run = spawnSync(
-    process.execPath,
-    [...(bench.nodeFlags ?? []), '--import', 'tsx', join(root, 'bench', bench.file), ...bench.args],
-    { cwd: root, stdio: 'inherit' },
-  );
+  const run = await runPassingThrough(bench);
   const seconds = ((performance.now() - started) / 1000).toFixed(1);
   if (run.status !== 0) failed = true;
   results.push(
@@ -83,4 +104,11 @@ for (const bench of chosen) {
   );
 }
 console.log(`\n== benches\n${results.join('\n')}`);
+if (summary.length > 0) {
+  console.log('\n== headline figures (each from the bench above that printed it)\n');
+  console.log('| what | measured | target |');
+  console.log('| --- | --- | --- |');
+  for (const [what, measured, target] of summary)
+    console.log(`| ${what} | ${measured} | ${target} |`);
+}
 process.exit(failed ? 1 : 0);
