@@ -32,7 +32,7 @@ export function htmlReport(
   const episodes =
     model.episodes.length === 0
       ? '<p class="empty">No episode: no shard was flagged and no window-wide finding held.</p>'
-      : `<table id="episode-table">
+      : `<div class="table-scroll"><table id="episode-table">
 <thead><tr>${episodeColumns.map((column) => `<th scope="col">${h(column)}</th>`).join('')}</tr></thead>
 <tbody>
 ${model.episodes
@@ -41,12 +41,12 @@ ${model.episodes
       `<tr class="finding-${h(episode.finding.replace(/ /g, '-'))}" title="${h(`${episode.finding} on ${episode.shard ?? 'all shards'}`)}">${episodeCells(
         episode,
       )
-        .map((cell, at) => (at === 1 ? `<td class="shard">${h(cell)}</td>` : `<td>${h(cell)}</td>`))
+        .map((cell, at) => `<td${cellClass(at, cell)}>${h(cell)}</td>`)
         .join('')}</tr>`,
   )
   .join('\n')}
 </tbody>
-</table>`;
+</table></div>`;
   const causes = causeLines(model);
   const causeList =
     causes.length === 0
@@ -101,7 +101,10 @@ dl.summary dd { margin: 0; }
 table { border-collapse: collapse; width: 100%; font-size: 0.85rem; }
 th, td { border: 1px solid #d1d5db; padding: 0.25rem 0.4rem; text-align: left; vertical-align: top; }
 th { background: #f3f4f6; }
-td.shard { font-family: monospace; overflow-wrap: anywhere; }
+td.shard { font-family: monospace; }
+td.whole { white-space: nowrap; }
+td.long-id { overflow-wrap: anywhere; min-width: 16ch; }
+.table-scroll { overflow-x: auto; }
 tr.finding-hotspot td:first-child { border-left: 4px solid #c2410c; }
 tr.finding-cold td:first-child { border-left: 4px solid #1d4ed8; }
 tr.finding-uneven td:first-child { border-left: 4px solid #7e22ce; }
@@ -149,4 +152,21 @@ ${notes}
 </body>
 </html>
 `;
+}
+
+/** Longest shard id kept on one line in the episode table; longer ones may break anywhere. */
+const LONGEST_WHOLE_ID = 40;
+
+/**
+ * The class of an episode-table cell: ids (up to {@link LONGEST_WHOLE_ID} characters),
+ * times, durations, counts, loads and p-values never break across lines (the table
+ * scrolls sideways instead); the finding and the cause are words and wrap.
+ */
+function cellClass(column: number, cell: string): string {
+  const name = episodeColumns[column];
+  if (name === 'shard') {
+    return cell.length > LONGEST_WHOLE_ID ? ' class="shard long-id"' : ' class="shard whole"';
+  }
+  if (name === 'finding' || name === 'cause from keys') return '';
+  return ' class="whole"';
 }

@@ -24,7 +24,6 @@ export interface RenderedChart {
 /** Most time columns drawn per chart. */
 export const mostColumns = 720;
 const width = 760;
-const smallestP = 1e-300;
 
 /** Colours of the findings (our own palette). */
 export const findingColours: Readonly<Record<Finding, string>> = {
@@ -274,9 +273,20 @@ function histogramSpec(model: ReviewModel) {
   };
 }
 
+/**
+ * The lowest p-value the p-value chart's axis reaches: 1e-15 (1e-6 of alpha when alpha is
+ * smaller still). Below it every p-value is overwhelming evidence alike, and an axis run on
+ * to 1e-300 would squeeze alpha against p = 1; such values are drawn on the bottom edge and
+ * marked.
+ */
+export function pValueFloor(alpha: number): number {
+  return Math.min(1e-15, alpha * 1e-6);
+}
+
 function pValueSpec(model: ReviewModel, columns: Column[]) {
   const s = model.series;
-  const values: { t: number; test: string; p: number }[] = [];
+  const floor = pValueFloor(model.settings.alpha);
+  const values: { t: number; test: string; p: number; beyond: boolean }[] = [];
   const tests: [string, Float64Array][] = [
     ['fullest shard', s.fullestP],
     ['emptiest shard', s.emptiestP],
@@ -289,44 +299,72 @@ function pValueSpec(model: ReviewModel, columns: Column[]) {
         if (Number.isFinite(series[at]) && !(series[at] >= least)) least = series[at];
       }
       if (Number.isFinite(least)) {
-        values.push({ t: s.start[column.start], test, p: Math.max(least, smallestP) });
+        values.push({
+          t: s.start[column.start],
+          test,
+          p: Math.max(least, floor),
+          beyond: least < floor,
+        });
       }
     }
   }
   if (values.length === 0) return null;
   const lowest = Math.min(...values.map((v) => v.p), model.settings.alpha / 10);
+  const domain = ['fullest shard', 'emptiest shard', 'spread'];
+  const range = [findingColours.hotspot, findingColours.cold, findingColours.uneven];
+  const x = { field: 't', type: 'temporal', ...utcAxisFor(model) };
+  const y = {
+    field: 'p',
+    type: 'quantitative',
+    title: 'p-value',
+    scale: { type: 'log', domain: [lowest, 1] },
+    axis: { format: '.0e' },
+  };
+  // One layer per test, the widest drawn first, so that tests at the same p-value (a dead
+  // shard and the spread both at the floor) stay visible: solid over dashed over dotted.
+  const styles: Record<string, { strokeWidth: number; strokeDash: number[] }> = {
+    spread: { strokeWidth: 3.2, strokeDash: [2, 2] },
+    'emptiest shard': { strokeWidth: 2.2, strokeDash: [6, 3] },
+    'fullest shard': { strokeWidth: 1.2, strokeDash: [1, 0] },
+  };
+  const lines = ['spread', 'emptiest shard', 'fullest shard'].map((test) => ({
+    data: { values: values.filter((v) => v.test === test) },
+    mark: { type: 'line', interpolate: 'step-after', ...styles[test] },
+    encoding: {
+      x,
+      y,
+      color: {
+        field: 'test',
+        type: 'nominal',
+        title: null,
+        scale: { domain, range },
+        legend: test === 'fullest shard' ? { orient: 'top' } : null,
+      },
+    },
+  }));
+  const beyond = values.filter((v) => v.beyond);
   return {
     id: 'pvalues',
     title: 'p-values over time (log scale)',
-    caption: `The p-value of each test per window under the ${model.settings.null} null: the fullest shard (P of a load this high on some shard by chance), the emptiest shard, and the spread (Pearson X^2). The dashed line is alpha = ${model.settings.alpha}; below it the test rejects random placement. Values below 1e-300 are drawn at 1e-300. ${thinningNote(model, columns, 'the smallest p-value')}`,
+    caption: `The p-value of each test per window under the ${model.settings.null} null: the fullest shard (P of a load this high on some shard by chance), the emptiest shard, and the spread (Pearson X^2). The dashed line is alpha = ${model.settings.alpha}; below it the test rejects random placement. The axis stops at ${floor.toExponential(0)}: smaller p-values (${beyond.length === 0 ? 'none here' : `${beyond.length} here`}) are drawn on its bottom edge, each marked with a downward triangle; the episode table gives the least p exactly. ${thinningNote(model, columns, 'the smallest p-value')}`,
     spec: {
       width,
       height: 220,
       layer: [
-        {
-          data: { values },
-          mark: { type: 'line', strokeWidth: 1.2, interpolate: 'step-after' },
-          encoding: {
-            x: { field: 't', type: 'temporal', ...utcAxisFor(model) },
-            y: {
-              field: 'p',
-              type: 'quantitative',
-              title: 'p-value',
-              scale: { type: 'log', domain: [lowest, 1] },
-              axis: { format: '.0e' },
-            },
-            color: {
-              field: 'test',
-              type: 'nominal',
-              title: null,
-              scale: {
-                domain: ['fullest shard', 'emptiest shard', 'spread'],
-                range: [findingColours.hotspot, findingColours.cold, findingColours.uneven],
+        ...lines,
+        ...(beyond.length === 0
+          ? []
+          : [
+              {
+                data: { values: beyond },
+                mark: { type: 'point', shape: 'triangle-down', filled: true, size: 36 },
+                encoding: {
+                  x,
+                  y,
+                  color: { field: 'test', type: 'nominal', scale: { domain, range }, legend: null },
+                },
               },
-              legend: { orient: 'top' },
-            },
-          },
-        },
+            ]),
         {
           data: { values: [{ alpha: model.settings.alpha }] },
           mark: { type: 'rule', strokeDash: [5, 3], color: '#111827' },

@@ -27,13 +27,21 @@ function htmlReferences(text: string): string {
 }
 
 /**
- * Markdown table cells and text: HTML's specials as character references (Markdown passes
- * raw HTML through), Markdown's own punctuation backslash-escaped, and line breaks, other
- * controls, bidi controls and invisible characters shown as \u escapes so a cell stays one
- * cell and reads as what it holds.
+ * Markdown table cells and text, readable as plain text and inert when rendered. Markdown
+ * passes raw HTML through, so a `<` that could open a tag, a comment or an autolink (before
+ * a letter, `/`, `!` or `?`) and an `&` that could open a character reference are
+ * backslash-escaped (CommonMark 0.31.2, section 2.4: any ASCII punctuation may be), as is
+ * Markdown's own punctuation; anything else stays as written (`< 1e-300`, quotes). Line
+ * breaks, other controls, bidi controls and invisible characters are shown as \u escapes
+ * so a cell stays one cell and reads as what it holds.
  */
 export function escapeMarkdown(text: string): string {
-  return codePointEscapes(htmlReferences(text).replace(/[\\`*_{}[\]|~]/g, (c) => `\\${c}`));
+  return codePointEscapes(
+    text
+      .replace(/[\\`*_{}[\]|~]/g, (c) => `\\${c}`)
+      .replace(/<(?=[A-Za-z/!?])/g, '\\<')
+      .replace(/&(?=#?[A-Za-z0-9]+;)/g, '\\&'),
+  );
 }
 
 /** 12 345 678 as "12,345,678"; fractions rounded to whole requests. */

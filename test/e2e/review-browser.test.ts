@@ -124,6 +124,35 @@ describe('the HTML report in headless Chromium', () => {
     expect(colours.size).toBeGreaterThan(100);
     expect(inked / (png.width * png.height)).toBeGreaterThan(0.02);
     writeFileSync(join(dir, 'demo.png'), Buffer.from(await page.screenshot({ type: 'png' })));
+
+    // The episode table at a laptop's width and at a narrow one: no shard id, time, count,
+    // load or p-value breaks across lines (the table scrolls sideways instead). A cell's
+    // text on one line has one line box (Range.getClientRects, CSSOM View).
+    for (const viewportWidth of [1000, 640]) {
+      await page.setViewport({ width: viewportWidth, height: 800 });
+      const broken = await page.evaluate(() => {
+        // Columns shard, start, end, duration, flagged windows, peak load, the two request
+        // counts and least p (finding and cause are words and may wrap).
+        const cells = [...document.querySelectorAll('#episode-table tbody tr')].flatMap((row) =>
+          [...row.querySelectorAll('td')].slice(1, 10),
+        );
+        return {
+          cells: cells.length,
+          broken: cells
+            .filter((cell) => {
+              const range = document.createRange();
+              range.selectNodeContents(cell);
+              const lines = new Set(
+                [...range.getClientRects()].map((rect) => Math.round(rect.top)),
+              );
+              return lines.size > 1;
+            })
+            .map((cell) => cell.textContent),
+        };
+      });
+      expect(broken.cells).toBeGreaterThan(20);
+      expect(broken.broken).toEqual([]);
+    }
     await page.close();
   });
 

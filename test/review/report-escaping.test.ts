@@ -1,6 +1,7 @@
 import { mkdtempSync, readFileSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
+import { HtmlRenderer, Parser } from 'commonmark';
 import { describe, expect, it } from 'vitest';
 import { episodeColumns, escapeHtml, escapeMarkdown } from '../../src/review/report-text.js';
 import { countReports, hostileIds, runCli } from './cli-run.js';
@@ -32,8 +33,14 @@ describe('untrusted shard ids in the report', () => {
     // No tag gained an event-handler attribute: the quotes in the ids stayed inside values.
     expect(attributeNames(page).filter((name) => name.startsWith('on'))).toEqual([]);
     const md = readFileSync(markdown, 'utf8');
-    expect(md).not.toMatch(/<script|<img/i);
-    expect(md).toContain('&lt;script&gt;alert(1)&lt;/script&gt;');
+    expect(md).not.toMatch(/(?<!\\)<(script|img)/i);
+    // Plain-text readable: a backslash before the `<` that could open a tag, nothing else.
+    expect(md).toContain('\\<script>alert(1)\\</script>');
+    // Rendered by the CommonMark reference implementation (commonmark 0.31.2 on npm), the
+    // ids are text, not elements.
+    const rendered = new HtmlRenderer().render(new Parser().parse(md));
+    expect(rendered).not.toMatch(/<script|<img/i);
+    expect(rendered).toContain('&lt;script&gt;alert(1)&lt;/script&gt;');
     // Episode rows keep their column count: a | in an id is escaped.
     const rows = md.split('\n').filter((line) => line.startsWith('| hotspot'));
     expect(rows.length).toBeGreaterThan(0);
@@ -68,5 +75,14 @@ describe('escapers', () => {
 
   it('escapeMarkdown keeps a table cell one cell on one line', () => {
     expect(escapeMarkdown('a|b\nc*d_')).toBe('a\\|b\\u000ac\\*d\\_');
+  });
+
+  it('escapeMarkdown leaves text that cannot open HTML as written', () => {
+    // A < before a space, and quotes, are plain text in CommonMark 0.31.2 (section 6.6: a
+    // tag opens with < and a letter, /, ! or ?); only openers are escaped (section 2.4).
+    expect(escapeMarkdown(`< 1e-300, "uneven", cluster's`)).toBe(`< 1e-300, "uneven", cluster's`);
+    expect(escapeMarkdown('<b> &amp; &#39;')).toBe('\\<b> \\&amp; \\&#39;');
+    const rendered = new HtmlRenderer().render(new Parser().parse(escapeMarkdown('<b> &amp;')));
+    expect(rendered).toBe('<p>&lt;b&gt; &amp;amp;</p>\n');
   });
 });
