@@ -145,16 +145,28 @@ export const oddsCommand: Command = {
       return 0;
     }
     const unit = weighted ? 'relative load (x / (N p))' : 'requests';
+    // Relative loads to four decimals (weighted quantiles are located to 1e-5 relative),
+    // requests as whole counts, the means to one more place.
+    const load = (value: number): string =>
+      weighted ? value.toFixed(4) : Number.isInteger(value) ? String(value) : value.toFixed(1);
+    let smallest = Infinity;
+    let largest = 0;
+    for (const share of placement.shares ?? []) {
+      smallest = Math.min(smallest, share);
+      largest = Math.max(largest, share);
+    }
     const lines = [
-      `${requests} requests on ${placement.shardCount} shards, ${weighted ? 'shares from the shard map' : 'equal shares'} (fair share ${formatNumber(fair)} requests)`,
+      weighted
+        ? `${requests} requests on ${placement.shardCount} shards, shares from the shard map (expected loads N p from ${formatNumber(requests * smallest)} to ${formatNumber(requests * largest)} requests)`
+        : `${requests} requests on ${placement.shardCount} shards, equal shares (fair share ${formatNumber(fair)} requests)`,
       '',
-      `fullest shard (${unit}): mean ${formatNumber(result.max.mean)}`,
+      `fullest shard (${unit}): mean ${load(result.max.mean)}`,
       ...MAX_LEVELS.map(
-        (l) => `  ${`${Number(l) * 100}%`.padStart(6)} quantile  ${formatNumber(maxQuantiles[l])}`,
+        (l) => `  ${`${Number(l) * 100}%`.padStart(6)} quantile  ${load(maxQuantiles[l])}`,
       ),
-      `emptiest shard (${unit}): mean ${formatNumber(result.min.mean)}`,
+      `emptiest shard (${unit}): mean ${load(result.min.mean)}`,
       ...MIN_LEVELS.map(
-        (l) => `  ${`${Number(l) * 100}%`.padStart(6)} quantile  ${formatNumber(minQuantiles[l])}`,
+        (l) => `  ${`${Number(l) * 100}%`.padStart(6)} quantile  ${load(minQuantiles[l])}`,
       ),
       `empty shards: mean ${formatNumber(moments.mean)}, variance ${formatNumber(moments.variance)}`,
     ];

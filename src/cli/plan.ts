@@ -30,6 +30,8 @@ Options:
   --help              this text
 
 The per-day figure treats windows as independent: 1 - (1 - p)^(windows per day).
+A chance below 1e-300 a window is shown as "< 1e-300" and its day as the bound that
+gives ("< 1e-296" for 10 s windows); --json then has 1e-300 and "exceedIsBound": true.
 Asymptotic forms (Raab and Steger 1998; Gonnet 1981 when N = m) are shown as a
 cross-check only.
 `;
@@ -42,6 +44,11 @@ interface Row {
   headroom: number;
   exceedPerWindow: number;
   exceedPerDay: number;
+  /**
+   * True when the chance per window is below the reporting floor 1e-300: both exceed
+   * figures are then upper bounds (1e-300, and 1e-300 times the windows in a day).
+   */
+  exceedIsBound: boolean;
   asymptotic: { count: number | null; regime: string; source: string };
   gonnet?: number;
   twoChoice?: TwoChoiceEstimate;
@@ -60,6 +67,9 @@ function parseShardCounts(raw: string): number[] {
   counts.add(high);
   return [...counts].sort((a, b) => a - b);
 }
+
+/** Probabilities below this are reported as this (and said to be a bound). */
+const PROBABILITY_FLOOR = 1e-300;
 
 function perDay(perWindow: number, windowMs: number): number {
   const windows = 86_400_000 / windowMs;
@@ -120,6 +130,7 @@ export const planCommand: Command = {
         headroom: fair > 0 ? ceiling / fair : 0,
         exceedPerWindow: exceed,
         exceedPerDay: perDay(exceed, windowMs),
+        exceedIsBound: exceed > 0 && exceed <= PROBABILITY_FLOOR,
         asymptotic: raabStegerMaximum(requests, shards),
       };
       if (requests === shards) row.gonnet = gonnetExpectedMaximum(shards);
@@ -191,8 +202,11 @@ export const planCommand: Command = {
           formatNumber(r.fairShare).padStart(10),
           String(r.ceiling).padStart(8 + String(level).length),
           `${formatNumber(r.headroom, 4)}x`.padStart(8),
-          formatNumber(r.exceedPerWindow, 4).padStart(16),
-          formatNumber(r.exceedPerDay, 4).padStart(13),
+          (r.exceedIsBound ? '< 1e-300' : formatNumber(r.exceedPerWindow, 4)).padStart(16),
+          (r.exceedIsBound
+            ? `< 1e${Math.ceil(Math.log10(r.exceedPerDay))}`
+            : formatNumber(r.exceedPerDay, 4)
+          ).padStart(13),
           (r.asymptotic.count === null
             ? `- (${r.asymptotic.regime})`
             : formatNumber(r.asymptotic.count, 6)

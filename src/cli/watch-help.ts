@@ -21,7 +21,8 @@ Source (exactly one):
                           is quiet, windows close as event time is taken to move
                           on with the wall clock.
   --scenario NAME         a built-in simulated cluster: demo, chance, hotspot,
-                          dead-shard, failover, zipf-keys, weighted, diurnal
+                          dead-shard, failover, zipf-keys, weighted, diurnal,
+                          hot-key, biased-partitioner, keyed-failover
     --seed S              its seed, 0..4294967295 (default 1)
     --duration D          its length, e.g. 10m (default: with --pace fast the
                           scenario's suggested length, in real time until

@@ -95,6 +95,23 @@ describe('shardwise odds', () => {
     expect(result.answers[0].probability).toBeCloseTo(9 / 16, 12);
   });
 
+  it('with a shard map names the range of expected loads, not one fair share, and one precision', async () => {
+    const dir = mkdtempSync(join(tmpdir(), 'shardwise-odds-'));
+    const map = join(dir, 'map.csv');
+    writeFileSync(map, 'shard,weight\na,1\nb,2\nc,1.5\nd,0.5\n');
+    const { code, out } = await run(['odds', '--shard-map', map, '--requests', '10000']);
+    expect(code).toBe(0);
+    // Shares 1/5, 2/5, 3/10, 1/10 of 10 000 (worked by hand): expected loads 1000 to 4000.
+    expect(out.split('\n')[0]).toContain('expected loads N p from 1000 to 4000 requests');
+    expect(out).not.toContain('fair share');
+    const loads = out
+      .split('\n')
+      .filter((line) => /quantile|mean/.test(line) && !line.startsWith('empty'))
+      .map((line) => line.trim().split(/\s+/).pop() ?? '');
+    expect(loads.length).toBe(10);
+    for (const value of loads) expect(value).toMatch(/^\d\.\d{4}$/);
+  });
+
   it('prints a readable table without --json', async () => {
     const { code, out } = await run([
       'odds',
@@ -168,6 +185,21 @@ describe('shardwise plan', () => {
     // The per-day figure is 1 - (1 - p)^8640 for 10 s windows (definition).
     expect(row.exceedPerDay).toBeCloseTo(-Math.expm1(8640 * Math.log1p(-row.exceedPerWindow)), 12);
     expect(result.smallestShardsMeetingTarget).toBeGreaterThan(0);
+  });
+
+  it('says a chance below the 1e-300 floor is a bound, not 1e-300 times the windows in a day', async () => {
+    // 10 000 requests/s on 64 shards with 400/s capacity: 4000 per 10 s window against a
+    // fair share of 1562.5 (about 62 standard deviations): far below 1e-300 (definition of
+    // the floor in docs/formats.md).
+    const args = ['plan', '--rate', '10000', '--capacity', '400', '--shards', '64'];
+    const table = await run(args);
+    expect(table.code).toBe(0);
+    expect(table.out).not.toMatch(/\d\.\d+e-29\d/);
+    const row = table.out.split('\n').find((line) => line.trimStart().startsWith('64 '));
+    expect(row).toMatch(/< 1e-300 +< 1e-296/);
+    const json = JSON.parse((await run([...args, '--json'])).out);
+    expect(json.rows[0].exceedIsBound).toBe(true);
+    expect(json.rows[0].exceedPerWindow).toBe(1e-300);
   });
 
   it('two-choice what-if is seeded and lowers the fullest shard (Azar et al. 1999, balanced allocations)', async () => {

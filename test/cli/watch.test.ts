@@ -7,6 +7,7 @@ import { main } from '../../src/cli/main.js';
 import { simulateCommand, simulateOptions } from '../../src/cli/simulate.js';
 import { watchCommand, watchOptions } from '../../src/cli/watch.js';
 import type { Judgement } from '../../src/judge/judgement.js';
+import { builtInScenarios } from '../../src/scenario/built-in-scenarios.js';
 import { runScenario } from '../../src/scenario/scenario-run.js';
 
 async function run(
@@ -371,6 +372,18 @@ describe('--help', () => {
       for (const option of named) expect(Object.keys(options)).toContain(option);
     },
   );
+
+  it.each([
+    ['watch', watchCommand.help],
+    ['simulate', simulateCommand.help],
+  ] as const)('%s --help names every built-in scenario', (_name, help) => {
+    // The list under --scenario, up to the next option line.
+    const from = help.indexOf('\n  --scenario NAME');
+    const rest = help.slice(from + 1);
+    const list = rest.slice(0, rest.search(/\n {2,4}-/)).replace(/\s+/g, ' ');
+    for (const scenario of builtInScenarios.keys())
+      expect(list).toMatch(new RegExp(`\\b${scenario}\\b`));
+  });
 });
 
 /** Writes 80 s of the hot-key drill to `name` (ground truth: it plants "presale:LFT-7781" from 1:00 to 3:00). */
