@@ -121,6 +121,8 @@ const CONVOLVED_TERM_STEPS = 5e4;
  * most the whole range. An estimate for choosing the method, not a bound used in the sum.
  */
 function estimatedTerms(distance: number, deviation: number, range: number): number {
+  // E all but fixed (its variance underflows once requests far outnumber shards): a term or two.
+  if (!(deviation > 0) || !Number.isFinite(distance)) return Math.min(range, 2);
   const d = Math.max(0, distance);
   const span = deviation * (Math.sqrt(d * d + 2 * 41.4) - d);
   return Math.min(range, span + 2);
