@@ -8,6 +8,11 @@
 // of requests is fixed; at most `maxInFlight` may be outstanding (the rest count as
 // dropped), and each has a timeout. The target is p99 under 50 ms at about 200 scrapes/s.
 //
+// Before that, in this process and without the load: the CPU time of one /metrics render
+// with a judged window in the registry (64 shards, 8 flagged), the registry's full render
+// beside the exporter's (window metrics kept per judged window), which a loaded machine's
+// scheduling cannot blur.
+//
 // Run: npx tsx bench/metrics-scrape.bench.ts [scrapes per second, default 200]
 //        [seconds, default 20] [records per second, default 100000]
 import { spawn } from 'node:child_process';
@@ -15,6 +20,11 @@ import { Agent, request } from 'node:http';
 import { loadavg } from 'node:os';
 import { fileURLToPath } from 'node:url';
 import { setTimeout as sleep } from 'node:timers/promises';
+import { VerdictMetrics } from '../src/exporter/verdict-metrics.js';
+import { Judge } from '../src/judge/judge.js';
+import { defaultJudgeSettings } from '../src/judge/judge-settings.js';
+import { JudgingPipeline } from '../src/judge/judging-pipeline.js';
+import { runScenario } from '../src/scenario/scenario-run.js';
 
 const shards = 64;
 const maxInFlight = 64;
@@ -110,7 +120,41 @@ async function metricValue(url: string, pattern: RegExp): Promise<number> {
   return Number(match[1]);
 }
 
+/** CPU time of one render, µs (median of 2000 after 200 warm-ups), full and kept. */
+async function renderCost(): Promise<void> {
+  const startMs = Date.UTC(2025, 11, 1);
+  const run = runScenario('hotspot', { seed: 5, startMs, durationMs: 90_000 });
+  const settings = { ...defaultJudgeSettings, null: 'map' as const, hopMs: 1000 };
+  const judge = new Judge(run.universe, settings);
+  const pipeline = new JudgingPipeline(
+    run.universe,
+    { windowMs: 1000, latenessMs: 0 },
+    judge,
+    () => startMs + 100_000,
+  );
+  const metrics = new VerdictMetrics(pipeline, { settings, windowMs: 1000, latenessMs: 0 });
+  for (const record of run.records()) pipeline.record(record.ts, record.shard, record.count);
+  const time = async (render: () => Promise<string>) => {
+    const times: number[] = [];
+    for (let i = 0; i < 2200; i++) {
+      const t = process.cpuUsage();
+      await render();
+      const used = process.cpuUsage(t);
+      if (i >= 200) times.push(used.user + used.system);
+    }
+    times.sort((a, b) => a - b);
+    return times[times.length >> 1];
+  };
+  const full = await time(() => metrics.registry.metrics());
+  const kept = await time(() => metrics.render());
+  console.log(
+    `one /metrics render, CPU µs (median): registry render ${full}, exporter's kept render ${kept}`,
+  );
+  metrics.close();
+}
+
 async function bench(): Promise<void> {
+  await renderCost();
   const rate = parsePositive(process.argv[2], 200, 'scrapes per second');
   const seconds = parsePositive(process.argv[3], 20, 'seconds');
   const recordsPerSecond = parsePositive(process.argv[4], 100_000, 'records per second');

@@ -17,12 +17,12 @@ const root = join(dirname(fileURLToPath(import.meta.url)), '..');
 interface Bench {
   readonly file: string;
   readonly args: readonly string[];
-  readonly needs?: 'broker' | 'build';
+  readonly needs?: readonly ('broker' | 'build')[];
   readonly nodeFlags?: readonly string[];
 }
 
 const benches: readonly Bench[] = [
-  { file: 'odds.bench.ts', args: [], needs: 'build' },
+  { file: 'odds.bench.ts', args: [], needs: ['build'] },
   { file: 'chance.bench.ts', args: [] },
   { file: 'judge.bench.ts', args: [] },
   { file: 'huge-totals.bench.ts', args: ['3'] },
@@ -30,10 +30,10 @@ const benches: readonly Bench[] = [
   { file: 'keys.bench.ts', args: [], nodeFlags: ['--expose-gc'] },
   { file: 'calibration.bench.ts', args: [] },
   { file: 'metrics-scrape.bench.ts', args: [] },
-  { file: 'review.bench.ts', args: [], needs: 'build' },
-  { file: 'watch-input.bench.ts', args: [], needs: 'build' },
-  { file: 'kafka-throughput.bench.ts', args: [], needs: 'broker' },
-  { file: 'scale-out.bench.ts', args: [], needs: 'broker' },
+  { file: 'review.bench.ts', args: [], needs: ['build'] },
+  { file: 'watch-input.bench.ts', args: [], needs: ['build'] },
+  { file: 'kafka-throughput.bench.ts', args: [], needs: ['broker', 'build'] },
+  { file: 'scale-out.bench.ts', args: [], needs: ['broker', 'build'] },
 ];
 
 const wanted = process.argv.slice(2);
@@ -79,13 +79,13 @@ function runPassingThrough(
 let built = false;
 let failed = false;
 for (const bench of chosen) {
-  if (bench.needs === 'broker' && !brokerAnswers()) {
+  if (bench.needs?.includes('broker') && !brokerAnswers()) {
     results.push(
       `${bench.file.padEnd(28)} skipped: no test broker (bash scripts/kafka-broker.sh start)`,
     );
     continue;
   }
-  if (bench.needs === 'build' && !built) {
+  if (bench.needs?.includes('build') && !built) {
     const build = spawnSync('npm', ['run', 'build'], { cwd: root, stdio: 'inherit' });
     if (build.status !== 0) {
       results.push(`${bench.file.padEnd(28)} skipped: npm run build failed`);

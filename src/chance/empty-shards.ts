@@ -81,23 +81,52 @@ export function emptyShardMoments(placement: Placement): { mean: number; varianc
 /**
  * log P(E = e) for equal shares: C(m, e) ((m - e)/m)^N P(no empty shard among m - e with N
  * requests), the last factor a box probability (every count >= 1) by Levin's representation.
- * Exact identity; O(1) box probability per call.
+ * Exact identity; O(1) box probability per call. `convolved` tells whether the box
+ * probability took its exact convolution (the costly branch) rather than its expansion.
  */
-function logEmptyExactly(total: number, shards: number, empty: number): number {
+function logEmptyExactly(
+  total: number,
+  shards: number,
+  empty: number,
+): { logProbability: number; convolved: boolean } {
   const occupied = shards - empty;
-  if (occupied === 0) return total === 0 ? 0 : -Infinity;
-  if (occupied > total) return -Infinity;
+  if (occupied === 0) return { logProbability: total === 0 ? 0 : -Infinity, convolved: false };
+  if (occupied > total) return { logProbability: -Infinity, convolved: false };
   // The terms are summed (all positive): 1e-5 relative each is 100 times under the bar.
   const allHit = boxLogProbability(
     total,
     [{ share: 1 / occupied, count: occupied, lower: 1, upper: Infinity }],
     { tolerance: 1e-5 },
   );
-  return logChoose(shards, empty) + total * Math.log1p(-empty / shards) + allHit.logProbability;
+  return {
+    logProbability:
+      logChoose(shards, empty) + total * Math.log1p(-empty / shards) + allHit.logProbability,
+    convolved: allHit.method === 'exact',
+  };
 }
 
-/** Steps of the occupancy chain we accept for an exact answer (N * min(N, m)). */
-const OCCUPANCY_CHAIN_BUDGET = 2e7;
+/**
+ * Costs of the two exact equal-share methods, in occupancy-chain steps (N min(N, m) of
+ * those, about 5 ns each): a point probability whose box probability takes the expansion
+ * (2-15 us) and one that convolves (30-250 us). Measured with `npx tsx
+ * bench/chance.bench.ts` (the empty-shard rows time both methods).
+ */
+const EXPANDED_TERM_STEPS = 2e3;
+const CONVOLVED_TERM_STEPS = 5e4;
+
+/**
+ * How many exact point probabilities the summation in emptyShardsTail visits, from the
+ * normal shape of E (mean, standard deviation): terms start `distance` standard deviations
+ * out on the summed side and stop once they fall e^-41.4 below the sum; at least two, at
+ * most the whole range. An estimate for choosing the method, not a bound used in the sum.
+ */
+function estimatedTerms(distance: number, deviation: number, range: number): number {
+  // E all but fixed (its variance underflows once requests far outnumber shards): a term or two.
+  if (!(deviation > 0) || !Number.isFinite(distance)) return Math.min(range, 2);
+  const d = Math.max(0, distance);
+  const span = deviation * (Math.sqrt(d * d + 2 * 41.4) - d);
+  return Math.min(range, span + 2);
+}
 
 /**
  * log P(E >= observed) from the exact occupancy chain: after each request the number of
@@ -146,16 +175,18 @@ function occupancyChainTail(total: number, shards: number, observed: number): nu
 
 /**
  * log P(E >= observed), the empty-shard p-value.
- * Equal shares: the exact occupancy chain when N min(N, m) <= 2e7, otherwise the exact
- * point probabilities (logEmptyExactly) summed from the observed
- * count outward (or the complement summed on the other side when that side is smaller),
- * until terms fall below 1e-18 of the sum. Weighted shares: exact for observed = 1
+ * Equal shares, two exact methods, whichever costs less: the occupancy chain (N min(N, m)
+ * steps, `exact`) or the exact point probabilities (logEmptyExactly, `exact-terms`) summed
+ * from the observed count outward (or the complement summed on the other side when that
+ * side is smaller), until terms fall below 1e-18 of the sum (one box probability a term,
+ * about as many terms as 9 standard deviations of E hold). The terms' cost is estimated
+ * from the moments of E and the first term, and capped at the chain's. Weighted shares: exact for observed = 1
  * (P(some shard empty), the emptiest-shard machinery); beyond it the larger of a binomial
  * law matched on the exact mean and variance and the Poisson limit (reported as
  * `conservative-moments`: never below the exact tail in the tests, but up to orders of
  * magnitude above it when N is far below m), else the normal limit with continuity
  * correction (Weiss 1958; Renyi 1962), reported as `normal`.
- * Cost: O(number of terms) box probabilities; terms decay geometrically away from the mean.
+ * Cost: the cheaper of O(N min(N, m)) and O(number of terms) box probabilities.
  * Example: emptyShardsTail(makePlacement(2, 2), 1) = log(1/2).
  */
 export function emptyShardsTail(placement: Placement, observed: number): EmptyShardsTail {
@@ -201,24 +232,37 @@ export function emptyShardsTail(placement: Placement, observed: number): EmptySh
     const z = (observed - 0.5 - mean) / Math.sqrt(Math.max(variance, 1e-300));
     return { logProbability: logNormalUpper(z), method: 'normal' };
   }
-  if (n * Math.min(n, m) <= OCCUPANCY_CHAIN_BUDGET) {
-    return { logProbability: occupancyChainTail(n, m, observed), method: 'exact' };
-  }
-  const { mean } = emptyShardMoments(placement);
+  const { mean, variance } = emptyShardMoments(placement);
   const maxEmpty = m - (n > 0 ? 1 : 0);
-  const sumFrom = (start: number, stop: number, direction: 1 | -1) => {
-    let logSum = -Infinity;
-    for (let e = start; direction > 0 ? e <= stop : e >= stop; e += direction) {
-      const term = logEmptyExactly(n, m, e);
-      logSum = logAddExp(logSum, term);
-      if (term < logSum - 41.4 && Math.abs(e - mean) > 1) break;
-    }
-    return logSum;
-  };
-  if (observed >= mean)
-    return { logProbability: sumFrom(observed, maxEmpty, 1), method: 'exact-terms' };
+  // Two exact methods; the cheaper answers. The chain's cost is known in advance; the
+  // terms' cost is estimated from the shape of E and the cost of the first term (whether
+  // its box probability convolves), and the summation gives way to the chain once it has
+  // spent what the chain would cost (so a wrong estimate costs at most twice the chain).
+  const chainSteps = n * Math.min(n, m);
+  const chain = (): EmptyShardsTail => ({
+    logProbability: occupancyChainTail(n, m, observed),
+    method: 'exact',
+  });
+  const deviation = Math.sqrt(variance);
+  const upward = observed >= mean;
+  const terms = upward
+    ? estimatedTerms((observed - mean) / deviation, deviation, maxEmpty - observed + 1)
+    : estimatedTerms((mean - observed + 1) / deviation, deviation, observed - minEmpty);
+  if (chainSteps <= Math.max(terms * EXPANDED_TERM_STEPS, CONVOLVED_TERM_STEPS)) return chain();
+  const [start, stop, direction] = upward ? [observed, maxEmpty, 1] : [observed - 1, minEmpty, -1];
+  let logSum = -Infinity;
+  let spent = 0;
+  for (let e = start; direction > 0 ? e <= stop : e >= stop; e += direction) {
+    const term = logEmptyExactly(n, m, e);
+    const cost = term.convolved ? CONVOLVED_TERM_STEPS : EXPANDED_TERM_STEPS;
+    spent += cost;
+    if (e === start && chainSteps <= terms * cost) return chain();
+    if (spent > chainSteps) return chain();
+    logSum = logAddExp(logSum, term.logProbability);
+    if (term.logProbability < logSum - 41.4 && Math.abs(e - mean) > 1) break;
+  }
   return {
-    logProbability: log1mExp(Math.min(0, sumFrom(observed - 1, minEmpty, -1))),
+    logProbability: upward ? logSum : log1mExp(Math.min(0, logSum)),
     method: 'exact-terms',
   };
 }

@@ -43,7 +43,7 @@ export async function startMetricsExporter(
       host: options.host,
       port: options.port,
       source: {
-        metrics: () => metrics.registry.metrics(),
+        metrics: () => metrics.render(),
         contentType: metrics.registry.contentType,
         readiness: () => metrics.readiness(),
       },

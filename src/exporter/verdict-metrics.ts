@@ -119,6 +119,12 @@ export class VerdictMetrics {
   private flaggedSeries = new Map<string, { shard: string; finding: string }>();
   private countedRecords: Record<RecordOutcome, number> = { accepted: 0, rejected: 0, late: 0 };
   private countedRejections: Partial<Record<RejectionReason, number>> = {};
+  /** Texts of the metrics that change only when a window is judged, by name (see render). */
+  private readonly windowTexts = new Map<string, string>();
+  /** Names of the metrics that change only when a window is judged (or never). */
+  private readonly windowNames: ReadonlySet<string>;
+  /** Bumped whenever the window metrics change; a render begun before keeps no text. */
+  private generation = 0;
 
   private readonly keyedRequests: Gauge<ModelLabel>;
   private readonly distinctKeys: Gauge<ModelLabel>;
@@ -337,6 +343,20 @@ export class VerdictMetrics {
       registers,
     });
 
+    // Read at scrape time: process metrics, record totals, the stall flag. Metrics others
+    // register on this registry later (watch --merge) are not in the set either.
+    const live = [
+      'shardwise_records_total',
+      'shardwise_rejected_records_total',
+      'shardwise_source_stalled',
+    ];
+    this.windowNames = new Set(
+      this.registry
+        .getMetricsAsArray()
+        .map((metric) => metric.name)
+        .filter((name) => !name.startsWith('process_') && !live.includes(name)),
+    );
+
     const events = pipeline.events;
     this.unsubscribe.push(
       events.on('window closed', () => {
@@ -355,12 +375,46 @@ export class VerdictMetrics {
         this.lastJudgedAt = now;
         this.lag.set((now - window.end) / 1000);
         this.syncStalled();
+        this.invalidate();
       }),
       events.on('source stalled', () => {
         this.stalledAtRecords = this.pipeline.totals.recordsSeen;
         this.stalled.set(1);
       }),
     );
+  }
+
+  /**
+   * The exposition text of `/metrics`, the same as `registry.metrics()`, but the metrics
+   * about windows (every gauge, counter and histogram set when a window is judged, and the
+   * settings) are rendered once per judged window and kept; only the process metrics, the
+   * record totals and the stall flag (read at scrape time) and metrics registered by others
+   * are rendered afresh. A scrape then costs a few small renders, whatever the window held.
+   */
+  async render(): Promise<string> {
+    const generation = this.generation;
+    const parts: string[] = [];
+    for (const metric of this.registry.getMetricsAsArray()) {
+      const name = metric.name;
+      if (!this.windowNames.has(name)) {
+        parts.push(await this.registry.getSingleMetricAsString(name));
+        continue;
+      }
+      let text = this.windowTexts.get(name);
+      if (text === undefined) {
+        text = await this.registry.getSingleMetricAsString(name);
+        // A window judged while this render awaited changed the metrics: keep nothing.
+        if (generation === this.generation) this.windowTexts.set(name, text);
+      }
+      parts.push(text);
+    }
+    return `${parts.join('\n\n')}\n`;
+  }
+
+  /** Forgets the kept window texts (the window metrics changed). */
+  private invalidate(): void {
+    this.generation++;
+    this.windowTexts.clear();
   }
 
   /** `/readyz`: the source delivers and windows close on time (see {@link readiness}). */

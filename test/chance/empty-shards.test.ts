@@ -50,6 +50,26 @@ describe('empty shards', () => {
     expect(failures).toEqual([]);
   });
 
+  it('many requests per shard: exact terms answer, not the N min(N, m) chain, and match exact occupancy (python-flint)', () => {
+    // m = 1024 with N = 10 000 and 20 000: the chain would take 1e7-2e7 steps (tens to
+    // hundreds of ms) where a handful of point probabilities answer.
+    const cases = exact.filter(
+      (e) => e.atLeast !== undefined && e.shards === 1024 && e.requests >= 10000,
+    );
+    expect(cases.length).toBeGreaterThan(5);
+    for (const c of cases) {
+      const tail = emptyShardsTail(makePlacement(c.requests, c.shards), c.atLeast!);
+      expect(tail.method).toBe('exact-terms');
+      expect(relativeError(Math.exp(tail.logProbability), c.p!)).toBeLessThan(1e-3);
+    }
+  });
+
+  it('few requests per shard: the chain answers where point probabilities would convolve', () => {
+    // m = 64, N = 64: every box probability of the summed terms takes its exact convolution.
+    const tail = emptyShardsTail(makePlacement(64, 64), 23);
+    expect(tail.method).toBe('exact');
+  });
+
   it('unequal shares beyond one empty shard: conservative in the upper tail (p <= 0.3), at most 5% low above it (exact occupancy, python-flint)', () => {
     // Weights 1 and 1 + 1e-12 make the weighted path run on an equal-share problem with a known exact answer.
     const cases = exact.filter((e) => e.atLeast !== undefined && e.atLeast >= 2 && e.p! >= 1e-12);

@@ -1,4 +1,4 @@
-import { describe, expect, it } from 'vitest';
+import { describe, expect, it, vi } from 'vitest';
 import { verdictMetricNames, VerdictMetrics } from '../../src/exporter/verdict-metrics.js';
 import { Judge } from '../../src/judge/judge.js';
 import { defaultJudgeSettings, type JudgeSettings } from '../../src/judge/judge-settings.js';
@@ -54,7 +54,8 @@ function observed(
   });
   const judgements: Judgement[] = [];
   pipeline.events.on('window judged', ({ judgement }) => judgements.push(judgement));
-  const scrape = async (): Promise<Sample[]> => parseExposition(await metrics.registry.metrics());
+  // What /metrics serves: the render with the window metrics kept per judged window.
+  const scrape = async (): Promise<Sample[]> => parseExposition(await metrics.render());
   return { pipeline, metrics, judgements, scrape };
 }
 
@@ -142,6 +143,48 @@ describe('VerdictMetrics', () => {
       64 * 80,
     );
     expect(sampleOf(samples, 'shardwise_records_total', { outcome: 'rejected' }).value).toBe(0);
+  });
+
+  it('renders the window metrics once per judged window; totals and process metrics at every scrape', async () => {
+    const universe = runScenario('hotspot', { seed: 5, startMs, durationMs: 1 }).universe;
+    const { pipeline, metrics, judgements } = observed(universe);
+    // CPU time and memory move between two renders; everything else must agree.
+    const steady = (text: string) => text.replace(/^process_(cpu|resident)\S* \S+$/gm, '');
+    const fresh = async () => steady(await metrics.registry.metrics());
+    const render = async () => steady(await metrics.render());
+    // Before any window: the same text as the registry's own render.
+    expect(await render()).toBe(await fresh());
+    feedHotspot(pipeline, 21 * second);
+    const windows = judgements.length;
+    expect(windows).toBeGreaterThan(3);
+    const requests = metrics.registry.getSingleMetric('shardwise_window_requests')!;
+    const records = metrics.registry.getSingleMetric('shardwise_records_total')!;
+    const requestReads = vi.spyOn(requests, 'get');
+    const recordReads = vi.spyOn(records, 'get');
+    const first = await render();
+    expect(first).toBe(await fresh());
+    expect(requestReads).toHaveBeenCalledTimes(2); // this render and the registry's
+    // More records within the open window (2 s windows, [20 s, 22 s) open): no window judged, so the window metrics are
+    // not rendered again, while the record totals move.
+    const run = runScenario('hotspot', { seed: 5, startMs, durationMs: 22 * second });
+    for (const record of run.records()) {
+      if (record.ts >= startMs + 21 * second)
+        pipeline.record(record.ts, record.shard, record.count);
+    }
+    expect(judgements.length).toBe(windows);
+    const second_ = await render();
+    expect(requestReads).toHaveBeenCalledTimes(2);
+    expect(recordReads).toHaveBeenCalledTimes(3);
+    expect(second_).not.toBe(first);
+    expect(second_).toBe(await fresh());
+    // A judged window renders them again, once.
+    feedHotspot(pipeline, 30 * second);
+    expect(judgements.length).toBeGreaterThan(windows);
+    requestReads.mockClear();
+    const third = await render();
+    await render();
+    expect(requestReads).toHaveBeenCalledTimes(1);
+    expect(third).toBe(await fresh());
   });
 
   it('defines exactly the names it lists, and they follow the naming rules', async () => {

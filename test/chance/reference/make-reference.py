@@ -157,7 +157,7 @@ for weights, N in WEIGHTED_CASES:
         if 1e-17 < pf < 1 - 1e-12:
             out["weightedMin"].append({"weights": weights, "requests": N, "relative": [u.numerator, u.denominator], "thresholds": thresholds, "p": pf})
 
-EMPTY_CASES = [(365, 23), (10, 10), (64, 64), (64, 200), (200, 200), (1000, 1000), (1000, 3000), (50, 20)]
+EMPTY_CASES = [(365, 23), (10, 10), (64, 64), (64, 200), (200, 200), (1000, 1000), (1000, 3000), (50, 20), (2000, 4000), (1024, 10000), (1024, 20000)]
 for m, N in EMPTY_CASES:
     denom = m ** N
     numerators = []
