@@ -143,8 +143,7 @@ export class KafkaGroupSource {
     const state = this.started.get(partition);
     if (state === undefined || windowEnd <= state.judged) return;
     state.judged = windowEnd;
-    const epoch = this.epoch;
-    this.commitChain = this.commitChain.then(() => this.commit(partition, state, epoch));
+    this.commitSoon(partition, state);
   }
 
   /** Stops reading, waits for the commits asked for, leaves the group. Idempotent. */
@@ -156,6 +155,11 @@ export class KafkaGroupSource {
       await this.consumer?.disconnect().catch(() => undefined);
     })();
     return this.closing;
+  }
+
+  private commitSoon(partition: number, state: StartedPartition): void {
+    const epoch = this.epoch;
+    this.commitChain = this.commitChain.then(() => this.commit(partition, state, epoch));
   }
 
   private async commit(partition: number, state: StartedPartition, epoch: number): Promise<void> {
@@ -252,6 +256,7 @@ export class KafkaGroupSource {
     }
     const { items, offsets, releases } = collector.finish();
     if (offsets.length === 0) return;
+    const judgedBefore = state.judged;
     if (!(await this.handoff.put(items, payload))) return;
     // Fed whole: from here on these messages count as processed.
     if (epoch !== this.epoch || this.started.get(partition) !== state) return;
@@ -259,6 +264,9 @@ export class KafkaGroupSource {
       state.ledger.hold(offsets[at], releases[at], state.judged);
     }
     this.messages += offsets.length;
+    // Windows were published while the batch was fed: the commit made then could not yet
+    // pass the batch's messages. Commit again, as far as they let it.
+    if (state.judged !== judgedBefore) this.commitSoon(partition, state);
     await payload.heartbeat().catch(() => undefined);
   }
 
