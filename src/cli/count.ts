@@ -1,4 +1,6 @@
-import { KafkaPartialCounter } from '../ingest/kafka-partial-counter.js';
+import { KafkaSummaryPublisher } from '../ingest/kafka-summary-publisher.js';
+import { kafkaGroupRecordSource } from '../ingest/record-source.js';
+import { PartialCountSink } from '../partials/partial-count-sink.js';
 import { UsageError } from '../window/errors.js';
 import type { Command } from './command.js';
 import { summaryOf } from './command-list.js';
@@ -10,6 +12,7 @@ import {
   parseTopic,
 } from './kafka-options.js';
 import { duration, parseOptions } from './option-values.js';
+import { PartialCounting } from './partial-counting.js';
 
 const help = `Usage: shardwise count --brokers H:P --topic T --group G --summaries SUMMARY_TOPIC [options]
 
@@ -90,45 +93,57 @@ export const countCommand: Command = {
       values['session-timeout'] === undefined
         ? 30_000
         : duration('--session-timeout', values['session-timeout']);
-    const counter = new KafkaPartialCounter({
+    const groupSource = kafkaGroupRecordSource({
       ...connection,
       topic,
       groupId,
-      summaryTopic,
       from,
       shardFrom: parseShardFrom(shardFromText),
-      shardFromText,
       windowMs,
-      latenessMs,
-      idleMs,
       sessionTimeoutMs,
       onEvent: (event) => {
-        if (event.type === 'started') {
-          io.stderr.write(
-            `shardwise count: instance ${event.instance} on ${topic} (${event.sourcePartitions} partitions), group ${groupId}\n`,
-          );
-        } else if (event.type === 'joined') {
+        if (event.type === 'joined') {
+          sink.revokeAll();
           io.stderr.write(
             `shardwise count: joined (epoch ${event.epoch}), partitions ${JSON.stringify(event.partitions)}\n`,
           );
+        } else if (event.type === 'partition-started') {
+          sink.startPartition(event.partition, event.offset, event.judgedThrough, Date.now());
         } else if (event.type === 'commit-failed') {
           io.stderr.write(`shardwise count: commit failed (${event.error})\n`);
         }
       },
     });
-    const stop = () => void counter.close();
+    const sink = new PartialCountSink({ windowMs, latenessMs, idleMs });
+    const publisher = new KafkaSummaryPublisher({
+      ...connection,
+      topic,
+      summaryTopic,
+      windowMs,
+      latenessMs,
+      shardFromText,
+    });
+    const counting = new PartialCounting(groupSource, sink, (windows, epoch, partitions) =>
+      publisher.publish(windows, epoch, partitions),
+    );
+    const stop = () => void counting.stop();
     process.once('SIGINT', stop);
     process.once('SIGTERM', stop);
     try {
-      await counter.run();
+      const { partitions } = await groupSource.open();
+      await publisher.connect();
+      io.stderr.write(
+        `shardwise count: instance ${publisher.instance} on ${topic} (${partitions} partitions), group ${groupId}\n`,
+      );
+      await counting.run();
     } finally {
       process.removeListener('SIGINT', stop);
       process.removeListener('SIGTERM', stop);
-      await counter.close();
+      await counting.stop();
+      await publisher.close();
     }
-    const stats = counter.stats;
     io.stderr.write(
-      `shardwise count: ${stats.messages} messages counted, ${stats.summaries} summaries published\n`,
+      `shardwise count: ${groupSource.group.stats.messages} messages counted, ${publisher.stats.summaries} summaries published\n`,
     );
     return 0;
   },

@@ -1,8 +1,8 @@
 import { setImmediate as nextTurn } from 'node:timers/promises';
 import type { SourceItem } from '../ingest/file-source.js';
 import type { RecordSource, SourceStart } from '../ingest/record-source.js';
-import type { JudgingPipeline } from '../judge/judging-pipeline.js';
 import { isRejection, type CountRecord } from '../window/count-record.js';
+import type { FeedSink } from '../window/feed-sink.js';
 
 /** What a command adds to the feed. */
 export interface FeedHooks {
@@ -22,31 +22,32 @@ export interface FeedHooks {
 const sliceMs = 20;
 
 /**
- * The one pipeline feed of `watch` and `review`: every record of every source goes to
- * the pipeline the same way, with its key and its source partition, rejections with their
- * line. Partitions the source announces with a backlog hold windows open until they
- * report (or go idle), and the idle rule asks the source which partitions are still
- * behind. Between batches, and every 1024 records within one once the slice is used up,
+ * The one record feed of `watch`, `review` and `count`: every record of every source goes
+ * to the sink (the judging pipeline, or count's per-partition window counting) the same
+ * way, with its key, its source partition and its message offset where the source has
+ * one; rejections with their line, partition and offset. Partitions the source announces
+ * with a backlog are announced to a sink that waits for them, and the sink's idle rule
+ * asks the source which partitions are still behind. Between batches, and every 1024 records within one once the slice is used up,
  * the event loop gets a turn. Resolves when the source ends or `stopped()` says so after
  * a batch (never mid-batch: a batch is counted whole, so offsets stay consistent).
  */
 export async function feedRecords(
   source: RecordSource,
   start: SourceStart,
-  pipeline: JudgingPipeline,
+  sink: FeedSink,
   hooks: FeedHooks = {},
 ): Promise<void> {
-  for (const partition of start.backlogPartitions) pipeline.expectPartition(partition);
-  pipeline.setBacklogProbe((partition) => source.backlogged(partition));
+  for (const partition of start.backlogPartitions) sink.expectPartition?.(partition);
+  sink.setBacklogProbe((partition) => source.backlogged(partition));
   const keep = hooks.keep;
   let sliceStart = performance.now();
   for await (const batch of source.batches()) {
     const length = batch.length;
     for (let at = 0; at < length; at++) {
       const item = batch[at];
-      if (isRejection(item)) pipeline.reject(item.reason, item.line);
+      if (isRejection(item)) sink.reject(item.reason, item.line, item.partition, item.offset);
       else if (keep === undefined || keep(item)) {
-        pipeline.record(item.ts, item.shard, item.count, item.key, item.partition ?? 0);
+        sink.record(item.ts, item.shard, item.count, item.key, item.partition ?? 0, item.offset);
       }
       if ((at & 1023) === 1023 && performance.now() - sliceStart > sliceMs) {
         await nextTurn();

@@ -1,14 +1,15 @@
 import type { Readable } from 'node:stream';
 import type { ClosedWindow } from '../window/event-time-window.js';
 import { FileSource, type SourceItem } from './file-source.js';
+import { KafkaGroupSource, type KafkaGroupSourceOptions } from './kafka-group-source.js';
 import { KafkaSource, type KafkaSourceInfo, type KafkaSourceOptions } from './kafka-source.js';
 import { ScenarioSource, type TickedRecords } from './scenario-source.js';
 
 /**
- * Where records come from, the same shape for every source `watch`, `review` and the
- * benches read: a file, standard input, a simulated cluster, a Kafka topic (and the
- * summaries of `watch --merge`). The pipeline feed (src/cli/record-feed.ts) is written
- * once against it.
+ * Where records come from, the same shape for every source `watch`, `review`, `count` and
+ * the benches read: a file, standard input, a simulated cluster, a Kafka topic (and the
+ * summaries of `watch --merge`), a share of a topic's partitions in a consumer group
+ * (`count`). The record feed (src/cli/record-feed.ts) is written once against it.
  */
 export interface RecordSource {
   /** How screens, summaries and reports name it: `file x.jsonl`, `topic seats`... */
@@ -28,8 +29,13 @@ export interface RecordSource {
   batches(): AsyncGenerator<SourceItem[], void, undefined>;
   /** Stops reading; an iteration in progress ends after its current batch. Idempotent. */
   close(): Promise<void>;
-  /** Windows ending at or before `windowEnd` are judged: a source with offsets may commit below. */
-  markJudgedUpTo(windowEnd: number): void;
+  /**
+   * Windows ending at or before `windowEnd` are judged: a source with offsets may commit
+   * below. With `partition`, only that partition's windows are (`shardwise count`
+   * publishes each partition's windows on the partition's own watermark); only a source
+   * that keeps a judged end per partition ({@link kafkaGroupRecordSource}) takes it.
+   */
+  markJudgedUpTo(windowEnd: number, partition?: number): void;
   /** True while a partition has records waiting at the source: behind, not idle. */
   backlogged(partition: number): boolean;
   /**
@@ -110,7 +116,44 @@ export function kafkaRecordSource(options: KafkaSourceOptions): RecordSource & {
     open,
     batches: () => kafka.batches(),
     close: () => kafka.close(),
-    markJudgedUpTo: (windowEnd) => kafka.markJudgedUpTo(windowEnd),
+    markJudgedUpTo: (windowEnd, partition) => {
+      if (partition !== undefined) {
+        throw new Error(
+          `topic ${options.topic}: this source keeps one judged end for all partitions`,
+        );
+      }
+      kafka.markJudgedUpTo(windowEnd);
+    },
     backlogged: (partition) => kafka.backlogged(partition),
+  };
+}
+
+/**
+ * `shardwise count`'s share of a topic: a member of a consumer group that several
+ * instances share, each partition started from the group's commit and judged (published)
+ * on its own, and committed per partition. Live: it reads until closed.
+ */
+export function kafkaGroupRecordSource(options: KafkaGroupSourceOptions): RecordSource & {
+  readonly group: KafkaGroupSource;
+} {
+  const group = new KafkaGroupSource(options);
+  return {
+    group,
+    label: `topic ${options.topic}`,
+    live: true,
+    open: async () => ({
+      partitions: await group.connect(),
+      backlogPartitions: [],
+      judgedThrough: null,
+    }),
+    batches: () => group.batches(),
+    close: () => group.close(),
+    markJudgedUpTo: (windowEnd, partition) => {
+      if (partition === undefined) {
+        throw new Error(`topic ${options.topic}: this source is judged partition by partition`);
+      }
+      group.markJudgedUpTo(windowEnd, partition);
+    },
+    backlogged: (partition) => group.backlogged(partition),
   };
 }

@@ -7,6 +7,7 @@ import {
   type WindowTotals,
 } from '../window/event-time-window.js';
 import { UsageError } from '../window/errors.js';
+import type { FeedSink } from '../window/feed-sink.js';
 import type { ShardUniverse } from '../window/shard-universe.js';
 import { describeSpan } from './time-span.js';
 import type { Judge } from './judge.js';
@@ -76,7 +77,7 @@ interface HeldRun {
  * spanning a window, confirm a real jump (traffic resumed after a pause) and are counted.
  * Held records still unconfirmed when the input ends are rejected.
  */
-export class JudgingPipeline {
+export class JudgingPipeline implements FeedSink {
   readonly events = new PipelineEvents();
   private readonly windows: EventTimeWindows;
   private readonly judge: Judge;

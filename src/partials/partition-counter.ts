@@ -22,8 +22,6 @@ export interface PartitionCounterOptions {
 interface OpenPart {
   readonly counts: Map<string, number>;
   records: number;
-  /** Lowest offset of a message counted here: the partition cannot be committed past it. */
-  lowestOffset: number;
 }
 
 /**
@@ -34,12 +32,13 @@ interface OpenPart {
  * fetches. Another instance that takes the partition over and replays it from the
  * committed offset closes each window at the same record and counts it the same.
  *
- * It is the record sink of a message decoder: set {@link offset} to the message's offset
- * before decoding it and call {@link processed} after. {@link closeDue} hands out the
- * parts of windows the watermark has passed, every window from the first one on
- * included, empty or not, so the judge can tell "no load" from "not reported".
- * {@link commitOffset} is how far the source may be committed once those parts are
- * published. Pure: no clock, no I/O. O(1) per record plus O(shards) per closed window.
+ * Fed by `shardwise count`'s sink (src/partials/partial-count-sink.ts): set {@link offset}
+ * to the record's message offset before counting it and call {@link processed} after.
+ * {@link closeDue} hands out the parts of windows the watermark has passed, every window
+ * from the first one on included, empty or not, so the judge can tell "no load" from "not
+ * reported". How far the source may be committed once they are published is the source's
+ * business: the lowest offset of a message in a window still open (its offset ledger).
+ * Pure: no clock, no I/O. O(1) per record plus O(shards) per closed window.
  */
 export class PartitionCounter {
   readonly partition: number;
@@ -131,12 +130,11 @@ export class PartitionCounter {
     if (ts > this.newest) this.newest = ts;
     let part = this.open.get(start);
     if (part === undefined) {
-      part = { counts: new Map(), records: 0, lowestOffset: this.offset };
+      part = { counts: new Map(), records: 0 };
       this.open.set(start, part);
     }
     part.counts.set(shard, (part.counts.get(shard) ?? 0) + count);
     part.records++;
-    if (this.offset < part.lowestOffset) part.lowestOffset = this.offset;
   }
 
   /** Counts one rejected record of the message at {@link offset}. */
@@ -191,19 +189,6 @@ export class PartitionCounter {
       this.closedEnd = start;
     }
     return parts;
-  }
-
-  /**
-   * The offset the source may be committed to once every part handed out so far is
-   * published: the lowest offset counted in an open window, else the one after the
-   * highest processed.
-   */
-  commitOffset(): number {
-    let lowest = this.lastProcessed + 1;
-    for (const part of this.open.values()) {
-      if (part.lowestOffset < lowest) lowest = part.lowestOffset;
-    }
-    return lowest;
   }
 
   private makePart(start: number, part: OpenPart | undefined): ClosedPart {

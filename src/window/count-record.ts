@@ -17,6 +17,11 @@ export interface CountRecord {
    * partition of a file, standard input or a scenario. Event time is kept per partition.
    */
   readonly partition?: number;
+  /**
+   * The offset of the Kafka message it came from, set by sources whose consumer needs it
+   * downstream (the group source of `shardwise count`, whose summaries name offset ranges).
+   */
+  readonly offset?: number;
 }
 
 /**
@@ -75,6 +80,10 @@ export interface Rejection {
   readonly reason: RejectionReason;
   /** 1-based line number in the input file, when the source has lines. */
   readonly line?: number;
+  /** The source partition, as {@link CountRecord.partition}; set where a sink needs it. */
+  readonly partition?: number;
+  /** The message offset, as {@link CountRecord.offset}. */
+  readonly offset?: number;
 }
 
 /**

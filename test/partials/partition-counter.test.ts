@@ -1,8 +1,19 @@
 import { describe, expect, it } from 'vitest';
+import { PartitionLedger } from '../../src/ingest/kafka-offset-ledger.js';
 import { PartitionCounter } from '../../src/partials/partition-counter.js';
 
 // Source of truth: the records fed in below; each window's part must hold exactly the
-// records whose timestamps fall in it (arithmetic, by hand).
+// records whose timestamps fall in it (arithmetic, by hand). Where the partition may be
+// committed is kept by count's source in a PartitionLedger (message offset, end of its
+// window); the checks beside show it stops at the first record of a window still open.
+
+/** The ledger of count's source after the same messages (window end = release). */
+function ledgerOf(start: number, messages: [offset: number, release: number][], judged: number) {
+  const ledger = new PartitionLedger();
+  ledger.startAt(start);
+  for (const [offset, release] of messages) ledger.hold(offset, release, judged);
+  return ledger;
+}
 
 function feed(counter: PartitionCounter, messages: [offset: number, ts: number, shard: string][]) {
   for (const [offset, ts, shard] of messages) {
@@ -29,7 +40,18 @@ describe('PartitionCounter', () => {
       [20, 0, {}, 100, 103],
     ]);
     // The record at offset 103 is in the open window 30..40: commit no further.
-    expect(counter.commitOffset()).toBe(103);
+    expect(counter.closedThrough).toBe(30);
+    const ledger = ledgerOf(
+      100,
+      [
+        [100, 10],
+        [101, 10],
+        [102, 20],
+        [103, 40],
+      ],
+      -Infinity,
+    );
+    expect(ledger.commitOffset(counter.closedThrough)).toBe(103);
   });
 
   it('counts a record for a closed window as late, not in any part', () => {
@@ -66,7 +88,16 @@ describe('PartitionCounter', () => {
       [30, 0, 0],
     ]);
     expect(counter.alreadyCounted).toBe(1);
-    expect(counter.commitOffset()).toBe(9);
+    const ledger = ledgerOf(
+      7,
+      [
+        [7, 20],
+        [8, 30],
+        [9, 50],
+      ],
+      20,
+    );
+    expect(ledger.commitOffset(counter.closedThrough)).toBe(9);
   });
 
   it('a caught-up idle partition closes on a watermark handed in', () => {
@@ -74,6 +105,6 @@ describe('PartitionCounter', () => {
     feed(counter, [[0, 3, 'a']]);
     expect(counter.closeDue()).toEqual([]);
     expect(counter.closeDue(20).map((p) => p.start)).toEqual([0, 10]);
-    expect(counter.commitOffset()).toBe(1);
+    expect(ledgerOf(0, [[0, 10]], -Infinity).commitOffset(counter.closedThrough)).toBe(1);
   });
 });
