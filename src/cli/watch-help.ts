@@ -28,9 +28,13 @@ Source (exactly one):
                           scenario's suggested length, in real time until
                           interrupted)
     --start TIME          its first instant, ISO-8601 with a zone or epoch ms
-                          (default: now, rounded down to a window boundary)
+                          (default: now, rounded down to a window boundary; with
+                          --pace fast, now minus the duration, so the replay
+                          ends at about now)
     --pace real-time|fast real-time releases each second of traffic once it
-                          has passed (default); fast replays at full speed
+                          has passed (default); fast replays at full speed,
+                          letting the metrics endpoint and the keys in between
+                          batches
 ${prometheusOptionsHelp}
                           Polled every min(window, 5s): each rise of a counter
                           between two scrapes is one record stamped at the later

@@ -148,6 +148,8 @@ export class WatchScreen {
     const tooLate = totals.rejected['too late'] ?? 0;
     this.controller.sourceProgress({
       records: totals.recordsSeen + rejected - tooLate,
+      // Requests are the counts the windows took in: a count report of 40 is 40 requests.
+      requests: totals.load,
       rejected,
       late: totals.late,
       newestEventTs: this.newestEventTs,

@@ -202,10 +202,16 @@ async function readPlan(values: Values, io: CommandIO): Promise<WatchPlan> {
     if (pace !== 'real-time' && pace !== 'fast') {
       throw new UsageError('--pace', pace, 'is not real-time or fast');
     }
-    const startMs = startOption(values.start, Math.floor(Date.now() / windowMs) * windowMs);
     const durationMs = durationOption(
       values.duration,
       pace === 'fast' ? definition.suggestedDurationMs : Number.POSITIVE_INFINITY,
+    );
+    // A fast replay is of traffic that has already happened: it ends at about now, so no
+    // window is stamped ahead of the wall clock. In real time the run starts now.
+    const now = Date.now();
+    const startMs = startOption(
+      values.start,
+      Math.floor((pace === 'fast' ? now - durationMs : now) / windowMs) * windowMs,
     );
     const seed = seedOption(values.seed);
     const run = runScenario(definition, { seed, startMs, durationMs });
@@ -437,6 +443,7 @@ async function watch(plan: WatchPlan, io: CommandIO): Promise<number> {
           windowMs: plan.run.windowMs,
           latenessMs: plan.run.latenessMs,
           confirm: plan.run.judge.confirm,
+          clear: plan.run.judge.clear,
           maxDetectable: plan.run.judge.maxDetectable,
         },
       });

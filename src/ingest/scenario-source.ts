@@ -1,4 +1,4 @@
-import { setTimeout as sleepFor } from 'node:timers/promises';
+import { setImmediate as nextTurn, setTimeout as sleepFor } from 'node:timers/promises';
 import type { CountRecord } from '../window/count-record.js';
 import type { SourceItem } from './file-source.js';
 
@@ -22,7 +22,8 @@ export interface ScenarioSourceOptions {
   /**
    * `real-time`: each tick's records are released when the wall clock passes
    * the tick's end, as live reporters would send them (start the run at
-   * about now). `fast`: as fast as they are drawn, for files and tests.
+   * about now). `fast`: as fast as they are drawn, for files and tests, with
+   * a turn of the event loop between blocks.
    */
   readonly pace: 'real-time' | 'fast';
   /** Wall clock in epoch ms (default Date.now), replaceable in tests. */
@@ -74,6 +75,9 @@ export class ScenarioSource implements AsyncIterable<SourceItem> {
           if (signal.aborted) return;
           yield batch;
           batch = [];
+          // A turn of the event loop between batches: without it a replay runs on
+          // microtasks alone and starves timers and sockets (a /metrics scrape, the keys).
+          await nextTurn();
         }
       }
       if (batch.length > 0 && !signal.aborted) yield batch;

@@ -3,7 +3,7 @@ import { toneColors } from './tone-colors.js';
 import type { HeaderView } from './view-model.js';
 
 export interface Props {
-  /** Title, run facts, live/paused state and the window on show. */
+  /** Title, run facts, live/paused state and the window on show, fitted to the width. */
   readonly header: HeaderView;
   /** Cells across. */
   readonly width: number;
@@ -15,8 +15,8 @@ export function HeaderBar({ header, width }: Props) {
     <Box width={width} height={1}>
       <Box flexGrow={1} flexShrink={1}>
         <Text wrap="truncate-end">
-          <Text bold>{header.title}</Text>
-          {` · ${header.facts}`}
+          {header.title === '' ? null : <Text bold>{`${header.title} · `}</Text>}
+          {header.facts}
         </Text>
       </Box>
       <Box flexShrink={0} marginLeft={1}>

@@ -16,11 +16,11 @@ export function HelpOverlay({ help, width, height }: Props) {
   const keyWidth = Math.max(...help.keys.map((hint) => hint.key.length)) + 2;
   return (
     <Box flexDirection="column" width={width} height={height} overflow="hidden">
-      <Text bold inverse>
-        {` ${help.title} `}
-      </Text>
+      <Box flexShrink={0}>
+        <Text bold>{help.title}</Text>
+      </Box>
       {help.keys.map((hint) => (
-        <Text key={hint.key} wrap="truncate-end">
+        <Text key={hint.key} wrap="wrap">
           <Text bold>{padWidth(hint.key, keyWidth)}</Text>
           {hint.action}
         </Text>

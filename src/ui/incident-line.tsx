@@ -22,6 +22,7 @@ export function IncidentLine({ incidents }: Props) {
           {` ${item.text}`}
         </Text>
       ))}
+      {incidents.more === '' ? '' : `${incidents.items.length > 0 ? ' · ' : ''}${incidents.more}`}
       {incidents.falseRate === '' ? '' : <Text dimColor>{` · ${incidents.falseRate}`}</Text>}
     </Text>
   );

@@ -2,7 +2,7 @@ import { Box, Text } from 'ink';
 import { LoadBar } from './load-bar.js';
 import { padWidth } from './terminal-text.js';
 import { toneColors } from './tone-colors.js';
-import type { ShardTableView } from './view-model.js';
+import { shardColumns, type ShardTableView } from './view-model.js';
 
 export interface Props {
   /** The rows, already chosen, ordered and worded. */
@@ -19,23 +19,14 @@ export interface Props {
 
 /** The shards that matter, one per row, with their numbers and a bar against the ceiling. */
 export function ShardTable({ table, width, rows, idWidth, barWidth }: Props) {
-  const heading =
-    ' ' +
-    padWidth('shard', idWidth + 1) +
-    padWidth('load', 7, 'right') +
-    padWidth('fair', 8, 'right') +
-    padWidth('rel', 7, 'right') +
-    padWidth('adj p', 10, 'right') +
-    ' ' +
-    padWidth('streak', 7) +
-    'vs chance ceiling ┃';
+  const { load, fair, relative, p, streak } = shardColumns;
   return (
     <Box flexDirection="column" width={width} height={rows + 2}>
       <Text wrap="truncate-end" bold>
         {table.title}
       </Text>
       <Text wrap="truncate-end" dimColor>
-        {heading}
+        {table.heading}
       </Text>
       {table.empty !== null ? (
         <Text dimColor>{table.empty}</Text>
@@ -45,12 +36,13 @@ export function ShardTable({ table, width, rows, idWidth, barWidth }: Props) {
             <Text color={toneColors[row.tone]} bold={row.tone !== 'plain'}>
               {row.mark + padWidth(row.shard, idWidth + 1)}
             </Text>
-            {padWidth(row.load, 7, 'right') +
-              padWidth(row.fair, 8, 'right') +
-              padWidth(row.relative, 7, 'right') +
-              padWidth(row.p, 10, 'right') +
+            {padWidth(row.load, load, 'right') +
+              padWidth(row.fair, fair, 'right') +
+              padWidth(row.relative, relative, 'right') +
+              padWidth(row.p, p, 'right') +
               ' ' +
-              padWidth(row.streak, 7)}
+              padWidth(row.streak, streak) +
+              ' '}
             <LoadBar bar={row.bar} width={barWidth} />
           </Text>
         ))

@@ -4,6 +4,8 @@ import type { SourceReading, SourceState } from './view-model.js';
 export interface SourceTotals {
   /** Records read so far (counted or rejected). */
   readonly records: number;
+  /** Requests those records carry (their counts; 1 per request event). */
+  readonly requests: number;
   readonly rejected: number;
   /** Units of load that arrived after their window had closed. */
   readonly late: number;
@@ -15,7 +17,7 @@ export interface SourceTotals {
 const sampleEveryMs = 250;
 
 /**
- * Measures a source for the screen: records per second over a trailing span, how far the
+ * Measures a source for the screen: requests and records per second over a trailing span, how far the
  * newest record's time trails the clock, and how long since a record arrived. Fed with
  * running totals once per batch, so the cost is O(1) per batch, never per record.
  */
@@ -23,8 +25,15 @@ export class SourceMeter {
   private readonly clock: () => number;
   private readonly spanMs: number;
   /** Running totals at `at`; `opened` is when the sample began taking merged readings. */
-  private readonly samples: { opened: number; at: number; records: number }[] = [];
-  private totals: SourceTotals = { records: 0, rejected: 0, late: 0, newestEventTs: Number.NaN };
+  private readonly samples: { opened: number; at: number; records: number; requests: number }[] =
+    [];
+  private totals: SourceTotals = {
+    records: 0,
+    requests: 0,
+    rejected: 0,
+    late: 0,
+    newestEventTs: Number.NaN,
+  };
   private lastArrival = Number.NaN;
   private activeState: SourceState;
   private quiet = false;
@@ -34,7 +43,7 @@ export class SourceMeter {
    * @param initial the state before anything is read (`reading` for files and scenarios,
    *   `connecting` for a broker)
    * @param clock wall clock, epoch ms
-   * @param spanMs the span records per second are averaged over
+   * @param spanMs the span the rates are averaged over
    */
   constructor(initial: SourceState = 'reading', clock: () => number = Date.now, spanMs = 5000) {
     this.activeState = initial;
@@ -54,8 +63,14 @@ export class SourceMeter {
     if (last !== undefined && now - last.opened < sampleEveryMs) {
       last.at = now;
       last.records = totals.records;
+      last.requests = totals.requests;
     } else {
-      this.samples.push({ opened: now, at: now, records: totals.records });
+      this.samples.push({
+        opened: now,
+        at: now,
+        records: totals.records,
+        requests: totals.requests,
+      });
     }
     // The oldest sample kept is the newest one at least a span old, so the rate covers the span.
     while (this.samples.length > 2 && now - this.samples[1].at >= this.spanMs) this.samples.shift();
@@ -82,7 +97,8 @@ export class SourceMeter {
     const state: SourceState = this.ended ? 'ended' : this.quiet ? 'quiet' : this.activeState;
     return {
       state,
-      recordsPerSecond: this.rate(now),
+      requestsPerSecond: this.rate(now, 'requests'),
+      recordsPerSecond: this.rate(now, 'records'),
       lagMs: Number.isNaN(this.totals.newestEventTs) ? null : now - this.totals.newestEventTs,
       lastRecordAgeMs: Number.isNaN(this.lastArrival) ? null : now - this.lastArrival,
       records: this.totals.records,
@@ -91,13 +107,13 @@ export class SourceMeter {
     };
   }
 
-  private rate(now: number): number | null {
+  private rate(now: number, of: 'records' | 'requests'): number | null {
     if (this.samples.length === 0) return null;
     const last = this.samples[this.samples.length - 1];
     if (now - last.at > this.spanMs) return 0;
     const first = this.samples[0];
     const elapsed = now - first.at;
     if (this.samples.length < 2 || elapsed <= 0) return null;
-    return ((last.records - first.records) * 1000) / elapsed;
+    return ((last[of] - first[of]) * 1000) / elapsed;
   }
 }

@@ -10,43 +10,22 @@
  * finding about the producer in itself.
  */
 
+import stringWidth from 'string-width';
 import { terminalSafe } from '../window/visible-text.js';
 
 export { terminalSafe };
 
-/** Zero-width marks that draw on the previous cell. */
-const combining = /[\p{Mn}\p{Me}]/u;
+/** Graphemes, so a cut never splits a character from its combining marks. */
+const graphemes = new Intl.Segmenter('en', { granularity: 'grapheme' });
 
 /**
- * Cells a code point takes: 0 for combining marks, 2 for East Asian wide and fullwidth
- * forms and the emoji blocks, 1 otherwise. The ranges are the wide blocks of Unicode's
- * East Asian Width property (UAX #11), coarsened to whole blocks; a terminal may differ on
- * a few emoji, which at worst shortens a line by a cell.
+ * Terminal cells the (already safe) text takes, measured by string-width, the library Ink
+ * itself lays text out with (UAX #11 East Asian Width, emoji as two cells, combining marks
+ * as none), so the screen and Ink never disagree about where a line ends. O(length).
+ * Example: displayWidth('座席') = 4.
  */
-function cellsOf(codePoint: number, character: string): number {
-  if (combining.test(character)) return 0;
-  if (
-    (codePoint >= 0x1100 && codePoint <= 0x115f) ||
-    (codePoint >= 0x2e80 && codePoint <= 0xa4cf && codePoint !== 0x303f) ||
-    (codePoint >= 0xac00 && codePoint <= 0xd7a3) ||
-    (codePoint >= 0xf900 && codePoint <= 0xfaff) ||
-    (codePoint >= 0xfe30 && codePoint <= 0xfe4f) ||
-    (codePoint >= 0xff00 && codePoint <= 0xff60) ||
-    (codePoint >= 0xffe0 && codePoint <= 0xffe6) ||
-    (codePoint >= 0x1f300 && codePoint <= 0x1f64f) ||
-    (codePoint >= 0x1f900 && codePoint <= 0x1f9ff) ||
-    (codePoint >= 0x20000 && codePoint <= 0x3fffd)
-  ) {
-    return 2;
-  }
-  return 1;
-}
-
-/** Terminal cells the (already safe) text takes. O(length). Example: displayWidth('座席') = 4. */
 export function displayWidth(text: string): number {
-  let width = 0;
-  for (const character of text) width += cellsOf(character.codePointAt(0) as number, character);
-  return width;
+  return stringWidth(text);
 }
 
 /**
@@ -59,13 +38,67 @@ export function fitWidth(text: string, width: number): string {
   if (displayWidth(text) <= width) return text;
   let out = '';
   let used = 0;
-  for (const character of text) {
-    const cells = cellsOf(character.codePointAt(0) as number, character);
+  for (const { segment } of graphemes.segment(text)) {
+    const cells = stringWidth(segment);
     if (used + cells > width - 1) break;
-    out += character;
+    out += segment;
     used += cells;
   }
   return out + '…';
+}
+
+/** One item of a line composed by {@link fitParts}. */
+export interface LinePart {
+  /** The item as it reads when there is room. */
+  readonly text: string;
+  /** A shorter form, used before the item is dropped; none when it has no shorter form. */
+  readonly short?: string;
+  /** Lower keeps longer: items are shortened, then dropped, highest rank first; 0 is never dropped. */
+  readonly rank: number;
+}
+
+/**
+ * A line of items joined by `separator` that fits `width` cells without cutting any item.
+ * `shorten first` (headers, status lines): every item takes its short form, highest rank
+ * first, before any is dropped whole, highest rank first. `drop first` (sentences of
+ * evidence): each item in turn, highest rank first, takes its short form and then goes, so
+ * the leading clause keeps its full words longest. Rank 0 is never dropped; only when the
+ * items of rank 0 alone do not fit is the line cut (with `…`). O(parts^2 x length).
+ * Example: fitParts([{ text: 'alpha 0.001', rank: 0 }, { text: 'scenario demo', rank: 1 }],
+ * 14) is 'alpha 0.001'.
+ */
+export function fitParts(
+  parts: readonly LinePart[],
+  width: number,
+  separator = ' · ',
+  mode: 'shorten first' | 'drop first' = 'shorten first',
+): string {
+  const forms = parts.map((part) => part.text);
+  const kept = parts.map(() => true);
+  const line = () => forms.filter((_, index) => kept[index]).join(separator);
+  const fits = () => displayWidth(line()) <= width;
+  const byRank = parts
+    .map((part, index) => ({ part, index }))
+    .sort((a, b) => b.part.rank - a.part.rank || b.index - a.index);
+  const shorten = (part: LinePart, index: number) => {
+    if (part.short !== undefined) forms[index] = part.short;
+  };
+  const drop = (part: LinePart, index: number) => {
+    if (part.rank > 0) kept[index] = false;
+  };
+  for (const step of mode === 'shorten first' ? [shorten, drop] : [null]) {
+    for (const { part, index } of byRank) {
+      if (fits()) return line();
+      if (step !== null) {
+        step(part, index);
+        continue;
+      }
+      shorten(part, index);
+      if (fits()) return line();
+      drop(part, index);
+    }
+  }
+  return fits() ? line() : fitWidth(line(), width);
 }
 
 /** The text padded with spaces to exactly `width` cells (cut first when longer). */

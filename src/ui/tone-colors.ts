@@ -11,6 +11,7 @@ export const toneColors: Readonly<Record<Tone, string | undefined>> = {
   failover: 'magenta',
   uneven: 'yellow',
   chance: 'green',
+  easing: 'blue',
   thin: 'gray',
   muted: 'gray',
   plain: undefined,

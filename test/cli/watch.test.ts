@@ -247,6 +247,32 @@ describe('shardwise watch on a file', () => {
   });
 });
 
+describe('shardwise watch --pace fast (issue #18)', () => {
+  it('replays traffic that has already happened: no window ends after the wall clock', async () => {
+    // Without --start a fast replay used to start now and stamp its windows up to its
+    // duration ahead of the clock; it now ends at about now.
+    const { code, out } = await run([
+      'watch',
+      '--scenario',
+      'chance',
+      '--pace',
+      'fast',
+      '--duration',
+      '2m',
+      '--no-ui',
+    ]);
+    const finished = Date.now();
+    expect(code).toBe(0);
+    const windows = verdicts(out);
+    expect(windows.length).toBeGreaterThanOrEqual(11);
+    for (const judgement of windows) {
+      expect(Date.parse(judgement.window.end)).toBeLessThanOrEqual(finished);
+    }
+    // And it is recent: the last window ends within two windows of now.
+    expect(finished - Date.parse(windows.at(-1)?.window.end as string)).toBeLessThan(30_000);
+  });
+});
+
 describe('shardwise watch: bad usage exits 2 with one line naming the option and the value', () => {
   it.each([
     [

@@ -6,6 +6,7 @@
 import { execFileSync, spawnSync } from 'node:child_process';
 import { fileURLToPath } from 'node:url';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import { displayWidth } from '../../src/ui/terminal-text.js';
 
 const root = fileURLToPath(new URL('../..', import.meta.url));
 const server = `shardwise-e2e-${process.pid}`;
@@ -15,8 +16,19 @@ function tmux(...args: string[]): string {
   return execFileSync('tmux', ['-L', server, ...args], { encoding: 'utf8' });
 }
 
-function pane(): string {
-  return tmux('capture-pane', '-p', '-t', session);
+function pane(target = session): string {
+  return tmux('capture-pane', '-p', '-t', target);
+}
+
+/**
+ * The lines of a capture that were cut: Ink's truncation mark `…` anywhere (the demo's shard
+ * ids are short, so none is an abbreviated id), or text in the last column, which the screen
+ * keeps free, so a line that reaches it ran into the edge (cut mid-word or not).
+ */
+function cutLines(text: string, columns: number): string[] {
+  return text
+    .split('\n')
+    .filter((line) => line.includes('…') || displayWidth(line.trimEnd()) >= columns);
 }
 
 async function waitFor(
@@ -77,7 +89,7 @@ describe('npm start in a terminal', () => {
     );
     let text = await waitFor('hotspot verdict', (t) => t.includes('▲ HOTSPOT on seat-17'), 120);
     expect(text).toMatch(
-      /Fullest seat-17: \d+ req, 1\.\d\dx fair share; chance ceiling 1\.\d\dx; p = /,
+      /Fullest seat-17: \d+ req, 1\.\d\dx fair share; chance ceiling 1\.\d\dx( \(\d+ req\))?; p = /,
     );
     expect(text).toContain('● LIVE');
     expect(text).toContain('Source ● reading');
@@ -126,4 +138,55 @@ describe('npm start in a terminal', () => {
     expect(modes).toContain('echo');
     expect(modes).not.toContain('-icanon');
   });
+});
+
+describe('npm start at 80x24 and 120x40 (issue #18)', () => {
+  it('cuts no line of the screen at either size, and the header keeps alpha', async () => {
+    const sizes = [
+      { name: 'small', columns: 80, rows: 24 },
+      { name: 'large', columns: 120, rows: 40 },
+    ];
+    for (const size of sizes) {
+      tmux(
+        'new-session',
+        '-d',
+        '-s',
+        size.name,
+        '-x',
+        String(size.columns),
+        '-y',
+        String(size.rows),
+        `cd '${root}' && env -u CI -u CONTINUOUS_INTEGRATION npm start; echo EXIT:$?; sleep 60`,
+      );
+    }
+    for (const size of sizes) {
+      const waitIn = async (what: string, check: (text: string) => boolean) => {
+        const deadline = Date.now() + 120_000;
+        let text = pane(size.name);
+        while (!check(text)) {
+          if (/^EXIT:\d+/m.test(text)) throw new Error(`npm start ended:\n${text}`);
+          if (Date.now() > deadline) throw new Error(`no ${what} at ${size.name}:\n${text}`);
+          await new Promise((resolve) => setTimeout(resolve, 250));
+          text = pane(size.name);
+        }
+        return text;
+      };
+      // The first verdict, then the hotspot (seat-17 from 0:20), then its help page.
+      for (const [what, check] of [
+        ['first verdict', (t: string) => /^(·|▲) (CHANCE|HOTSPOT)/m.test(t)],
+        ['hotspot verdict', (t: string) => t.includes('▲ HOTSPOT on seat-17')],
+      ] as const) {
+        const text = await waitIn(what, check);
+        expect(cutLines(text, size.columns), `${size.name}, ${what}:\n${text}`).toEqual([]);
+        expect(text.split('\n')[0]).toMatch(/(alpha|α) 0\.001/);
+        expect(text).toMatch(/req(uests)? \d+\/s/);
+        expect(text).toMatch(/^keys › /m);
+      }
+      tmux('send-keys', '-t', size.name, '?');
+      const help = await waitIn('help', (t) => t.includes('Help · ? or Esc closes it'));
+      expect(cutLines(help, size.columns), `${size.name}, help:\n${help}`).toEqual([]);
+      tmux('send-keys', '-t', size.name, 'q');
+      await waitIn('exit', (t) => /^EXIT:0/m.test(t)).catch(() => undefined);
+    }
+  }, 300_000);
 });

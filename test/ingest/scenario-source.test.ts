@@ -69,3 +69,33 @@ describe('ScenarioSource', () => {
     expect(aborted).toBe(true);
   });
 });
+
+describe('ScenarioSource fast replay and the event loop', () => {
+  it('gives the event loop a turn between blocks, so timers and sockets are served', async () => {
+    // 20 000 records: five blocks of 4096. A replay that only awaits microtasks would read
+    // them all before a setImmediate callback (a /metrics request, a key) ran once.
+    const many: TickedRecords = {
+      startMs: start,
+      endMs: start + 20_000,
+      tickMs: 1000,
+      *records(): Generator<CountRecord> {
+        for (let i = 0; i < 20_000; i++) yield { ts: start + i, shard: 'a', count: 1 };
+      },
+    };
+    const source = new ScenarioSource(many, { pace: 'fast' });
+    let turns = 0;
+    const timeline: string[] = [];
+    const tick = () => {
+      turns++;
+      timeline.push('turn');
+      if (turns < 10) setImmediate(tick);
+    };
+    setImmediate(tick);
+    for await (const batch of source.batches()) timeline.push(`batch ${batch.length}`);
+    expect(timeline.filter((entry) => entry.startsWith('batch'))).toHaveLength(5);
+    // A turn ran between the first block and the last.
+    const first = timeline.indexOf('batch 4096');
+    const last = timeline.lastIndexOf('batch 4096');
+    expect(timeline.slice(first, last)).toContain('turn');
+  });
+});

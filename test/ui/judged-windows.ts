@@ -60,16 +60,17 @@ export const context: ScreenContext = {
   windowMs,
   latenessMs: 2_000,
   confirm: 3,
+  clear: 5,
   maxDetectable: 3,
 };
 
-/** A source that read one second ago, for frames that need one. */
+/** A source that read 64 records carrying 4096 requests in a second, for frames that need one. */
 export function steadySource(): ScreenState['source'] {
   let now = startMs;
   const meter = new SourceMeter('reading', () => now);
-  meter.progress({ records: 0, rejected: 0, late: 0, newestEventTs: Number.NaN });
+  meter.progress({ records: 0, requests: 0, rejected: 0, late: 0, newestEventTs: Number.NaN });
   now += 1000;
-  meter.progress({ records: 64, rejected: 2, late: 5, newestEventTs: now - 1000 });
+  meter.progress({ records: 64, requests: 4096, rejected: 2, late: 5, newestEventTs: now - 1000 });
   now += 500;
   return meter.reading();
 }

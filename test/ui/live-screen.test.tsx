@@ -152,7 +152,13 @@ describe('redraw rate', () => {
       if (++batch === 64) {
         batch = 0;
         batches++;
-        controller.sourceProgress({ records, rejected: 0, late: 0, newestEventTs: record.ts });
+        controller.sourceProgress({
+          records,
+          requests: records,
+          rejected: 0,
+          late: 0,
+          newestEventTs: record.ts,
+        });
         await new Promise<void>((resolve) => setImmediate(resolve));
       }
     }

@@ -18,7 +18,13 @@ function controllerWith(scheduler: ManualScheduler, frameMs = 250) {
   });
 }
 
-const totals = (records: number) => ({ records, rejected: 0, late: 0, newestEventTs: 0 });
+const totals = (records: number) => ({
+  records,
+  requests: records,
+  rejected: 0,
+  late: 0,
+  newestEventTs: 0,
+});
 
 describe('ScreenController frames', () => {
   it('publishes at most one frame per frame interval however many updates arrive', () => {

@@ -1,6 +1,7 @@
 import { describe, expect, it } from 'vitest';
 import {
   displayWidth,
+  fitParts,
   fitWidth,
   padWidth,
   terminalSafe,
@@ -81,5 +82,40 @@ describe('widths', () => {
     const label = wireLabel('\u001b[2J\u001b[2J\u001b[2J', 12);
     expect(label).toBe('\\x1b[2J\\x1b…');
     expect(displayWidth(label)).toBe(12);
+  });
+});
+
+describe('fitParts', () => {
+  const header = [
+    { text: 'scenario demo (seed 1)', rank: 3 },
+    { text: '64 shards', rank: 2 },
+    { text: '10 s windows', short: '10 s win', rank: 1 },
+    { text: 'alpha 0.001', short: 'α 0.001', rank: 0 },
+  ];
+
+  it('keeps every item whole: short forms first, then whole items dropped, rank 0 last', () => {
+    expect(fitParts(header, 80)).toBe(
+      'scenario demo (seed 1) · 64 shards · 10 s windows · alpha 0.001',
+    );
+    expect(fitParts(header, 55)).toBe('scenario demo (seed 1) · 64 shards · 10 s win · α 0.001');
+    expect(fitParts(header, 40)).toBe('64 shards · 10 s win · α 0.001');
+    expect(fitParts(header, 7)).toBe('α 0.001');
+    for (const width of [7, 20, 31, 40, 55, 80]) {
+      const line = fitParts(header, width);
+      expect(displayWidth(line)).toBeLessThanOrEqual(width);
+      expect(line).not.toContain('…');
+    }
+  });
+
+  it('drop first: a sentence loses its later clauses before its first is shortened', () => {
+    const sentence = [
+      { text: 'Emptiest seat-42: 0 req, 0.00x fair share', short: 'Emptiest seat-42', rank: 0 },
+      { text: 'p = <1e-300', rank: 1 },
+      { text: '1 empty, 0.1 expected', rank: 2 },
+    ];
+    expect(fitParts(sentence, 60, '; ', 'drop first')).toBe(
+      'Emptiest seat-42: 0 req, 0.00x fair share; p = <1e-300',
+    );
+    expect(fitParts(sentence, 30, '; ', 'drop first')).toBe('Emptiest seat-42');
   });
 });
