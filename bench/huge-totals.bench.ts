@@ -1,6 +1,8 @@
 // Judging one window at huge totals (up to 2^53 - 1 requests), equal and weighted shares,
-// m from 3 to 1e5 (Judge.judge, one core). Each case judges `windows` windows with totals
-// N, N - 1, ... (the judge's memo never hits); the first is cold (tables, JIT), so it is
+// m from 3 to 1e5 (Judge.judge, one core); ten weighted shards at 1e12 take every pair's
+// joint tail in S1 - S2 (README, "Regimes at huge totals"). Each case judges `windows`
+// windows with totals N, N - 1, ... (the judge's memo never hits); the first is cold
+// (tables, JIT), so it is
 // shown apart from the median of the rest. Counts are drawn (untimed) from the normal limit
 // of the multinomial, rounded, the remainder put on the largest count.
 // Run: npx tsx bench/huge-totals.bench.ts [windows per case, default 3]
@@ -47,6 +49,7 @@ const cases: [string, number, number, boolean][] = [
   ['1e12 on 1e5', 1e12, 1e5, false],
   ['3e15 on 3', 3e15, 3, true],
   ['1e14 x 64', 64e14, 64, true],
+  ['1e12 on 10', 1e12, 10, true],
   ['2^53-1 on 1e5', 2 ** 53 - 1, 1e5, true],
   ['1e12 on 1e5', 1e12, 1e5, true],
 ];

@@ -63,13 +63,21 @@ type Side = 'high' | 'low';
 
 /** Switch-over for a single group (equal shares), where S3 is available. */
 const SINGLE_GROUP_SWITCH = 0.1;
-/** Switch-over when every pair of groups gets an exact joint tail. */
-const FEW_GROUPS_SWITCH = 0.03;
-/** Switch-over for many groups, where S2 is estimated from the leading pair. */
+/** Switch-over of S1 - S2 with exact pair tails (pairSumTail). */
+const PAIR_SUM_SWITCH = 0.03;
+/** Switch-over for many groups and share sweeps, where S2 is estimated from the leading pair. */
 const MANY_GROUPS_SWITCH = 0.03;
+/**
+ * Up to this many groups, every pair gets a joint tail (276 pairs at most); beyond, the
+ * leading pair's ratio stands for all (pairEstimatedTail, error up to S1 / 2), as in the
+ * share sweeps.
+ */
+const PAIR_GROUPS = 24;
+/** ... fewer when the pairs left out can move the answer by at most this (relative). */
+const PAIR_SUM_TARGET = 1e-4;
 /** From this S1 on, an exact box complement is preferred to inclusion-exclusion. */
 const EXACT_COMPLEMENT_FROM = 1e-4;
-/** Up to this many groups, all pairwise joint tails are computed. */
+/** Up to this many groups, the exact box complement is tried without a work estimate. */
 const FEW_GROUPS = 6;
 
 /**
@@ -161,8 +169,57 @@ function complementLogTail(
     usable ? tail.relativeError : UNUSABLE_ERROR,
   );
   if (normal !== null) return normal;
+  const third = thirdOrderTail(side, total, groups, options);
+  if (third !== null && !(usable && tail.relativeError <= third.relativeError)) return third;
   if (usable) return tail;
   return bonferroniLowerBound(side, total, groups, tail);
+}
+
+/** Up to this many shards, thirdOrderTail takes every pair and triple (120 triples at 10). */
+const THIRD_ORDER_SHARDS = 12;
+/** ... and up to this S1 (relative error of S1 - S2 + S3 about S1^3 / 24: 4e-5 here). */
+const THIRD_ORDER_SWITCH = 0.1;
+
+/**
+ * S1 - S2 + S3 with every joint tail by Levin's representation (jointLogTail), for a few
+ * shards (THIRD_ORDER_SHARDS) whose S1 is at most THIRD_ORDER_SWITCH: where neither the box
+ * complement nor its normal limit is usable (more lattice work than the normal limit takes,
+ * as with shares spread over a ratio of hundreds), instead of the lower bound. An upper
+ * Bonferroni bound, off by at most S4 <= S1^4 / 24 (negative association: every joint tail
+ * is at most the product of its single tails). Null outside that range.
+ */
+function thirdOrderTail(
+  side: Side,
+  total: number,
+  groups: readonly ThresholdGroup[],
+  options: BoxOptions,
+): TailProbability | null {
+  const shards: ThresholdGroup[] = [];
+  for (const g of groups) for (let i = 0; i < g.count; i++) shards.push({ ...g, count: 1 });
+  if (shards.length > THIRD_ORDER_SHARDS) return null;
+  let logS1 = -Infinity;
+  for (const g of shards) logS1 = logAddExp(logS1, singleLogTail(side, total, g));
+  const s1 = Math.exp(logS1);
+  if (!(s1 <= THIRD_ORDER_SWITCH)) return null;
+  let logS2 = -Infinity;
+  let logS3 = -Infinity;
+  for (let a = 0; a < shards.length; a++) {
+    for (let b = a + 1; b < shards.length; b++) {
+      logS2 = logAddExp(logS2, jointLogTail(side, total, [shards[a], shards[b]], options));
+      for (let c = b + 1; c < shards.length; c++)
+        logS3 = logAddExp(
+          logS3,
+          jointLogTail(side, total, [shards[a], shards[b], shards[c]], options),
+        );
+    }
+  }
+  const value = logDifference(logAddExp(logS1, logS3), logS2);
+  if (!Number.isFinite(value)) return null;
+  return {
+    logProbability: value,
+    method: 'inclusion-exclusion',
+    relativeError: Math.max(1e-12, s1 ** 4 / 24 / Math.exp(value)),
+  };
 }
 
 /** A complement whose estimated relative error is above this is not reported. */
@@ -221,8 +278,8 @@ function normalComplementTail(
 }
 
 /**
- * Last resort where neither Levin's box nor the normal limit is usable (more shards than
- * the normal limit takes, N p in the trillions, a cut near the fair share: the cut laws
+ * Last resort where neither Levin's box, nor the normal limit, nor thirdOrderTail is usable
+ * (more shards than those take, N p in the trillions, a cut near the fair share: the cut laws
  * keep skewed shapes however large N is, so the Edgeworth step does not converge, and the
  * exact convolution is out of reach): the tail is reported as its lower
  * bound max(largest single tail, S1 - S1^2 / 2) (Bonferroni with negatively associated
@@ -322,7 +379,11 @@ export function anyShardTail(
   ) {
     // Where the box is cheap enough to be exact, its complement beats the truncated series
     // (absolute error about 1e-16, so relative 1e-12 even at the switch-over).
-    const complement = complementLogTail(side, total, live, { quick: true });
+    // Only an exact box is wanted here: not complementLogTail, whose fallbacks (the normal
+    // limit, up to 0.5 s) would be thrown away.
+    const complement = tailFromComplement(
+      boxLogProbability(total, complementBox(side, live), { quick: true, forComplement: true }),
+    );
     if (complement.method === 'complement-exact') return complement;
   }
   if (live.length === 1 && s1 <= SINGLE_GROUP_SWITCH) {
@@ -340,37 +401,10 @@ export function anyShardTail(
       relativeError: Math.max(1e-12, Math.exp(logS3 - value) * s1),
     };
   }
-  if (live.length <= FEW_GROUPS && s1 <= FEW_GROUPS_SWITCH) {
-    let logS2 = -Infinity;
-    for (let a = 0; a < live.length; a++) {
-      if (live[a].count >= 2) {
-        logS2 = logAddExp(
-          logS2,
-          logChoose(live[a].count, 2) +
-            jointLogTail(side, total, [{ ...live[a], count: 2 }], options),
-        );
-      }
-      for (let b = a + 1; b < live.length; b++) {
-        const pair = jointLogTail(
-          side,
-          total,
-          [
-            { ...live[a], count: 1 },
-            { ...live[b], count: 1 },
-          ],
-          options,
-        );
-        logS2 = logAddExp(logS2, Math.log(live[a].count) + Math.log(live[b].count) + pair);
-      }
-    }
-    const value = logDifference(logS1, logS2);
-    return {
-      logProbability: value,
-      method: 'inclusion-exclusion',
-      relativeError: Math.max(1e-12, (s1 * s1) / 6),
-    };
-  }
-  if (live.length > FEW_GROUPS && s1 <= MANY_GROUPS_SWITCH) {
+  if (s1 <= PAIR_SUM_SWITCH && live.length <= PAIR_GROUPS)
+    return pairSumTail(side, total, live, logTails, logS1, options);
+  if (s1 <= MANY_GROUPS_SWITCH) {
+    // Many groups: S2 from the leading pair's ratio, as the share sweeps do (and agree with).
     let logSumSquares = -Infinity;
     let top = 0;
     let second = -1;
@@ -396,6 +430,88 @@ export function anyShardTail(
     return pairEstimatedTail(side, total, logS1, logSumSquares, pair, options);
   }
   return complementLogTail(side, total, live, options);
+}
+
+/**
+ * S1 - S2, with the joint tails of every pair among the groups of largest single tails (up
+ * to PAIR_GROUPS, fewer once the rest is bounded by PAIR_SUM_TARGET) computed by Levin's
+ * representation (jointLogTail). The pairs that have a shard outside them ("rest", sum
+ * t_i t_j under independence, at most S1^2 / 2 minus the part inside) get the true/independent ratio of the pair with the largest tails; true
+ * ratios lie in [0, 1] (negative association), so that estimate is off by at most rest
+ * times max(ratio, 1 - ratio). With every pair exact the error is S3 <= S1^3 / 6 (negative
+ * association again), relative about S1^2 / 6: 1.5e-4 at the switch-over 0.03.
+ * A single ratio for all pairs was used before for more than 6 groups: at 8-10 unequal
+ * shares the pair ratios spread (the correlation of two counts is -sqrt(p_i p_j / ((1 -
+ * p_i)(1 - p_j)))), which put the tail 1e-3 off near the switch-over.
+ */
+function pairSumTail(
+  side: Side,
+  total: number,
+  live: readonly ThresholdGroup[],
+  logTails: readonly number[],
+  logS1: number,
+  options: BoxOptions,
+): TailProbability {
+  const order = live.map((_, i) => i).sort((a, b) => logTails[b] - logTails[a]);
+  const s1 = Math.exp(logS1);
+  // Independent pair sums (S^2 - sum c t^2) / 2, scaled by S1^2 so that tiny tails stay finite.
+  let sumAll = 0;
+  let squaresAll = 0;
+  for (const i of order) {
+    const t = Math.exp(logTails[i] - logS1);
+    sumAll += live[i].count * t;
+    squaresAll += live[i].count * t * t;
+  }
+  const pairsAll = (sumAll * sumAll - squaresAll) / 2;
+  let sumIn = 0;
+  let squaresIn = 0;
+  let logS2 = -Infinity;
+  // The top pair's true/independent ratio, for the pairs outside.
+  let logRatio = NaN;
+  let restScaled = pairsAll;
+  // Groups join in the order of their tails until the guess for the pairs outside is
+  // bounded by PAIR_SUM_TARGET relative (P >= S1 (1 - S1 / 2)), or PAIR_GROUPS have joined.
+  for (let x = 0; x < order.length && x < PAIR_GROUPS; x++) {
+    const a = live[order[x]];
+    if (a.count >= 2) {
+      const joint = jointLogTail(side, total, [{ ...a, count: 2 }], options);
+      if (x === 0) logRatio = Math.min(0, joint - 2 * logTails[order[0]]);
+      logS2 = logAddExp(logS2, logChoose(a.count, 2) + joint);
+    }
+    for (let y = 0; y < x; y++) {
+      const b = live[order[y]];
+      const joint = jointLogTail(
+        side,
+        total,
+        [
+          { ...b, count: 1 },
+          { ...a, count: 1 },
+        ],
+        options,
+      );
+      if (x === 1 && Number.isNaN(logRatio))
+        logRatio = Math.min(0, joint - logTails[order[0]] - logTails[order[1]]);
+      logS2 = logAddExp(logS2, Math.log(a.count) + Math.log(b.count) + joint);
+    }
+    const t = Math.exp(logTails[order[x]] - logS1);
+    sumIn += a.count * t;
+    squaresIn += a.count * t * t;
+    restScaled = Math.max(0, pairsAll - (sumIn * sumIn - squaresIn) / 2);
+    if (Number.isNaN(logRatio)) continue;
+    const ratio = Math.exp(logRatio);
+    if ((restScaled * s1 * Math.max(ratio, 1 - ratio)) / (1 - s1 / 2) <= PAIR_SUM_TARGET) break;
+  }
+  const ratio = Number.isNaN(logRatio) ? 1 : Math.exp(logRatio);
+  const logRest = restScaled > 0 ? 2 * logS1 + Math.log(restScaled) : -Infinity;
+  const value = logDifference(logS1, logAddExp(logS2, logRest + Math.log(ratio)));
+  return {
+    logProbability: value,
+    method: 'inclusion-exclusion',
+    relativeError: Math.max(
+      1e-12,
+      (s1 * s1) / 6 + Math.exp(logRest - value) * Math.max(ratio, 1 - ratio),
+    ),
+  };
 }
 
 /**

@@ -57,7 +57,8 @@ export function relativeError(actual: number, expected: number): number {
 /**
  * Reference values at window totals from 1e12 to 2^53 - 1, computed outside the project by
  * test/chance/reference/make-huge-reference.py (mpmath 1.3.0 beta integrals at 30 digits,
- * Euler-Maclaurin sums for three shards, scipy 1.17.1 for 1e5 shards); see its header.
+ * Euler-Maclaurin sums for three shards, scipy 1.17.1 for 1e5 shards, the normal limit by
+ * Fourier inversion for 8 to 10 unequal shares); see its header.
  */
 export interface HugeReference {
   binomial: { n: number; share: number; k: number; logAtLeast: number; logAtMost: number }[];
@@ -74,6 +75,18 @@ export interface HugeReference {
     relative: number;
     lower: number;
     upper: number;
+  }[];
+  /** 8 to 10 unequal shares: S1 from mpmath plus the rest of inclusion-exclusion in the normal limit. */
+  fewWeighted: {
+    n: number;
+    shares: number[];
+    side: 'high' | 'low';
+    thresholds: number[];
+    p: number;
+    /** The first Bonferroni sum (mpmath beta integrals). */
+    s1: number;
+    /** The reference's own error bound, relative (normal limit's skewness term and quadrature). */
+    error: number;
   }[];
 }
 

@@ -197,6 +197,50 @@ describe('window totals from 1e12 to 2^53 - 1', () => {
     }
   });
 
+  // Reference: huge.json's fewWeighted (make-huge-reference.py, few_weighted): 8 to 10
+  // unequal shares (weights 0.75 + 0.5 ((i 7919) mod m) / m, 1 : 2 : ... : m, doublings,
+  // and 1 : 3), every threshold 2.5, 2.75 or 3 standard deviations from its shard's mean,
+  // N = 1e12 and 2^53 - 1. P is S1 from mpmath's beta integrals plus P - S1 in the normal
+  // limit (Fourier inversion of the conditioned normal vector, scipy's complex erfc), its
+  // own error below 1e-5 (recorded per case).
+  const fewWeightedMisses = (keep: (c: (typeof huge.fewWeighted)[number]) => boolean) => {
+    const failures: string[] = [];
+    for (const c of huge.fewWeighted.filter(keep)) {
+      const groups = c.shares.map((share, i) => ({ share, count: 1, threshold: c.thresholds[i] }));
+      const tail = anyShardTail(c.side, c.n, groups);
+      const p = Math.exp(tail.logProbability);
+      if (!(relativeError(p, c.p) <= TOLERANCE - c.error))
+        failures.push(
+          `${c.n} m=${c.shares.length} ${c.side} S1=${c.s1}: ${p} vs ${c.p} (${tail.method})`,
+        );
+    }
+    return failures;
+  };
+
+  it('8 to 10 unequal shares, S1 up to 0.03 (S1 - S2 with every pair tail): within the accuracy bar', () => {
+    // One pair's joint/independent ratio for all pairs put these up to 4.7e-3 off.
+    expect(huge.fewWeighted.filter((c) => c.s1 <= 0.03).length).toBe(96);
+    expect(fewWeightedMisses((c) => c.s1 <= 0.03)).toEqual([]);
+  });
+
+  it('8 to 10 unequal shares, S1 above 0.03: within the accuracy bar', () => {
+    expect(fewWeightedMisses((c) => c.s1 > 0.03)).toEqual([]);
+  });
+
+  it('8 to 10 unequal shares: the reported relative error covers the actual one', () => {
+    const failures: string[] = [];
+    for (const c of huge.fewWeighted) {
+      const groups = c.shares.map((share, i) => ({ share, count: 1, threshold: c.thresholds[i] }));
+      const tail = anyShardTail(c.side, c.n, groups);
+      const actual = relativeError(Math.exp(tail.logProbability), c.p);
+      if (!(actual <= tail.relativeError + c.error))
+        failures.push(
+          `${c.n} m=${c.shares.length} ${c.side}: ${actual} > ${tail.relativeError} (${tail.method})`,
+        );
+    }
+    expect(failures).toEqual([]);
+  });
+
   it('1e5 weighted shards: fullest and emptiest tails inside the Bonferroni bracket of scipy tails', () => {
     // Weights 0.75 + 0.5 ((i 7919) mod m) / m, as bench/judge.bench.ts draws them. The bracket
     // [max(largest tail, S1 - S2), min(1, S1)] holds by negative association of the counts.
