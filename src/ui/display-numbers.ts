@@ -17,6 +17,14 @@ export function formatP(p: number): string {
   return `${mantissa.replace(/\.0$/, '')}e${exponent}`;
 }
 
+/**
+ * "p = 0.021" in a sentence, or "p < 1e-300" at the engine's floor (never "p = <1e-300").
+ * Example: pStatement(1e-320) is 'p < 1e-300'.
+ */
+export function pStatement(p: number): string {
+  return p <= probabilityFloor ? 'p < 1e-300' : `p = ${formatP(p)}`;
+}
+
 /** A relative load as a multiple of the fair share. Example: formatRelative(1.7781) is '1.78x'. */
 export function formatRelative(relative: number): string {
   if (!Number.isFinite(relative)) return '-';

@@ -12,6 +12,7 @@ import {
   formatDuration,
   formatP,
   formatPlain,
+  pStatement,
   formatRate,
   formatRelative,
   formatWindowLength,
@@ -738,7 +739,7 @@ function verdictView(view: WindowView, context: ScreenContext, layout: ScreenLay
           short: `chance ceiling ${formatRelative(j.ceiling.relative)}`,
           rank: 2,
         },
-        { text: `p = ${formatP(j.fullest.p ?? 1)}`, rank: 1 },
+        { text: `${pStatement(j.fullest.p ?? 1)}`, rank: 1 },
       ],
     });
   }
@@ -762,11 +763,11 @@ function verdictView(view: WindowView, context: ScreenContext, layout: ScreenLay
         short: `chance floor ${formatRelative(j.floor.relative)}`,
         rank: 2,
       },
-      { text: `p = ${formatP(j.emptiest.p ?? 1)}`, rank: 1 },
+      { text: `${pStatement(j.emptiest.p ?? 1)}`, rank: 1 },
     ];
     if (j.empty.observed > 0) {
       parts.push({
-        text: `${j.empty.observed} empty, ${formatPlain(j.empty.expected)} expected, p = ${formatP(j.empty.p ?? 1)}`,
+        text: `${j.empty.observed} empty, ${formatPlain(j.empty.expected)} expected, ${pStatement(j.empty.p ?? 1)}`,
         rank: 3,
       });
     }
@@ -781,7 +782,7 @@ function verdictView(view: WindowView, context: ScreenContext, layout: ScreenLay
           short: `Spread phi ${formatPlain(j.spread.phi)}`,
           rank: 0,
         },
-        { text: `p = ${formatP(j.spread.p)}`, rank: 1 },
+        { text: `${pStatement(j.spread.p)}`, rank: 1 },
       ],
     });
   }
@@ -833,8 +834,8 @@ function verdictView(view: WindowView, context: ScreenContext, layout: ScreenLay
           rank: 0,
         },
         {
-          text: `spread phi ${formatPlain(j.spread.phi)}, p = ${formatP(j.spread.p)}`,
-          short: `phi ${formatPlain(j.spread.phi)}, p = ${formatP(j.spread.p)}`,
+          text: `spread phi ${formatPlain(j.spread.phi)}, ${pStatement(j.spread.p)}`,
+          short: `phi ${formatPlain(j.spread.phi)}, ${pStatement(j.spread.p)}`,
           rank: 1,
         },
       ],

@@ -8,6 +8,7 @@ import {
   formatRate,
   formatRelative,
   formatWindowLength,
+  pStatement,
 } from '../../src/ui/display-numbers.js';
 
 describe('display numbers', () => {
@@ -19,6 +20,12 @@ describe('display numbers', () => {
     expect(formatP(2.17e-122)).toBe('2.2e-122');
     expect(formatP(1e-300)).toBe('<1e-300');
     expect(formatP(0.99999)).toBe('1');
+  });
+
+  it('says a p-value in a sentence as p = x, or p < 1e-300 at the floor (never "p = <1e-300")', () => {
+    expect(pStatement(0.0273)).toBe('p = 0.0273');
+    expect(pStatement(1e-300)).toBe('p < 1e-300');
+    expect(pStatement(0)).toBe('p < 1e-300');
   });
 
   it('writes loads, rates, spans and times with their units', () => {

@@ -110,11 +110,11 @@ describe('fitParts', () => {
   it('drop first: a sentence loses its later clauses before its first is shortened', () => {
     const sentence = [
       { text: 'Emptiest seat-42: 0 req, 0.00x fair share', short: 'Emptiest seat-42', rank: 0 },
-      { text: 'p = <1e-300', rank: 1 },
+      { text: 'p < 1e-300', rank: 1 },
       { text: '1 empty, 0.1 expected', rank: 2 },
     ];
     expect(fitParts(sentence, 60, '; ', 'drop first')).toBe(
-      'Emptiest seat-42: 0 req, 0.00x fair share; p = <1e-300',
+      'Emptiest seat-42: 0 req, 0.00x fair share; p < 1e-300',
     );
     expect(fitParts(sentence, 30, '; ', 'drop first')).toBe('Emptiest seat-42');
   });
