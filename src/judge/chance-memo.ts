@@ -23,6 +23,10 @@ export class ChanceMemo {
   private readonly entries = new Map<string, unknown>();
   /** The last ceiling and floor per shares and alpha, in counts, as search guesses. */
   private readonly lastLevels = new Map<string, { fair: number; count: number }>();
+  /** Ceilings and floors answered from the ladders without a tail (for benches and tests). */
+  ladderAnswers = 0;
+  /** Ceilings and floors found so far per shares and alpha, by total (see QuantileLadder). */
+  private readonly ladders = new Map<string, QuantileLadder>();
   private readonly capacity: number;
 
   /** @param capacity most answers kept (default 4096) */
@@ -89,9 +93,21 @@ export class ChanceMemo {
    */
   private warm(key: string, placement: Placement, search: (guess: number) => number): number {
     const fair = placement.total / placement.shardCount;
+    let ladder = this.ladders.get(key);
+    if (ladder === undefined) {
+      ladder = new QuantileLadder();
+      this.ladders.set(key, ladder);
+    }
+    const between = ladder.between(placement.total);
+    if (between !== null) {
+      this.ladderAnswers++;
+      return between / fair;
+    }
     const last = this.lastLevels.get(key);
     const relative = search(last === undefined ? Number.NaN : last.count + (fair - last.fair));
-    this.lastLevels.set(key, { fair, count: relative * fair });
+    const count = Math.round(relative * fair);
+    this.lastLevels.set(key, { fair, count });
+    ladder.add(placement.total, count);
     return relative;
   }
 
@@ -105,5 +121,52 @@ export class ChanceMemo {
     }
     this.entries.set(key, value);
     return value;
+  }
+}
+
+/**
+ * The chance ceiling and floor of equal shares as whole counts, by total, for one alpha:
+ * both are non-decreasing in the total N. (Coupling: N + 1 requests are N requests and one
+ * more, so the fullest and the emptiest shard can only gain: P(max >= k) and P(min > k)
+ * grow with N for every k, and the smallest count meeting the level can only rise.) So a
+ * total lying between two totals already answered with the same count has that count too,
+ * and needs no tail at all; steady traffic, whose totals wander within a few standard
+ * deviations, soon asks mostly such questions. The answer is the engine's own wherever its
+ * tails are monotone in N to their rounding (a tail within about 1e-10 of alpha aside).
+ * Bounded: past {@link QuantileLadder.capacity} totals it starts again.
+ */
+class QuantileLadder {
+  static readonly capacity = 2048;
+  private totals: number[] = [];
+  private counts: number[] = [];
+
+  /** The count for `total` when the nearest known totals on both sides share it, else null. */
+  between(total: number): number | null {
+    const at = this.firstAtLeast(total);
+    if (at < this.totals.length && this.totals[at] === total) return this.counts[at];
+    if (at === 0 || at === this.totals.length) return null;
+    return this.counts[at - 1] === this.counts[at] ? this.counts[at] : null;
+  }
+
+  add(total: number, count: number): void {
+    if (this.totals.length >= QuantileLadder.capacity) {
+      this.totals = [];
+      this.counts = [];
+    }
+    const at = this.firstAtLeast(total);
+    if (at < this.totals.length && this.totals[at] === total) return;
+    this.totals.splice(at, 0, total);
+    this.counts.splice(at, 0, count);
+  }
+
+  private firstAtLeast(total: number): number {
+    let low = 0;
+    let high = this.totals.length;
+    while (low < high) {
+      const mid = (low + high) >> 1;
+      if (this.totals[mid] < total) low = mid + 1;
+      else high = mid;
+    }
+    return low;
   }
 }
