@@ -47,7 +47,7 @@ const leastShardsForRobust = 16;
  * The learned spread (pooled-spread.ts): span of its exponential weights, in windows, and
  * the windows learned before it replaces random placement as the yardstick of "uneven".
  * Our choices, stated: 60 windows (10 minutes of 10 s windows) pools 60 x m residuals;
- * 10 windows are enough for the t widening to be modest (see the README's calibration).
+ * 10 windows are enough for the t widening to be modest (see docs/calibration.md).
  */
 const spreadSpanWindows = 60;
 const spreadReadyWindows = 10;

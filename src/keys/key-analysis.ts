@@ -39,7 +39,7 @@ export interface KeyAnalysisSettings {
 
 /**
  * A hot key must surely carry at least this share of its shard's excess: "most of the
- * excess", read as at least half. Our choice, stated in the README.
+ * excess", read as at least half. Our choice, stated in docs/keys.md.
  */
 export const hotKeyShare = 0.5;
 /**

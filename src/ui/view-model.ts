@@ -316,7 +316,7 @@ const findingTones: Record<WindowState, Tone> = {
   'too little traffic': 'thin',
 };
 
-/** The legend of window symbols, in the order of the README; shorter forms for narrow lines. */
+/** The legend of window symbols, in the order of docs/screen.md; shorter forms for narrow lines. */
 const legendItems: readonly { text: string; short: string }[] = [
   { text: '▲ hotspot', short: '▲hot' },
   { text: '▼ cold', short: '▼cold' },
