@@ -36,7 +36,8 @@ export function log1mExp(x: number): number {
 /**
  * A probability from its log, clamped to the reporting floor so that a possible event is
  * never reported as 0 and an impossible one is exactly 0.
- * O(1). Example: probabilityFromLog(-800) === 1e-300; probabilityFromLog(-Infinity) === 0.
+ * O(1). Example: probabilityFromLog(-800) === 1e-300; probabilityFromLog(-Infinity, false) === 0
+ * (impossible), while a possible event whose log underflowed to -Infinity still reads 1e-300.
  */
 export function probabilityFromLog(logP: number, possible = true): number {
   if (logP === -Infinity && !possible) return 0;
