@@ -155,8 +155,13 @@ export class ReviewBuilder {
     this.lastIds = window.shardIds;
     this.falseIncidentsPerDay = judgement.falseIncidentsPerDay;
     for (const text of judgement.notes) {
-      // Baseline progress changes every window; its first words are the note.
-      this.note(text.startsWith('baseline learning') ? baselineNote : text);
+      // Baseline progress changes every window; its first words are the note. Other progress
+      // counts ("spread learning (3 of 10 windows)") read as one note over those windows.
+      this.note(
+        text.startsWith('baseline learning')
+          ? baselineNote
+          : text.replace(/\((\d+) of (\d+) windows\)/, '(while the first $2 windows are learned)'),
+      );
     }
     let bits = 0;
     findingOrder.forEach((finding, at) => {

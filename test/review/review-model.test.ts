@@ -61,6 +61,34 @@ describe('ReviewBuilder', () => {
   });
 });
 
+describe('ReviewBuilder notes', () => {
+  it('reads a progress note repeated with a new count each window as one note', () => {
+    // The judge notes "spread learning (k of 10 windows)" in each of its first windows
+    // (src/judge/judge.ts); a report lists it once, not ten times.
+    const judged = judgeScenario('failover');
+    const builder = new ReviewBuilder({
+      source: 'test',
+      judgedHere: true,
+      settings: { ...judged.recorded },
+    });
+    for (const { window, judgement } of judged.windows) {
+      builder.add({
+        start: window.start,
+        end: window.end,
+        counts: window.counts,
+        total: window.total,
+        shardIds: judged.universe.ids,
+        shares: null,
+        judgement,
+      });
+    }
+    const notes = builder.build().notes.filter((note) => note.startsWith('spread learning'));
+    expect(notes).toEqual([
+      'spread learning (while the first 10 windows are learned): "uneven" is judged against random placement until the cluster\'s usual spread is learned',
+    ]);
+  });
+});
+
 describe('ReviewBuilder over a growing universe that retired ids', () => {
   it('keeps each heat strip row with its own shard across the renumbering', () => {
     // Worked by hand: window 0 has gone 100, a 100, hot 300 (relative loads 0.6, 0.6, 1.8 of
