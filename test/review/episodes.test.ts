@@ -1,31 +1,10 @@
 import { describe, expect, it } from 'vitest';
 import type { Judgement } from '../../src/judge/judgement.js';
 import { EpisodeFinder } from '../../src/review/episodes.js';
-import { ReviewBuilder } from '../../src/review/review-model.js';
 import type { ReviewWindow } from '../../src/review/review-window.js';
-import { judgeScenario, type JudgedScenario } from './judged-scenario.js';
+import { judgeScenario, reviewOf } from './judged-scenario.js';
 
 const windowMs = 10_000;
-
-function reviewOf(judged: JudgedScenario) {
-  const builder = new ReviewBuilder({
-    source: 'test',
-    judgedHere: true,
-    settings: { ...judged.recorded, spread: judged.settings.spread },
-  });
-  for (const { window, judgement } of judged.windows) {
-    builder.add({
-      start: window.start,
-      end: window.end,
-      counts: window.counts,
-      total: window.total,
-      shardIds: judged.universe.ids,
-      shares: null,
-      judgement,
-    });
-  }
-  return builder.build();
-}
 
 // Ground truth: the plants of the built-in scenarios (src/scenario/built-in-scenarios.ts),
 // as the scenario run reports them (ScenarioRun.truth.events). An episode must start and

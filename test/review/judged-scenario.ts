@@ -4,6 +4,7 @@ import { Judge } from '../../src/judge/judge.js';
 import { defaultJudgeSettings, type JudgeSettings } from '../../src/judge/judge-settings.js';
 import type { Judgement } from '../../src/judge/judgement.js';
 import { JudgingPipeline } from '../../src/judge/judging-pipeline.js';
+import { ReviewBuilder, type ReviewModel } from '../../src/review/review-model.js';
 import type { RecordedSettings } from '../../src/record/recording-line.js';
 import { KeyAnalysis } from '../../src/keys/key-analysis.js';
 import { defaultKeySketchSettings } from '../../src/keys/window-key-stats.js';
@@ -84,4 +85,25 @@ export function judgeScenario(
 
 function run0(name: string): number {
   return runScenario(name, { seed: 1, startMs, durationMs: 1000 }).definition.suggestedDurationMs;
+}
+
+/** The review model of a judged scenario, as `review` builds it from the same windows. */
+export function reviewOf(judged: JudgedScenario): ReviewModel {
+  const builder = new ReviewBuilder({
+    source: 'test',
+    judgedHere: true,
+    settings: { ...judged.recorded, spread: judged.settings.spread },
+  });
+  for (const { window, judgement } of judged.windows) {
+    builder.add({
+      start: window.start,
+      end: window.end,
+      counts: window.counts,
+      total: window.total,
+      shardIds: judged.universe.ids,
+      shares: null,
+      judgement,
+    });
+  }
+  return builder.build();
 }

@@ -1,28 +1,11 @@
 import { describe, expect, it } from 'vitest';
 import { chartSpecs, pValueFloor } from '../../src/review/report-charts.js';
-import { ReviewBuilder } from '../../src/review/review-model.js';
-import { judgeScenario } from './judged-scenario.js';
+import { judgeScenario, reviewOf } from './judged-scenario.js';
 
 describe('the p-value chart', () => {
   // The failover scenario's dead shard and its spread reach p below 1e-300 (planted).
   const judged = judgeScenario('failover');
-  const builder = new ReviewBuilder({
-    source: 'test',
-    judgedHere: true,
-    settings: { ...judged.recorded },
-  });
-  for (const { window, judgement } of judged.windows) {
-    builder.add({
-      start: window.start,
-      end: window.end,
-      counts: window.counts,
-      total: window.total,
-      shardIds: judged.universe.ids,
-      shares: null,
-      judgement,
-    });
-  }
-  const model = builder.build();
+  const model = reviewOf(judged);
   const chart = chartSpecs(model).find((spec) => spec.id === 'pvalues');
   const layers = (
     chart?.spec as unknown as {

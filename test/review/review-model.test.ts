@@ -5,7 +5,7 @@ import { defaultJudgeSettings } from '../../src/judge/judge-settings.js';
 import { JudgingPipeline } from '../../src/judge/judging-pipeline.js';
 import { ReviewBuilder } from '../../src/review/review-model.js';
 import { ShardUniverse } from '../../src/window/shard-universe.js';
-import { judgeScenario } from './judged-scenario.js';
+import { judgeScenario, reviewOf } from './judged-scenario.js';
 
 describe('ReviewBuilder', () => {
   const judged = judgeScenario('hotspot');
@@ -65,24 +65,9 @@ describe('ReviewBuilder notes', () => {
   it('reads a progress note repeated with a new count each window as one note', () => {
     // The judge notes "spread learning (k of 10 windows)" in each of its first windows
     // (src/judge/judge.ts); a report lists it once, not ten times.
-    const judged = judgeScenario('failover');
-    const builder = new ReviewBuilder({
-      source: 'test',
-      judgedHere: true,
-      settings: { ...judged.recorded },
-    });
-    for (const { window, judgement } of judged.windows) {
-      builder.add({
-        start: window.start,
-        end: window.end,
-        counts: window.counts,
-        total: window.total,
-        shardIds: judged.universe.ids,
-        shares: null,
-        judgement,
-      });
-    }
-    const notes = builder.build().notes.filter((note) => note.startsWith('spread learning'));
+    const notes = reviewOf(judgeScenario('failover')).notes.filter((note) =>
+      note.startsWith('spread learning'),
+    );
     expect(notes).toEqual([
       'spread learning (while the first 10 windows are learned): "uneven" is judged against random placement until the cluster\'s usual spread is learned',
     ]);
