@@ -137,7 +137,8 @@ Judging:
                           incident rate
   --clear J               consecutive clean windows that clear it (default 5),
                           or J x 10 windows in a row without a flag
-  --max-flagged N         most shards listed per window (default 10)
+  --max-flagged N         most shards listed per window (default 10); also the most
+                          open incidents /metrics names by shard
 
 Keys (request events with "key"; Kafka message keys with --shard-from partition):
   --no-keys               no key analysis

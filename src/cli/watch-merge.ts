@@ -184,7 +184,9 @@ export class SummaryMergeSource implements RecordSource {
 export class MergeMetrics {
   private readonly windows: Counter<'coverage'>;
   private readonly missing: Gauge;
-  private readonly parts: Gauge<'outcome'>;
+  private readonly parts: Counter<'outcome'>;
+  /** What `parts` has been advanced to, per outcome (the source's counts only grow). */
+  private readonly countedParts = { merged: 0, duplicate: 0, afterVerdict: 0, refused: 0 };
 
   constructor(registry: Registry, source: SummaryMergeSource) {
     this.windows = new Counter({
@@ -198,17 +200,26 @@ export class MergeMetrics {
       help: 'Source partitions whose partial summary had not arrived when the newest window was judged.',
       registers: [registry],
     });
-    this.parts = new Gauge({
-      name: 'shardwise_partial_parts',
+    const counted = this.countedParts;
+    const labels = {
+      merged: 'merged',
+      duplicate: 'duplicate',
+      afterVerdict: 'after_verdict',
+      refused: 'refused',
+    } as const;
+    this.parts = new Counter({
+      name: 'shardwise_partial_parts_total',
       help: 'Partition parts of partial summaries read, by outcome (merged, duplicate, after_verdict, refused).',
       labelNames: ['outcome'],
       registers: [registry],
       collect() {
         const outcomes = source.partOutcomes;
-        this.set({ outcome: 'merged' }, outcomes.merged);
-        this.set({ outcome: 'duplicate' }, outcomes.duplicate);
-        this.set({ outcome: 'after_verdict' }, outcomes.afterVerdict);
-        this.set({ outcome: 'refused' }, outcomes.refused);
+        for (const outcome of Object.keys(labels) as (keyof typeof labels)[]) {
+          const gain = outcomes[outcome] - counted[outcome];
+          // Zero is shown too, so every outcome has its series from the start.
+          this.inc({ outcome: labels[outcome] }, Math.max(gain, 0));
+          counted[outcome] = Math.max(outcomes[outcome], counted[outcome]);
+        }
       },
     });
   }

@@ -57,6 +57,8 @@ export const verdictMetricNames = [
   'shardwise_open_incidents',
   'shardwise_false_incidents_expected_per_day',
   'shardwise_flagged_shard_relative_load',
+  'shardwise_flagged_shard_p_value',
+  'shardwise_incident_open',
   'shardwise_records_total',
   'shardwise_rejected_records_total',
   'shardwise_windows_closed_total',
@@ -78,7 +80,7 @@ const keyCauseLabels = { 'hot key': 'hot_key', placement: 'placement', moved: 'm
 
 /**
  * Judging time buckets, seconds: a 64-shard window takes about 10 ms, a weighted one of
- * 1e5 shards about 30 s (README, "Speed").
+ * 1e5 shards about 30 s (docs/performance.md).
  */
 const judgingBuckets = [
   0.0005, 0.001, 0.0025, 0.005, 0.01, 0.025, 0.05, 0.1, 0.25, 0.5, 1, 2.5, 5, 10, 30, 60,
@@ -94,9 +96,11 @@ type ModelLabel = 'null' | 'spread';
  * from the pipeline's totals when scraped, so per-record work stays zero.
  *
  * Series are bounded whatever the input: every label takes values from a fixed set except
- * `shard`, which only `shardwise_flagged_shard_relative_load` has, for at most
- * `--max-flagged` shards of the latest window (series of shards no longer flagged are
- * removed), with ids sanitized and cut by {@link shardLabel}.
+ * `shard`, which only `shardwise_flagged_shard_relative_load` and
+ * `shardwise_flagged_shard_p_value` (at most `--max-flagged` shards of the latest window;
+ * series of shards no longer flagged are removed) and `shardwise_incident_open` (at most
+ * `--max-flagged` open incidents; removed when the incident clears) have, with ids
+ * sanitized and cut by {@link shardLabel}.
  *
  * Gauges about the latest window carry `null` and `spread` (the settings in use) and are
  * absent until the first window is judged; a value the window does not have (the
@@ -116,7 +120,9 @@ export class VerdictMetrics {
   private lastJudgedAt = Number.NaN;
   private closedAt = Number.NaN;
   private stalledAtRecords = -1;
+  private readonly maxFlagged: number;
   private flaggedSeries = new Map<string, { shard: string; finding: string }>();
+  private incidentSeries = new Map<string, { shard: string; finding: string; test: string }>();
   private countedRecords: Record<RecordOutcome, number> = { accepted: 0, rejected: 0, late: 0 };
   private countedRejections: Partial<Record<RejectionReason, number>> = {};
   /** Texts of the metrics that change only when a window is judged, by name (see render). */
@@ -146,6 +152,8 @@ export class VerdictMetrics {
   private readonly incidents: Gauge<ModelLabel | 'finding'>;
   private readonly falseIncidents: Gauge<ModelLabel>;
   private readonly flagged: Gauge<ModelLabel | 'shard' | 'finding'>;
+  private readonly flaggedP: Gauge<ModelLabel | 'shard' | 'finding'>;
+  private readonly incidentOpen: Gauge<ModelLabel | 'shard' | 'finding' | 'test'>;
   private readonly records: Counter<'outcome'>;
   private readonly rejections: Counter<'reason'>;
   private readonly windowsClosed: Counter;
@@ -165,6 +173,7 @@ export class VerdictMetrics {
     this.timer = options.timer ?? (() => performance.now());
     this.hopMs = options.settings.hopMs;
     this.latenessMs = options.latenessMs;
+    this.maxFlagged = options.settings.maxFlagged;
     this.startedAt = this.clock();
     const settings = options.settings;
     this.model = { null: settings.null, spread: settings.spread };
@@ -269,8 +278,20 @@ export class VerdictMetrics {
     );
     this.flagged = new Gauge({
       name: 'shardwise_flagged_shard_relative_load',
-      help: 'Relative load of each shard flagged in the latest window (at most --max-flagged; shard ids sanitized, see the README); the series goes away when the shard is no longer flagged',
+      help: 'Relative load of each shard flagged in the latest window (at most --max-flagged; shard ids sanitized, see docs/metrics.md); the series goes away when the shard is no longer flagged',
       labelNames: ['null', 'spread', 'shard', 'finding'],
+      registers,
+    });
+    this.flaggedP = new Gauge({
+      name: 'shardwise_flagged_shard_p_value',
+      help: 'Adjusted p-value of each shard flagged in the latest window: P(max r >= its r) for a hotspot, P(min r <= its r) for a cold shard, under the null model (same series as shardwise_flagged_shard_relative_load); statistical evidence, not certainty',
+      labelNames: ['null', 'spread', 'shard', 'finding'],
+      registers,
+    });
+    this.incidentOpen = new Gauge({
+      name: 'shardwise_incident_open',
+      help: 'Always 1, one series per open incident (hotspot or cold) naming its shard and the test that opened it (window or cusum); at most --max-flagged, those flagged in the latest window first, then the longest open; the series goes away when the incident clears',
+      labelNames: ['null', 'spread', 'shard', 'finding', 'test'],
       registers,
     });
     this.keyedRequests = windowGauge(
@@ -488,11 +509,55 @@ export class VerdictMetrics {
       if (current.has(key)) continue;
       current.set(key, labels);
       this.flagged.set({ ...model, ...labels }, shard.relative);
+      this.flaggedP.set({ ...model, ...labels }, shard.p);
     }
     for (const [key, labels] of this.flaggedSeries) {
-      if (!current.has(key)) this.flagged.remove({ ...model, ...labels });
+      if (current.has(key)) continue;
+      this.flagged.remove({ ...model, ...labels });
+      this.flaggedP.remove({ ...model, ...labels });
     }
     this.flaggedSeries = current;
+    this.showIncidents(judgement);
+  }
+
+  /**
+   * One `shardwise_incident_open` series per open incident, at most --max-flagged: those
+   * whose shard the latest window flags (in the judge's order, strongest first), then the
+   * longest open; series of incidents that cleared or fell out are removed.
+   */
+  private showIncidents(judgement: Judgement): void {
+    const model = this.model;
+    const rank = new Map<string, number>();
+    judgement.flagged.forEach((shard, index) => {
+      const key = `${shard.finding}\u0000${shard.shard}`;
+      if (!rank.has(key)) rank.set(key, index);
+    });
+    const rankOf = (incident: Judgement['incidents'][number]) =>
+      rank.get(`${incident.finding}\u0000${incident.shard}`) ?? Number.POSITIVE_INFINITY;
+    const ordered = [...judgement.incidents].sort(
+      (a, b) => rankOf(a) - rankOf(b) || b.windows - a.windows,
+    );
+    const current = new Map<string, { shard: string; finding: string; test: string }>();
+    for (const incident of ordered) {
+      if (current.size >= this.maxFlagged) break;
+      const labels = {
+        shard: shardLabel(incident.shard),
+        finding: incident.finding,
+        test: incident.test,
+      };
+      const key = `${labels.finding}\u0000${labels.shard}`;
+      // Two ids that sanitize alike keep the first (flagged now, or open longer).
+      if (current.has(key)) continue;
+      current.set(key, labels);
+    }
+    for (const [key, labels] of this.incidentSeries) {
+      const now = current.get(key);
+      if (now === undefined || now.test !== labels.test) {
+        this.incidentOpen.remove({ ...model, ...labels });
+      }
+    }
+    for (const labels of current.values()) this.incidentOpen.set({ ...model, ...labels }, 1);
+    this.incidentSeries = current;
   }
 
   /** The key gauges: set from a keyed window, removed (absent, never 0) otherwise. */

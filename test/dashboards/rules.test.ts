@@ -66,6 +66,25 @@ describe('rule files', () => {
     for (const rule of recordingRules) expect(rule.record).toMatch(/^shardwise:[a-z0-9_:]+$/);
   });
 
+  it('page per shard for hotspot and cold: one alert per open incident series, its shard in the labels', () => {
+    // The count of open incidents names no shard; the per-incident series does, and its
+    // number is bounded by --max-flagged (README, "Series stay bounded").
+    for (const name of ['ShardwiseHotspotSustained', 'ShardwiseShardCold']) {
+      const rule = alertingRules.find((candidate) => candidate.alert === name) as Rule;
+      expect(metricNames(rule.expr)).toEqual(['shardwise_incident_open']);
+      expect(rule.annotations?.summary).toContain('{{ $labels.shard }}');
+      for (const metric of [
+        'shardwise_flagged_shard_relative_load',
+        'shardwise_flagged_shard_p_value',
+        name === 'ShardwiseHotspotSustained'
+          ? 'shardwise_chance_ceiling_relative_load'
+          : 'shardwise_chance_floor_relative_load',
+      ]) {
+        expect(rule.annotations?.latest_window).toContain(`printf \`${metric}{%s}\``);
+      }
+    }
+  });
+
   it('use only metric names the exporter defines (and recorded names)', async () => {
     const exported = await exportedMetricNames();
     const recorded = new Set(recordingRules.map((rule) => rule.record as string));
@@ -81,9 +100,13 @@ describe('rule files', () => {
   it('give every alert a severity, a summary, what it means, that it is evidence, what to check', () => {
     for (const rule of alertingRules) {
       expect(rule.labels?.severity, rule.alert).toMatch(/^(info|warning|critical)$/);
+      // The per-shard alerts also say what the latest window shows of their shard.
+      const perShard =
+        rule.alert === 'ShardwiseHotspotSustained' || rule.alert === 'ShardwiseShardCold';
       expect(Object.keys(rule.annotations ?? {}).sort()).toEqual([
         'check_first',
         'description',
+        ...(perShard ? ['latest_window'] : []),
         'summary',
       ]);
       const annotations = rule.annotations as Record<string, string>;

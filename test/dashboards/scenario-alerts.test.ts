@@ -118,8 +118,11 @@ async function scrapeScenario(options: {
 interface Expectation {
   /** Evaluation time, seconds from the start. */
   readonly at: number;
-  /** Alerts firing then, with their labels beyond alertname; every other alert is quiet. */
-  readonly firing: Partial<Record<AlertName, Record<string, string>>>;
+  /**
+   * Alerts firing then, with their labels beyond alertname (one set per alert of that name,
+   * e.g. one per shard); every other alert is quiet.
+   */
+  readonly firing: Partial<Record<AlertName, Record<string, string> | Record<string, string>[]>>;
 }
 
 /** Writes the promtool test for one run and runs it; returns promtool's output. */
@@ -129,10 +132,11 @@ async function promtoolOn(name: string, run: ScrapedRun, expectations: Expectati
   const checks = expectations.flatMap((expectation) =>
     alertNames.map((alertname) => {
       const labels = expectation.firing[alertname];
+      const all = labels === undefined ? [] : Array.isArray(labels) ? labels : [labels];
       return {
         eval_time: `${expectation.at}s`,
         alertname,
-        exp_alerts: labels === undefined ? [] : [{ exp_labels: labels }],
+        exp_alerts: all.map((set) => ({ exp_labels: set })),
       };
     }),
   );
@@ -144,7 +148,7 @@ async function promtoolOn(name: string, run: ScrapedRun, expectations: Expectati
         interval: `${windowSeconds}s`,
         input_series: [...run.series].map(([series, values]) => ({
           series,
-          values: values.map((value) => (value === undefined ? '_' : promValue(value))).join(' '),
+          values: withStaleness(values).join(' '),
         })),
         alert_rule_test: checks,
       },
@@ -154,6 +158,43 @@ async function promtoolOn(name: string, run: ScrapedRun, expectations: Expectati
   // JSON is YAML: promtool reads it as a test file.
   writeFileSync(file, JSON.stringify(test));
   return promtool(['test', 'rules', file], scratch);
+}
+
+/**
+ * A series as Prometheus stores its scrapes: a series a scrape no longer has gets a
+ * staleness marker (common practice: Prometheus's staleness handling), so it is gone at
+ * once rather than seen for the 5-minute lookback; before its first sample it is missing.
+ */
+function withStaleness(values: readonly (number | undefined)[]): string[] {
+  return values.map((value, step) => {
+    if (value !== undefined) return promValue(value);
+    return step > 0 && values[step - 1] !== undefined ? 'stale' : '_';
+  });
+}
+
+/**
+ * The labels of the per-incident alerts (`shardwise_incident_open` of `finding`, `for: 1m`)
+ * that fire at `at` seconds: series present at every 10 s scrape of the last minute.
+ */
+function sustainedIncidents(
+  run: ScrapedRun,
+  finding: 'hotspot' | 'cold',
+  at: number,
+): Record<string, string>[] {
+  const fired: Record<string, string>[] = [];
+  for (const [series, values] of run.series) {
+    if (!series.startsWith('shardwise_incident_open{')) continue;
+    const labels = Object.fromEntries(
+      [...series.matchAll(/(\w+)="([^"]*)"/g)].map((match) => [match[1], match[2]]),
+    );
+    if (labels.finding !== finding) continue;
+    let held = true;
+    for (let step = (at - 60) / windowSeconds; step <= at / windowSeconds; step++) {
+      held &&= values[step] === 1;
+    }
+    if (held) fired.push({ ...labels, severity: 'warning' });
+  }
+  return fired;
 }
 
 function promValue(value: number): string {
@@ -206,6 +247,12 @@ describe('alert rules on scraped scenario runs', () => {
   it('fire ShardwiseHotspotSustained a minute into the planted hotspot incident, alone', async () => {
     const run = await scrapeScenario({ scenario: 'hotspot', minutes: 4 });
     const [opened, last] = incidentSpan(run, 'hotspot');
+    // The planted shard (src/scenario/built-in-scenarios.ts: seat-17 at 1.5x), and the test
+    // that opened its incident.
+    const incident = run.judgements
+      .flatMap((judgement) => judgement.incidents)
+      .find((candidate) => candidate.finding === 'hotspot');
+    expect(incident?.shard).toBe('seat-17');
     // Planted at 1:00 to 3:00; the incident opens after --confirm 3 windows.
     expect(opened).toBeGreaterThanOrEqual(80);
     expect(last - opened).toBeGreaterThan(90);
@@ -217,7 +264,9 @@ describe('alert rules on scraped scenario runs', () => {
         firing: {
           ShardwiseHotspotSustained: {
             ...model,
+            shard: 'seat-17',
             finding: 'hotspot',
+            test: incident?.test ?? '',
             ...target,
             severity: 'warning',
           },
@@ -232,12 +281,24 @@ describe('alert rules on scraped scenario runs', () => {
     const run = await scrapeScenario({ scenario: 'dead-shard', minutes: 4 });
     const [opened, last] = incidentSpan(run, 'cold');
     expect(last - opened).toBeGreaterThan(90);
+    // The dead shard (src/scenario/built-in-scenarios.ts: seat-42).
+    const incident = run.judgements
+      .flatMap((judgement) => judgement.incidents)
+      .find((candidate) => candidate.finding === 'cold');
+    expect(incident?.shard).toBe('seat-42');
     const result = await promtoolOn('dead-shard', run, [
       { at: opened - windowSeconds, firing: {} },
       {
         at: opened + 70,
         firing: {
-          ShardwiseShardCold: { ...model, finding: 'cold', ...target, severity: 'warning' },
+          ShardwiseShardCold: {
+            ...model,
+            shard: 'seat-42',
+            finding: 'cold',
+            test: incident?.test ?? '',
+            ...target,
+            severity: 'warning',
+          },
         },
       },
     ]);
@@ -259,11 +320,18 @@ describe('alert rules on scraped scenario runs', () => {
     expect(
       wrong.judgements.slice(10).some((judgement) => judgement.findings.includes('uneven')),
     ).toBe(false);
-    const uneven = { null: 'uniform', spread: 'auto', finding: 'uneven', ...target };
-    const hot = { ...uneven, finding: 'hotspot', severity: 'warning' };
+    // One page per heavy shard with an open incident (at most --max-flagged series).
+    const hot = [600, 990].map((at) => sustainedIncidents(wrong, 'hotspot', at));
+    for (const alerts of hot) {
+      expect(alerts.length).toBeGreaterThan(0);
+      expect(alerts.length).toBeLessThanOrEqual(defaultJudgeSettings.maxFlagged);
+      for (const labels of alerts) {
+        expect(labels).toMatchObject({ null: 'uniform', spread: 'auto', finding: 'hotspot' });
+      }
+    }
     let result = await promtoolOn('weighted-uniform', wrong, [
-      { at: 600, firing: { ShardwiseHotspotSustained: hot } },
-      { at: 990, firing: { ShardwiseHotspotSustained: hot } },
+      { at: 600, firing: { ShardwiseHotspotSustained: hot[0] } },
+      { at: 990, firing: { ShardwiseHotspotSustained: hot[1] } },
     ]);
     expect(result.stdout + result.stderr).not.toMatch(/FAILED/);
     expect(result.code).toBe(0);

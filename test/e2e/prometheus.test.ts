@@ -3,7 +3,11 @@
 // dashboards/*.rules.yml whose `for:` durations are cut to 4 s, scrapes two `shardwise
 // watch` processes at once: the hotspot scenario and the chance scenario, in real time
 // with 2 s windows. The hotspot alert reaches firing within a bounded time; over that
-// same time the chance run raises no alert at all, not even a pending one.
+// same time the chance run raises no alert at all, not even a pending one. The hotspot
+// alert names the planted shard (seat-17, src/scenario/built-in-scenarios.ts) in its
+// labels and carries its load, the chance ceiling and its p-value in its annotations; a
+// scrape holding the per-incident series passes `promtool check metrics`.
+import { spawn } from 'node:child_process';
 import { mkdtempSync, readFileSync, rmSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
@@ -16,9 +20,11 @@ import {
   startWatch,
   type Child,
 } from './prometheus-fixtures.js';
+import { requirePromtool } from '../dashboards/promtool.js';
 
 interface AlertState {
   readonly labels: Record<string, string>;
+  readonly annotations: Record<string, string>;
   readonly state: 'pending' | 'firing';
   readonly activeAt: string;
 }
@@ -54,6 +60,23 @@ async function query(
   expect(body.status).toBe('success');
   return body.data.result;
 }
+
+/** `promtool check metrics` on an exposition (stdin); exit 0 and no output when clean. */
+function checkMetrics(text: string): Promise<{ code: number | null; out: string }> {
+  return new Promise((resolve, reject) => {
+    const child = spawn(requirePromtool(), ['check', 'metrics'], { stdio: 'pipe' });
+    let out = '';
+    child.stdout.on('data', (d) => (out += d));
+    child.stderr.on('data', (d) => (out += d));
+    child.on('error', reject);
+    child.on('close', (code) => resolve({ code, out }));
+    child.stdin.end(text);
+  });
+}
+
+/** The hotspot alert's annotation when its shard is flagged in the latest window. */
+const flaggedNow =
+  /^relative load (\d+(?:\.\d+)?)x its fair share; chance ceiling (\d+(?:\.\d+)?)x; p-value (\d(?:\.\d+)?(?:e-\d+)?) \(fullest-shard test over all shards\)$/;
 
 async function alerts(url: string): Promise<AlertState[]> {
   const response = await fetch(`${url}/api/v1/alerts`);
@@ -118,21 +141,45 @@ describe('a real Prometheus server scraping shardwise watch', () => {
       await sleep(1000);
       const now = await alerts(prometheus.url);
       chanceAlerts.push(...now.filter((alert) => alert.labels.job === 'chance'));
+      // Firing, and read while its shard is flagged in the latest window (with 2 s windows
+      // a 1.5x shard is not flagged in every one: then the annotation says it is easing).
       firing = now.find(
         (alert) =>
           alert.labels.job === 'hotspot' &&
           alert.labels.alertname === 'ShardwiseHotspotSustained' &&
-          alert.state === 'firing',
+          alert.state === 'firing' &&
+          flaggedNow.test(alert.annotations.latest_window ?? ''),
       );
     }
     const elapsed = Date.now() - launched;
     expect(firing, `no firing hotspot alert within ${firingWithinMs} ms`).toBeDefined();
     expect(firing?.labels).toMatchObject({
+      shard: 'seat-17',
       finding: 'hotspot',
+      test: expect.stringMatching(/^(window|cusum)$/),
       null: 'map',
       spread: 'auto',
       severity: 'warning',
     });
+    expect(firing?.annotations.summary).toBe(
+      `Shard seat-17 on ${hotspot.address} carries a sustained hotspot beyond chance`,
+    );
+    // Load above the ceiling and a p-value at most alpha (0.001, the default): what
+    // flagged it.
+    const [, load, ceiling, p] = flaggedNow.exec(firing?.annotations.latest_window ?? '') ?? [];
+    expect(Number(load)).toBeGreaterThan(Number(ceiling));
+    expect(Number(p)).toBeLessThanOrEqual(0.001);
+    // The only hotspot alerts are seat-17's: one series per open incident.
+    const hotspotAlerts = (await alerts(prometheus.url)).filter(
+      (alert) => alert.labels.alertname === 'ShardwiseHotspotSustained',
+    );
+    expect(new Set(hotspotAlerts.map((alert) => alert.labels.shard))).toEqual(new Set(['seat-17']));
+
+    // A scrape with the per-incident and flagged p-value series passes promtool's linter.
+    const scrape = await (await fetch(`http://${hotspot.address}/metrics`)).text();
+    expect(scrape).toMatch(/^shardwise_incident_open\{[^}]*shard="seat-17"[^}]*\} 1$/m);
+    expect(scrape).toMatch(/^shardwise_flagged_shard_p_value\{/m);
+    expect(await checkMetrics(scrape)).toEqual({ code: 0, out: '' });
     expect(chanceAlerts).toEqual([]);
 
     // Both targets were scraped all along: the quiet chance run is not an empty one.

@@ -66,6 +66,7 @@ function feedHotspot(pipeline: JudgingPipeline, durationMs: number): void {
 }
 
 const model = { null: 'map', spread: 'auto' };
+const uniformModel = { null: 'uniform', spread: 'auto' };
 
 describe('VerdictMetrics', () => {
   it('shows the latest judgement with the null model and spread mode on each series', async () => {
@@ -326,6 +327,57 @@ describe('VerdictMetrics', () => {
     window(3, null);
     flagged = samplesOf(await scrape(), 'shardwise_flagged_shard_relative_load');
     expect(flagged).toEqual([]);
+  });
+
+  it('names the shard of each open incident, at most --max-flagged, flagged ones first, until it clears', async () => {
+    const universe = ShardUniverse.fromShardsOption('s-0..s-31');
+    const { pipeline, judgements, scrape } = observed(universe, {
+      null: 'uniform',
+      maxFlagged: 2,
+    });
+    // hot: shard -> count (others 100).
+    const window = (index: number, hot: Record<string, number>) => {
+      for (let shard = 0; shard < 32; shard++) {
+        const id = `s-${shard}`;
+        pipeline.record(startMs + index * windowMs, id, hot[id] ?? 100);
+      }
+    };
+    const open = async () =>
+      samplesOf(await scrape(), 'shardwise_incident_open').map((sample) => sample.labels);
+    // s-1 runs hot from window 0, s-2 from window 1, s-5 (hotter) from window 2.
+    window(0, { 's-1': 300 });
+    window(1, { 's-1': 300, 's-2': 300 });
+    for (let index = 2; index < 6; index++) window(index, { 's-1': 300, 's-2': 300, 's-5': 400 });
+    window(6, { 's-5': 400 });
+    // Window 5 judged: three hotspot incidents open, two shown: those flagged now.
+    const last = judgements.at(-1) as Judgement;
+    expect(last.incidents.map((incident) => incident.shard).sort()).toEqual(['s-1', 's-2', 's-5']);
+    const shown = await open();
+    expect(last.flagged.map((shard) => shard.shard)).toContain('s-5');
+    expect(shown.map((labels) => labels.shard).sort()).toEqual(
+      last.flagged.map((shard) => shard.shard).sort(),
+    );
+    for (const labels of shown) {
+      expect(labels).toMatchObject({ ...uniformModel, finding: 'hotspot' });
+      expect(['window', 'cusum']).toContain(labels.test);
+    }
+    // The adjusted p-value of every flagged shard beside its relative load.
+    const pValues = samplesOf(await scrape(), 'shardwise_flagged_shard_p_value');
+    expect(pValues.map((sample) => [sample.labels.shard, sample.value]).sort()).toEqual(
+      last.flagged.map((shard) => [shard.shard, shard.p]).sort(),
+    );
+    // Window 6 judged: only s-5 flagged; then the longest open of the easing ones, s-1.
+    window(7, { 's-5': 400 });
+    const later = judgements.at(-1) as Judgement;
+    expect(later.flagged.map((shard) => shard.shard)).toEqual(['s-5']);
+    expect(later.incidents).toHaveLength(3);
+    expect((await open()).map((labels) => labels.shard).sort()).toEqual(['s-1', 's-5']);
+    expect(samplesOf(await scrape(), 'shardwise_flagged_shard_p_value')).toHaveLength(1);
+    // Everything calm: once the incidents clear (--clear 5 clean windows), no series is left.
+    for (let index = 8; index < 16; index++) window(index, {});
+    expect((judgements.at(-1) as Judgement).incidents).toEqual([]);
+    expect(await open()).toEqual([]);
+    expect(samplesOf(await scrape(), 'shardwise_flagged_shard_p_value')).toEqual([]);
   });
 
   it('counts records by outcome and rejections by reason from the pipeline totals', async () => {
