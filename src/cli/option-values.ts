@@ -34,17 +34,69 @@ export function parseOptions<T extends NonNullable<ParseArgsConfig['options']>>(
   try {
     return parseArgs({ args, options, strict: true, allowPositionals: false }).values;
   } catch (error) {
-    const message = error instanceof Error ? error.message : String(error);
-    const unknown = /Unknown option '([^']+)'/.exec(message);
-    if (unknown)
-      throw new UsageError(unknown[1], unknown[1], 'is not an option of this command (see --help)');
-    const missing = /Option '([^']+?)(?: <value>)?' argument missing/.exec(message);
-    if (missing) throw new UsageError(missing[1].split(',').pop()!.trim(), '', 'needs a value');
-    const unexpected = /Unexpected argument '([^']+)'/.exec(message);
-    if (unexpected)
-      throw new UsageError('argument', unexpected[1], 'is not expected (options start with --)');
-    throw new UsageError('arguments', argv.join(' '), message.split('\n')[0]);
+    throw usageErrorOf(error, args, argv, options);
   }
+}
+
+/**
+ * Turns a parseArgs error into the UsageError users see. The kind of mistake comes from the
+ * error's `code`, which Node keeps stable across versions (its message text is not); the
+ * option or argument at fault comes from parseArgs' own tokens of the same arguments read
+ * leniently: the first token that breaks the rule the code names is the one strict mode
+ * stopped at, since it throws on the first.
+ */
+function usageErrorOf(
+  error: unknown,
+  args: readonly string[],
+  argv: readonly string[],
+  options: NonNullable<ParseArgsConfig['options']>,
+): UsageError {
+  const code = (error as { code?: unknown } | null)?.code;
+  const { tokens } = parseArgs({
+    args: [...args],
+    options,
+    strict: false,
+    allowPositionals: true,
+    tokens: true,
+  });
+  switch (code) {
+    case 'ERR_PARSE_ARGS_UNKNOWN_OPTION': {
+      const unknown = tokens.find(
+        (token) => token.kind === 'option' && !Object.hasOwn(options, token.name),
+      );
+      if (unknown?.kind === 'option')
+        return new UsageError(
+          unknown.rawName,
+          unknown.rawName,
+          'is not an option of this command (see --help)',
+        );
+      break;
+    }
+    case 'ERR_PARSE_ARGS_INVALID_OPTION_VALUE': {
+      // The same code covers a value given to a switch and a value that looks like an
+      // option; only a string option left without any value "needs a value".
+      const faulty = tokens.find((token) => {
+        if (token.kind !== 'option' || !Object.hasOwn(options, token.name)) return false;
+        if (options[token.name].type === 'boolean') return token.value !== undefined;
+        return token.value === undefined || (!token.inlineValue && token.value.startsWith('-'));
+      });
+      if (faulty?.kind === 'option' && faulty.value === undefined)
+        return new UsageError(`--${faulty.name}`, '', 'needs a value');
+      break;
+    }
+    case 'ERR_PARSE_ARGS_UNEXPECTED_POSITIONAL': {
+      const positional = tokens.find((token) => token.kind === 'positional');
+      if (positional?.kind === 'positional')
+        return new UsageError(
+          'argument',
+          positional.value,
+          'is not expected (options start with --)',
+        );
+      break;
+    }
+  }
+  const message = error instanceof Error ? error.message : String(error);
+  return new UsageError('arguments', argv.join(' '), message.split('\n')[0]);
 }
 
 /** A whole number in [min, 2^53 - 1]. */

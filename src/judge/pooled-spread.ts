@@ -33,6 +33,17 @@ import { select } from './dispersion-scaling.js';
  * uses is the upper end of a two-sided 95% Student t interval with k - 1 degrees of freedom
  * (lib-r-math.js qt, R's qt): phi_upper = phi + t_{0.975, k-1} se. A t-like widening,
  * stated: it treats the shards' pooled means as independent and equally informative.
+ *
+ * Libraries: the selections behind the median and MAD are simple-statistics' quickselect
+ * (through {@link select}). Its median and medianAbsoluteDeviation are not used: both average
+ * the two middle values of an even count (R type 7), where this line takes the upper middle
+ * value, and the change would move the robust line and with it which shards are left out.
+ * Written here because simple-statistics has none of them: the exponentially weighted
+ * pooled sums, phi = sum S_i / sum W_i (its weightedMean of the M_i with weights W_i is the
+ * same quantity in other rounding), the unweighted spread of the M_i about that weighted phi
+ * over k - 1 (its sampleStandardDeviation centres on the plain mean, its
+ * weightedStandardDeviation weighs by W_i over sum W_i) and the standard error of a weighted
+ * mean of unit means; the t quantile comes from lib-r-math.js, simple-statistics has none.
  * O(m) per window (a few passes when shards are left out).
  */
 

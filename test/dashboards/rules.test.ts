@@ -10,7 +10,7 @@ import { afterAll, describe, expect, it } from 'vitest';
 import { exportedMetricNames } from './exported-names.js';
 import { metricNames } from './promql-names.js';
 import { promtool, requirePromtool } from './promtool.js';
-import { parseYamlSubset, type YamlValue } from './yaml-subset.js';
+import { readRuleYaml, type YamlValue } from './rule-yaml.js';
 
 const dashboards = fileURLToPath(new URL('../../dashboards/', import.meta.url));
 const ruleFiles = ['shardwise-recording.rules.yml', 'shardwise-alerts.rules.yml'];
@@ -26,7 +26,7 @@ interface Rule {
 }
 
 function rulesOf(file: string): Rule[] {
-  const document = parseYamlSubset(readFileSync(join(dashboards, file), 'utf8')) as unknown as {
+  const document = readRuleYaml(readFileSync(join(dashboards, file), 'utf8'), file) as unknown as {
     groups: { name: string; rules: Rule[] }[];
   };
   return document.groups.flatMap((group) => group.rules);
@@ -117,8 +117,9 @@ describe('rule files', () => {
   });
 
   it('have a promtool case where each alert fires and one where it stays quiet', () => {
-    const document = parseYamlSubset(
+    const document = readRuleYaml(
       readFileSync(join(dashboards, 'shardwise-alerts.test.yml'), 'utf8'),
+      'shardwise-alerts.test.yml',
     ) as { tests: { alert_rule_test: { alertname: string; exp_alerts: YamlValue[] }[] }[] };
     for (const rule of alertingRules) {
       const checks = document.tests

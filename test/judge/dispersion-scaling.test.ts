@@ -2,7 +2,7 @@ import fc from 'fast-check';
 import { describe, expect, it } from 'vitest';
 import { makePlacement } from '../../src/chance/placement.js';
 import { robustDispersion } from '../../src/chance/spread.js';
-import { robustSpread, scaleCounts } from '../../src/judge/dispersion-scaling.js';
+import { robustSpread, scaleCounts, select } from '../../src/judge/dispersion-scaling.js';
 
 describe('scaleCounts', () => {
   it('rounds to whole counts and keeps every non-empty shard non-empty', () => {
@@ -62,6 +62,43 @@ describe('robustSpread', () => {
           );
           const reference = robustDispersion(placement, counts);
           expect(ours).toBeCloseTo(reference, 9);
+        },
+      ),
+      { numRuns: 300 },
+    );
+  });
+});
+
+describe('robustSpread with one shard expected to load', () => {
+  it('reads its residual, not what the rest of the scratch buffer holds', () => {
+    // Worked by hand: shares [1, 0, 0], counts [7, 3, 0], N = 10: expected 10 on shard 0,
+    // residual (7 - 10)^2 / 10 = 0.9, over the chi-square(1) median 0.4549364 (R qchisq(0.5, 1)).
+    const scratch = new Float64Array(3);
+    const shares = Float64Array.from([1, 0, 0]);
+    expect(robustSpread([7, 3, 0], 10, shares, scratch)).toBeCloseTo(0.9 / 0.4549364, 6);
+  });
+});
+
+describe('select (simple-statistics quickselect over a prefix)', () => {
+  it('returns the k-th smallest of the prefix and leaves no larger value before it', () => {
+    // Reference: a full numeric sort of the same prefix (common practice).
+    fc.assert(
+      fc.property(
+        fc.array(fc.double({ min: -1e6, max: 1e6, noNaN: true }), {
+          minLength: 1,
+          maxLength: 1500,
+        }),
+        fc.nat(40),
+        fc.nat(),
+        (prefix, extra, at) => {
+          const values = new Float64Array(prefix.length + extra).fill(-1e9);
+          values.set(prefix);
+          const k = at % prefix.length;
+          const sorted = [...prefix].sort((a, b) => a - b);
+          expect(select(values, prefix.length, k)).toBe(sorted[k]);
+          for (let i = 0; i < k; i++) expect(values[i]).toBeLessThanOrEqual(values[k]);
+          expect([...values.subarray(0, prefix.length)].sort((a, b) => a - b)).toEqual(sorted);
+          for (let i = prefix.length; i < values.length; i++) expect(values[i]).toBe(-1e9);
         },
       ),
       { numRuns: 300 },

@@ -1,4 +1,4 @@
-import { chiSquaredDistributionTable } from 'simple-statistics';
+import { chiSquaredDistributionTable, mean as sampleMean, sampleVariance } from 'simple-statistics';
 import { describe, expect, it } from 'vitest';
 import { RandomDraws } from '../../src/scenario/random-draws.js';
 import { UsageError } from '../../src/window/errors.js';
@@ -8,11 +8,9 @@ function draws(seed: number, count: number, draw: (random: RandomDraws) => numbe
   return Array.from({ length: count }, () => draw(random));
 }
 
-function meanAndVariance(values: readonly number[]): { mean: number; variance: number } {
-  const mean = values.reduce((sum, value) => sum + value, 0) / values.length;
-  const variance =
-    values.reduce((sum, value) => sum + (value - mean) ** 2, 0) / (values.length - 1);
-  return { mean, variance };
+/** Sample mean and variance (n - 1): simple-statistics' mean and sampleVariance. */
+function meanAndVariance(values: number[]): { mean: number; variance: number } {
+  return { mean: sampleMean(values), variance: sampleVariance(values) };
 }
 
 describe('RandomDraws', () => {

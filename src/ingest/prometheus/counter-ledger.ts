@@ -1,3 +1,4 @@
+import { median as simpleMedian } from 'simple-statistics';
 import { longestShardId, type RejectionReason } from '../../window/count-record.js';
 import type { SourceItem } from '../file-source.js';
 import { isWellFormedText } from '../utf8-text.js';
@@ -416,9 +417,11 @@ function intervalOf(state: SeriesState): number {
   return state.median;
 }
 
+/**
+ * simple-statistics' median (R type 7: the mean of the middle two of an even count), which
+ * throws on none. The spacings are whole milliseconds (prometheus-api.ts rounds the
+ * timestamps), so its a + (b - a) / 2 is exactly (a + b) / 2.
+ */
 function median(values: readonly number[]): number {
-  if (values.length === 0) return Number.NaN;
-  const sorted = [...values].sort((a, b) => a - b);
-  const middle = sorted.length >> 1;
-  return sorted.length % 2 === 1 ? sorted[middle] : (sorted[middle - 1] + sorted[middle]) / 2;
+  return values.length === 0 ? Number.NaN : simpleMedian(values as number[]);
 }
