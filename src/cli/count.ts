@@ -1,4 +1,4 @@
-import { KafkaSummaryPublisher } from '../ingest/kafka-summary-publisher.js';
+import { KafkaSummaryPublisher } from '../ingest/kafka/summary-publisher.js';
 import { kafkaGroupRecordSource } from '../ingest/record-source.js';
 import { PartialCountSink } from '../partials/partial-count-sink.js';
 import { UsageError } from '../window/errors.js';

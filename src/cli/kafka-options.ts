@@ -5,9 +5,9 @@ import {
   type KafkaSasl,
   type KafkaTls,
   type SaslMechanismName,
-} from '../ingest/kafka-connection.js';
-import type { ShardFrom } from '../ingest/kafka-message-decoder.js';
-import type { StartPosition } from '../ingest/kafka-source.js';
+} from '../ingest/kafka/connection.js';
+import type { ShardFrom } from '../ingest/kafka/message-decoder.js';
+import type { StartPosition } from '../ingest/kafka/source.js';
 import { parseIsoTimestamp } from '../ingest/timestamp.js';
 import { UsageError } from '../window/errors.js';
 

@@ -1,5 +1,5 @@
 import { readFileSync, statSync } from 'node:fs';
-import { SecretText } from '../ingest/kafka-connection.js';
+import { SecretText } from '../ingest/kafka/connection.js';
 import type { PrometheusConnection } from '../ingest/prometheus/prometheus-api.js';
 import { UsageError } from '../window/errors.js';
 

@@ -1,6 +1,6 @@
 import { access, constants, writeFile } from 'node:fs/promises';
 import type { Readable } from 'node:stream';
-import { describeKafkaEvent } from '../ingest/kafka-events.js';
+import { describeKafkaEvent } from '../ingest/kafka/events.js';
 import { fileRecordSource, kafkaRecordSource } from '../ingest/record-source.js';
 import { parseIsoTimestamp } from '../ingest/timestamp.js';
 import { Judge } from '../judge/judge.js';

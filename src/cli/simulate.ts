@@ -1,5 +1,5 @@
-import { describeKafkaEvent } from '../ingest/kafka-events.js';
-import { produceToKafka } from '../ingest/kafka-sink.js';
+import { describeKafkaEvent } from '../ingest/kafka/events.js';
+import { produceToKafka } from '../ingest/kafka/sink.js';
 import { ScenarioSource } from '../ingest/scenario-source.js';
 import type { ScenarioRun } from '../scenario/scenario-run.js';
 import type { CommandIO } from './command.js';

@@ -2,8 +2,8 @@ import { access, constants } from 'node:fs/promises';
 import type { Readable } from 'node:stream';
 import { metricsHost, metricsPort } from '../exporter/metrics-address.js';
 import { startMetricsExporter } from '../exporter/metrics-exporter.js';
-import { describeKafkaEvent } from '../ingest/kafka-events.js';
-import { KafkaOffsetsSource } from '../ingest/kafka-offsets-source.js';
+import { describeKafkaEvent } from '../ingest/kafka/events.js';
+import { KafkaOffsetsSource } from '../ingest/kafka/offsets-source.js';
 import {
   fileRecordSource,
   kafkaRecordSource,

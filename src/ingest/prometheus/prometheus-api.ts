@@ -1,6 +1,6 @@
 import { request as httpRequest, type IncomingMessage } from 'node:http';
 import { request as httpsRequest } from 'node:https';
-import type { SecretText } from '../kafka-connection.js';
+import type { SecretText } from '../kafka/connection.js';
 import type { CounterSeries } from './counter-ledger.js';
 
 /** How to reach a Prometheus server's HTTP API. */

@@ -13,7 +13,7 @@ import { createServer as createTlsServer } from 'node:https';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { SecretText } from '../../../src/ingest/kafka-connection.js';
+import { SecretText } from '../../../src/ingest/kafka/connection.js';
 import {
   PrometheusQueryError,
   readRangeVector,

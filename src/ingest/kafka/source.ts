@@ -1,40 +1,41 @@
 import { randomUUID } from 'node:crypto';
-import { itemsOf } from './batch-items.js';
+import { itemsOf } from '../batch-items.js';
 import type { Admin, Consumer, EachBatchPayload, Kafka, KafkaMessage } from 'kafkajs';
-import type { CountRecord, RejectionReason } from '../window/count-record.js';
-import { UsageError } from '../window/errors.js';
-import type { RecordSink } from './decode.js';
-import type { SourceItem } from './file-source.js';
+import type { CountRecord, RejectionReason } from '../../window/count-record.js';
+import { UsageError } from '../../window/errors.js';
+import type { RecordSink } from '../decode.js';
+import type { SourceItem } from '../file-source.js';
 import {
   brokerText,
   createKafkaClient,
   type KafkaClientLog,
   type KafkaConnectionOptions,
-} from './kafka-connection.js';
+} from './connection.js';
 import {
-  BrokersUnreachableError,
   causeText,
   isRetriable,
+  isRetriableConnectError,
   KafkaIngestError,
   KafkaPartitionError,
   KafkaTopicError,
-} from './kafka-errors.js';
-import type { KafkaSourceEvent, KafkaSourceListener, PartitionOffset } from './kafka-events.js';
-import { KafkaMessageDecoder, type ShardFrom } from './kafka-message-decoder.js';
-import { PartitionAlignment } from './kafka-partition-alignment.js';
+} from './errors.js';
+import type { KafkaSourceEvent, KafkaSourceListener, PartitionOffset } from './events.js';
+import { KafkaMessageDecoder, type ShardFrom } from './message-decoder.js';
+import { PartitionAlignment } from './partition-alignment.js';
 import {
   commitMetadata,
   judgedThroughFromMetadata,
   OffsetLedger,
   type WindowGeometry,
-} from './kafka-offset-ledger.js';
+} from './offset-ledger.js';
 import {
   backoffDelay,
   checkBackoffPolicy,
   retryWithBackoff,
-  RetriesExhausted,
+  unreachableBrokersError,
   type BackoffPolicy,
-} from './kafka-retry.js';
+} from './retry.js';
+import { describedPartitionCount } from './topic-metadata.js';
 
 /** Where to start a partition the group has no committed position for (`--from`). */
 export type StartPosition =
@@ -167,7 +168,7 @@ const defaultConsumerRestart: BackoffPolicy = {
  * replayed stretch may be counted again.
  *
  * Faults. Connecting retries with capped exponential backoff and jitter, then
- * fails with {@link BrokersUnreachableError} naming the brokers. A consumer
+ * fails with `BrokersUnreachableError` naming the brokers. A consumer
  * that crashes (the client gives up on a request, or hits a non-retriable
  * error) is replaced by a new one on the same group, with the same backoff;
  * the client's own restart is switched off so every crash comes here.
@@ -414,17 +415,11 @@ export class KafkaSource implements AsyncIterable<SourceItem> {
     } catch (error) {
       if (this.closed) return;
       const failure =
-        error instanceof RetriesExhausted
-          ? new BrokersUnreachableError(
-              this.options.brokers,
-              error.attempts,
-              error.elapsedMs,
-              error.cause,
-            )
-          : new KafkaIngestError(
-              `cannot start the Kafka consumer of --topic ${this.topic} (--group ${this.groupId}): ${causeText(error)}`,
-              { cause: error },
-            );
+        unreachableBrokersError(error, this.options.brokers) ??
+        new KafkaIngestError(
+          `cannot start the Kafka consumer of --topic ${this.topic} (--group ${this.groupId}): ${causeText(error)}`,
+          { cause: error },
+        );
       this.fail(failure);
       throw failure;
     }
@@ -441,8 +436,7 @@ export class KafkaSource implements AsyncIterable<SourceItem> {
     try {
       const info = await retryWithBackoff(() => this.readStart(admin), this.connectRetry, {
         signal: this.stopping.signal,
-        shouldRetry: (error) =>
-          error instanceof KafkaIngestError ? error.retriable : isRetriable(error),
+        shouldRetry: isRetriableConnectError,
         onRetry: (failures, delayMs, error) =>
           this.emit({ type: 'connect-retry', brokers, failures, delayMs, error: causeText(error) }),
       });
@@ -452,14 +446,8 @@ export class KafkaSource implements AsyncIterable<SourceItem> {
       }
       return info;
     } catch (error) {
-      if (error instanceof RetriesExhausted) {
-        throw new BrokersUnreachableError(
-          this.options.brokers,
-          error.attempts,
-          error.elapsedMs,
-          error.cause,
-        );
-      }
+      const unreachable = unreachableBrokersError(error, this.options.brokers);
+      if (unreachable !== null) throw unreachable;
       if (error instanceof KafkaIngestError || this.stopping.signal.aborted) throw error;
       throw new KafkaIngestError(
         `cannot start reading --topic ${this.topic} from ${brokers}: ${causeText(error)}`,
@@ -542,12 +530,7 @@ export class KafkaSource implements AsyncIterable<SourceItem> {
 
   private async partitionCount(admin: Admin): Promise<number> {
     try {
-      const { topics } = await admin.fetchTopicMetadata({ topics: [this.topic] });
-      const count = topics[0]?.partitions.length ?? 0;
-      if (count === 0) {
-        throw new KafkaTopicError(this.topic, `--topic ${this.topic} has no partitions`);
-      }
-      return count;
+      return await describedPartitionCount(admin, this.topic, `--topic ${this.topic}`);
     } catch (error) {
       const type = (error as { type?: string }).type;
       if (type === 'UNKNOWN_TOPIC_OR_PARTITION') {

@@ -115,6 +115,14 @@ export function isRetriable(error: unknown): boolean {
   return (innermost as { retriable?: unknown } | null)?.retriable === true;
 }
 
+/**
+ * Whether a connection attempt that failed this way is worth another: our own
+ * errors say so themselves, the client's by their cause chain ({@link isRetriable}).
+ */
+export function isRetriableConnectError(error: unknown): boolean {
+  return error instanceof KafkaIngestError ? error.retriable : isRetriable(error);
+}
+
 /** The innermost message of an error's cause chain, the one that says what actually happened. */
 export function causeText(error: unknown): string {
   const messages: string[] = [];

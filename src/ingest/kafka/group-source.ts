@@ -1,16 +1,13 @@
 import type { Consumer, EachBatchPayload, Kafka } from 'kafkajs';
-import type { RejectionReason } from '../window/count-record.js';
-import { UsageError } from '../window/errors.js';
-import type { RecordSink } from './decode.js';
-import type { SourceItem } from './file-source.js';
-import { brokerText, createKafkaClient, type KafkaConnectionOptions } from './kafka-connection.js';
-import { causeText, KafkaIngestError, KafkaTopicError } from './kafka-errors.js';
-import { KafkaMessageDecoder, type ShardFrom } from './kafka-message-decoder.js';
-import {
-  commitMetadata,
-  judgedThroughFromMetadata,
-  PartitionLedger,
-} from './kafka-offset-ledger.js';
+import type { RejectionReason } from '../../window/count-record.js';
+import { UsageError } from '../../window/errors.js';
+import type { RecordSink } from '../decode.js';
+import type { SourceItem } from '../file-source.js';
+import { createKafkaClient, type KafkaConnectionOptions } from './connection.js';
+import { causeText, KafkaIngestError } from './errors.js';
+import { KafkaMessageDecoder, type ShardFrom } from './message-decoder.js';
+import { partitionCount } from './topic-metadata.js';
+import { commitMetadata, judgedThroughFromMetadata, PartitionLedger } from './offset-ledger.js';
 
 /** What a group source reports while it runs. */
 export type GroupSourceEvent =
@@ -430,30 +427,5 @@ class FeedHandoff {
     this.feeding = null;
     this.offered?.finished(false);
     this.offered = null;
-  }
-}
-
-/** A topic's partition count; a KafkaTopicError naming the topic when it has none or cannot be described. */
-export async function partitionCount(
-  kafka: Kafka,
-  topic: string,
-  options: KafkaConnectionOptions,
-): Promise<number> {
-  const admin = kafka.admin();
-  try {
-    await admin.connect();
-    const { topics } = await admin.fetchTopicMetadata({ topics: [topic] });
-    const count = topics[0]?.partitions.length ?? 0;
-    if (count === 0) throw new KafkaTopicError(topic, `topic ${topic} has no partitions`);
-    return count;
-  } catch (error) {
-    if (error instanceof KafkaTopicError) throw error;
-    throw new KafkaTopicError(
-      topic,
-      `topic ${topic} cannot be described on ${brokerText(options)}: ${causeText(error)}`,
-      { cause: error },
-    );
-  } finally {
-    await admin.disconnect().catch(() => undefined);
   }
 }

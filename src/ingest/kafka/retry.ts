@@ -1,5 +1,5 @@
 import { setTimeout as sleepFor } from 'node:timers/promises';
-import { isRetriable } from './kafka-errors.js';
+import { BrokersUnreachableError, isRetriable } from './errors.js';
 
 /** How often and how patiently to retry. */
 export interface BackoffPolicy {
@@ -101,4 +101,16 @@ export async function retryWithBackoff<T>(
       await sleepFor(delayMs, undefined, { signal: hooks.signal });
     }
   }
+}
+
+/**
+ * Connecting that ran out of attempts ({@link RetriesExhausted}) as the error
+ * naming the brokers of `--brokers`; null for any other error.
+ */
+export function unreachableBrokersError(
+  error: unknown,
+  brokers: readonly string[],
+): BrokersUnreachableError | null {
+  if (!(error instanceof RetriesExhausted)) return null;
+  return new BrokersUnreachableError(brokers, error.attempts, error.elapsedMs, error.cause);
 }
