@@ -9,7 +9,7 @@ import {
 import type { ShardFrom } from '../ingest/kafka/message-decoder.js';
 import type { StartPosition } from '../ingest/kafka/source.js';
 import { parseIsoTimestamp } from '../ingest/timestamp.js';
-import { UsageError } from '../window/errors.js';
+import { UsageError } from '../errors/usage-error.js';
 
 /**
  * The Kafka options of `watch`, `review` and `simulate`: their parseArgs

@@ -15,7 +15,7 @@ import { formatTime } from '../review/report-text.js';
 import { ReviewBuilder } from '../review/review-model.js';
 import type { ReviewWindow } from '../review/review-window.js';
 import { rejudgeRecording } from '../review/rejudge.js';
-import { UsageError } from '../window/errors.js';
+import { UsageError } from '../errors/usage-error.js';
 import { ShardUniverse } from '../window/shard-universe.js';
 import { terminalMessage } from '../window/visible-text.js';
 import type { Command, CommandIO } from './command.js';

@@ -23,7 +23,7 @@ import {
   type RunSettings,
 } from './run-settings.js';
 import type { RejectionReason } from '../window/count-record.js';
-import { UsageError } from '../window/errors.js';
+import { UsageError } from '../errors/usage-error.js';
 import { ShardUniverse } from '../window/shard-universe.js';
 import { jsonSafe, terminalMessage, terminalSafe } from '../window/visible-text.js';
 import type { Command, CommandIO } from './command.js';

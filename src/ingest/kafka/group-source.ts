@@ -1,6 +1,6 @@
 import type { Consumer, EachBatchPayload, Kafka } from 'kafkajs';
 import type { RejectionReason } from '../../window/count-record.js';
-import { UsageError } from '../../window/errors.js';
+import { UsageError } from '../../errors/usage-error.js';
 import type { RecordSink } from '../decode.js';
 import type { SourceItem } from '../file-source.js';
 import { createKafkaClient, type KafkaConnectionOptions } from './connection.js';

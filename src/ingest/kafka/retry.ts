@@ -1,5 +1,6 @@
 import { setTimeout as sleepFor } from 'node:timers/promises';
 import { BrokersUnreachableError, isRetriable } from './errors.js';
+import { ShardwiseError } from '../../errors/shardwise-error.js';
 
 /** How often and how patiently to retry. */
 export interface BackoffPolicy {
@@ -59,7 +60,7 @@ export interface RetryHooks {
 }
 
 /** Thrown by {@link retryWithBackoff} when every attempt failed with a retriable error. */
-export class RetriesExhausted extends Error {
+export class RetriesExhausted extends ShardwiseError {
   /** Attempts made. */
   readonly attempts: number;
   /** From the first attempt to the last failure, ms. */

@@ -1,6 +1,6 @@
 import { CompressionTypes, Partitioners, type Message, type Producer } from 'kafkajs';
 import type { CountRecord } from '../../window/count-record.js';
-import { UsageError } from '../../window/errors.js';
+import { UsageError } from '../../errors/usage-error.js';
 import { encodeJsonLine } from '../encode.js';
 import { brokerText, createKafkaClient, type KafkaConnectionOptions } from './connection.js';
 import {

@@ -2,7 +2,7 @@ import { randomUUID } from 'node:crypto';
 import { itemsOf } from '../batch-items.js';
 import type { Admin, Consumer, EachBatchPayload, Kafka, KafkaMessage } from 'kafkajs';
 import type { CountRecord, RejectionReason } from '../../window/count-record.js';
-import { UsageError } from '../../window/errors.js';
+import { UsageError } from '../../errors/usage-error.js';
 import type { RecordSink } from '../decode.js';
 import type { SourceItem } from '../file-source.js';
 import {

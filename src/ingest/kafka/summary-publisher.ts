@@ -2,7 +2,7 @@ import { randomUUID } from 'node:crypto';
 import { Partitioners, type Kafka, type Producer } from 'kafkajs';
 import type { ClosedWindowParts } from '../../partials/partial-count-sink.js';
 import { encodePartialSummary, type PartialSummary } from '../../partials/partial-summary.js';
-import { UsageError } from '../../window/errors.js';
+import { UsageError } from '../../errors/usage-error.js';
 import { createKafkaClient, type KafkaConnectionOptions } from './connection.js';
 import { partitionCount } from './topic-metadata.js';
 

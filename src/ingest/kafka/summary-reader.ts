@@ -5,7 +5,7 @@ import {
   PartialSummaryError,
   type PartialSummary,
 } from '../../partials/partial-summary.js';
-import { UsageError } from '../../window/errors.js';
+import { UsageError } from '../../errors/usage-error.js';
 import { createKafkaClient, type KafkaConnectionOptions } from './connection.js';
 import { causeText, KafkaIngestError } from './errors.js';
 import { describedPartitionCount } from './topic-metadata.js';

@@ -4,7 +4,7 @@
 import { describe, expect, it } from 'vitest';
 import { KafkaSource, type KafkaSourceOptions } from '../../../src/ingest/kafka/source.js';
 import type { KafkaSourceEvent } from '../../../src/ingest/kafka/events.js';
-import { UsageError } from '../../../src/window/errors.js';
+import { UsageError } from '../../../src/errors/usage-error.js';
 
 const nowhere: KafkaSourceOptions = {
   brokers: ['127.0.0.1:9'],

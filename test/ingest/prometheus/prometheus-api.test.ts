@@ -19,7 +19,7 @@ import {
   readRangeVector,
 } from '../../../src/ingest/prometheus/prometheus-api.js';
 import { PrometheusSource } from '../../../src/ingest/prometheus/prometheus-source.js';
-import { UsageError } from '../../../src/window/errors.js';
+import { UsageError } from '../../../src/errors/usage-error.js';
 
 interface Seen {
   method: string;
