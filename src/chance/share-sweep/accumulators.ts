@@ -1,4 +1,5 @@
 import type { Coefficients } from './coefficient-table.js';
+
 /** Running sums of a binomial walk; tails are kept as multiples of e^reference. */
 export interface TailAccumulator {
   reference: number;

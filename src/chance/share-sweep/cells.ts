@@ -13,6 +13,7 @@ import {
   packedWidth,
   widerOrders,
 } from './taylor-nodes.js';
+
 /** A cubic cell off its interpolant by more than this at its midpoint is refused. */
 const CELL_CHECK = 1e-8;
 

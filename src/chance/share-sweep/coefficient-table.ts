@@ -15,6 +15,7 @@ import {
   thresholdAt,
 } from './sorted-shares.js';
 import { aSeries, FULL, MAX_ORDER, type NodeSetting, type Orders } from './taylor-nodes.js';
+
 /** Thresholds spanning at most this many counts make every count a node. */
 const DIRECT_COUNTS = 48;
 

@@ -1,6 +1,7 @@
 import type { CutAccumulator } from './accumulators.js';
 import { PRUNE_EXACT, type ShareSweep, type Side } from './sorted-shares.js';
 import { walk } from './walk.js';
+
 /** What a Poisson sweep returns: the pieces of Levin's representation of "no shard reaches". */
 export interface CutSums {
   /** log prod_i P(Y_i does not reach its threshold). */

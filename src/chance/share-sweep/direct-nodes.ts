@@ -10,6 +10,7 @@ import {
   packedWidth,
   widerOrders,
 } from './taylor-nodes.js';
+
 /** Largest number of parts a direct bucket is cut into. */
 const MAX_PARTS = 16;
 

@@ -10,6 +10,7 @@ import {
   pack,
   packedWidth,
 } from './taylor-nodes.js';
+
 /** Interpolants tried, by number of Chebyshev intervals. */
 const SMOOTH_DEGREES = [16, 32, 64];
 

@@ -1,4 +1,5 @@
 import { type Placement, roundingSlack } from '../placement.js';
+
 /**
  * Sums over many weighted shards of their single-shard tails at one relative load, with no
  * special-function call per shard.

@@ -3,6 +3,7 @@ import { rankTail, type TailAccumulator, type TailState } from './accumulators.j
 import { prepare, reusable, TableLookup } from './coefficient-table.js';
 import { PRUNE_EXACT, type ShareSweep, type Side, type SweepQuery } from './sorted-shares.js';
 import { walk } from './walk.js';
+
 /** What a binomial sweep returns: the first Bonferroni sum and what its pair estimate needs. */
 export interface TailSums {
   /** log sum_i P(X_i reaches its threshold). */

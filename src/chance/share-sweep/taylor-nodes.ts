@@ -6,6 +6,7 @@ import {
   logPoissonAtMost,
 } from '../tails.js';
 import type { Side, SweepLaw } from './sorted-shares.js';
+
 /**
  * What every exact node of one table shares: the side, the law, the requests in all and
  * the scale from share to position (relative load times total).

@@ -10,6 +10,7 @@ import {
 import { type Coefficients, prepare } from './coefficient-table.js';
 import { PRUNE_EXACT, type SweepQuery } from './sorted-shares.js';
 import { FULL } from './taylor-nodes.js';
+
 /**
  * One pass over the shards in ascending share: each shard's threshold and tail (and, for
  * cuts, the tail's elasticity theta dlog T/dtheta = x B'(e), since de/dtheta = x/theta),
