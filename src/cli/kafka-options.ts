@@ -7,7 +7,7 @@ import {
   type SaslMechanismName,
 } from '../ingest/kafka/connection.js';
 import type { ShardFrom } from '../ingest/kafka/message-decoder.js';
-import type { StartPosition } from '../ingest/kafka/source.js';
+import type { StartPosition } from '../ingest/kafka/start-positions.js';
 import { parseIsoTimestamp } from '../ingest/timestamp.js';
 import { UsageError } from '../errors/usage-error.js';
 

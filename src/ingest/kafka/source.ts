@@ -1,7 +1,6 @@
 import { randomUUID } from 'node:crypto';
 import { itemsOf } from '../batch-items.js';
 import type { Admin, Consumer, EachBatchPayload, Kafka, KafkaMessage } from 'kafkajs';
-import type { CountRecord, RejectionReason } from '../../window/count-record.js';
 import { UsageError } from '../../errors/usage-error.js';
 import type { RecordSink } from '../decode.js';
 import type { SourceItem } from '../file-source.js';
@@ -11,14 +10,7 @@ import {
   type KafkaClientLog,
   type KafkaConnectionOptions,
 } from './connection.js';
-import {
-  causeText,
-  isRetriable,
-  isRetriableConnectError,
-  KafkaIngestError,
-  KafkaPartitionError,
-  KafkaTopicError,
-} from './errors.js';
+import { causeText, isRetriable, isRetriableConnectError, KafkaIngestError } from './errors.js';
 import type { KafkaSourceEvent, KafkaSourceListener, PartitionOffset } from './events.js';
 import { KafkaMessageDecoder, type ShardFrom } from './message-decoder.js';
 import { PartitionAlignment } from './partition-alignment.js';
@@ -35,14 +27,9 @@ import {
   unreachableBrokersError,
   type BackoffPolicy,
 } from './retry.js';
-import { describedPartitionCount } from './topic-metadata.js';
-
-/** Where to start a partition the group has no committed position for (`--from`). */
-export type StartPosition =
-  | { readonly kind: 'latest' }
-  | { readonly kind: 'earliest' }
-  /** The first message whose Kafka timestamp is at or after `ms` (epoch ms). */
-  | { readonly kind: 'time'; readonly ms: number };
+import { BatchHandoff, Settled } from './batch-handoff.js';
+import { ItemCollector, ReleaseTracker } from './source-sinks.js';
+import { fromOptionOffsets, sourcePartitionCount, type StartPosition } from './start-positions.js';
 
 /** Settings of a {@link KafkaSource}. */
 export interface KafkaSourceOptions extends KafkaConnectionOptions {
@@ -463,7 +450,7 @@ export class KafkaSource implements AsyncIterable<SourceItem> {
     const topic = this.topic;
     const groupId = this.groupId;
     await admin.connect();
-    const partitions = await this.partitionCount(admin);
+    const partitions = await sourcePartitionCount(admin, topic, brokerText(this.options));
     this.emit({
       type: 'connected',
       brokers: brokerText(this.options),
@@ -492,7 +479,12 @@ export class KafkaSource implements AsyncIterable<SourceItem> {
     for (let partition = 0; partition < partitions; partition++) {
       if (!committedByPartition.has(partition)) missing.push(partition);
     }
-    const fromOption = await this.startOffsets(admin, missing);
+    const fromOption = await fromOptionOffsets(
+      admin,
+      topic,
+      this.options.from ?? { kind: 'latest' },
+      missing,
+    );
     const startOffsets = [...resumed, ...fromOption].sort((a, b) => a.partition - b.partition);
     const until = this.options.untilMs;
     const ends =
@@ -526,54 +518,6 @@ export class KafkaSource implements AsyncIterable<SourceItem> {
       startOffsets,
       backlogPartitions: [...pending.keys()].sort((a, b) => a - b),
     };
-  }
-
-  private async partitionCount(admin: Admin): Promise<number> {
-    try {
-      return await describedPartitionCount(admin, this.topic, `--topic ${this.topic}`);
-    } catch (error) {
-      const type = (error as { type?: string }).type;
-      if (type === 'UNKNOWN_TOPIC_OR_PARTITION') {
-        throw new KafkaTopicError(
-          this.topic,
-          `--topic ${this.topic} does not exist on ${brokerText(this.options)}`,
-          { cause: error },
-        );
-      }
-      if (type === 'TOPIC_AUTHORIZATION_FAILED') {
-        throw new KafkaTopicError(
-          this.topic,
-          `--topic ${this.topic} may not be described by this client on ${brokerText(this.options)}`,
-          { cause: error },
-        );
-      }
-      throw error;
-    }
-  }
-
-  /** Offsets of `--from` for the partitions without a committed position. */
-  private async startOffsets(admin: Admin, partitions: number[]): Promise<PartitionOffset[]> {
-    if (partitions.length === 0) return [];
-    const from = this.options.from ?? { kind: 'latest' };
-    const entries =
-      from.kind === 'time'
-        ? await admin.fetchTopicOffsetsByTimestamp(this.topic, from.ms)
-        : (await admin.fetchTopicOffsets(this.topic)).map((entry) => ({
-            partition: entry.partition,
-            offset: from.kind === 'earliest' ? entry.low : entry.high,
-          }));
-    return partitions.map((partition) => {
-      const entry = entries.find((candidate) => candidate.partition === partition);
-      const offset = Number(entry?.offset);
-      if (entry === undefined || !Number.isSafeInteger(offset) || offset < 0) {
-        throw new KafkaPartitionError(
-          this.topic,
-          partition,
-          `no start offset for partition ${partition} of --topic ${this.topic} (--from ${from.kind})`,
-        );
-      }
-      return { partition, offset };
-    });
   }
 
   /** Makes, connects and runs a consumer, retrying with backoff while the brokers are away. */
@@ -964,148 +908,5 @@ export class KafkaSource implements AsyncIterable<SourceItem> {
         // A listener's failure must not stop the source.
       }
     }
-  }
-}
-
-/**
- * The sink between decoder and pipeline: passes records on, notes the latest
- * window end each message's records need judged, and drops replayed records
- * whose windows a previous run judged. Plain fields, no closure per message.
- */
-class ReleaseTracker implements RecordSink {
-  target: RecordSink = { record() {}, reject() {} };
-  latestRelease = Number.NEGATIVE_INFINITY;
-  resumeFloor = Number.NEGATIVE_INFINITY;
-  alreadyJudged = 0;
-  private readonly hopMs: number;
-  private readonly windowMs: number;
-
-  constructor(ledger: OffsetLedger) {
-    this.hopMs = ledger.hopMs;
-    this.windowMs = ledger.windowMs;
-  }
-
-  record(ts: number, shard: string, count: number, key: string | undefined): void {
-    const release = Math.floor(ts / this.hopMs) * this.hopMs + this.windowMs;
-    if (release <= this.resumeFloor) {
-      this.alreadyJudged++;
-      return;
-    }
-    if (release > this.latestRelease) this.latestRelease = release;
-    this.target.record(ts, shard, count, key);
-  }
-
-  reject(reason: RejectionReason): void {
-    this.target.reject(reason);
-  }
-}
-
-/** Builds items, tagged with their partition, into the array `current()` returns. */
-class ItemCollector implements RecordSink {
-  /** The partition of the message being decoded. */
-  partition = 0;
-  private readonly current: () => SourceItem[];
-
-  constructor(current: () => SourceItem[]) {
-    this.current = current;
-  }
-
-  record(ts: number, shard: string, count: number, key: string | undefined): void {
-    const partition = this.partition;
-    const record: CountRecord =
-      key === undefined ? { ts, shard, count, partition } : { ts, shard, count, key, partition };
-    this.current().push(record);
-  }
-
-  reject(reason: RejectionReason): void {
-    this.current().push({ reason });
-  }
-}
-
-/**
- * A one-slot hand-over from the consumer's batch callback to an iterating
- * reader: `put` waits (heartbeating, so the group keeps the member) until the
- * reader takes the batch, and answers false if the source ended first.
- */
-class BatchHandoff {
-  private offered: { items: SourceItem[]; taken: (accepted: boolean) => void } | null = null;
-  private waiting: {
-    resolve: (items: SourceItem[] | null) => void;
-    reject: (error: unknown) => void;
-  } | null = null;
-  private done = false;
-  private failure: unknown = null;
-
-  async put(items: SourceItem[], payload: EachBatchPayload | null): Promise<boolean> {
-    if (this.done) return false;
-    if (this.waiting !== null) {
-      const reader = this.waiting;
-      this.waiting = null;
-      reader.resolve(items);
-      return true;
-    }
-    const accepted = new Promise<boolean>((resolve) => {
-      this.offered = { items, taken: resolve };
-    });
-    const beat = setInterval(() => {
-      payload?.heartbeat().catch(() => undefined);
-    }, 2000);
-    try {
-      return await accepted;
-    } finally {
-      clearInterval(beat);
-    }
-  }
-
-  take(): Promise<SourceItem[] | null> {
-    if (this.failure !== null) return Promise.reject(this.failure);
-    if (this.offered !== null) {
-      const { items, taken } = this.offered;
-      this.offered = null;
-      taken(true);
-      return Promise.resolve(items);
-    }
-    if (this.done) return Promise.resolve(null);
-    return new Promise((resolve, reject) => {
-      this.waiting = { resolve, reject };
-    });
-  }
-
-  end(): void {
-    this.done = true;
-    this.offered?.taken(false);
-    this.offered = null;
-    this.waiting?.resolve(null);
-    this.waiting = null;
-  }
-
-  fail(error: unknown): void {
-    this.failure = error;
-    this.offered?.taken(false);
-    this.offered = null;
-    this.waiting?.reject(error);
-    this.waiting = null;
-    this.done = true;
-  }
-}
-
-/** A promise settled once, from outside; an unobserved rejection is not reported as unhandled. */
-class Settled {
-  readonly promise: Promise<void>;
-  private settle!: { resolve: () => void; reject: (error: unknown) => void };
-
-  constructor() {
-    this.promise = new Promise<void>((resolve, reject) => {
-      this.settle = { resolve, reject };
-    });
-    this.promise.catch(() => undefined);
-  }
-
-  resolve(): void {
-    this.settle.resolve();
-  }
-
-  reject(error: unknown): void {
-    this.settle.reject(error);
   }
 }
