@@ -14,12 +14,7 @@ import { causeText, isRetriable, isRetriableConnectError, KafkaIngestError } fro
 import type { KafkaSourceEvent, KafkaSourceListener, PartitionOffset } from './events.js';
 import { KafkaMessageDecoder, type ShardFrom } from './message-decoder.js';
 import { PartitionAlignment } from './partition-alignment.js';
-import {
-  commitMetadata,
-  judgedThroughFromMetadata,
-  OffsetLedger,
-  type WindowGeometry,
-} from './offset-ledger.js';
+import { judgedThroughFromMetadata, OffsetLedger, type WindowGeometry } from './offset-ledger.js';
 import {
   backoffDelay,
   checkBackoffPolicy,
@@ -28,6 +23,7 @@ import {
   type BackoffPolicy,
 } from './retry.js';
 import { BatchHandoff, Settled } from './batch-handoff.js';
+import { GroupCommits, type CommitPayload } from './group-commits.js';
 import { ItemCollector, ReleaseTracker } from './source-sinks.js';
 import { fromOptionOffsets, sourcePartitionCount, type StartPosition } from './start-positions.js';
 
@@ -196,8 +192,7 @@ export class KafkaSource implements AsyncIterable<SourceItem> {
   private ended = false;
   private closing: Promise<void> | null = null;
   private commitTimer: NodeJS.Timeout | null = null;
-  private committing: Promise<void> | null = null;
-  private readonly confirmed = new Map<number, string>();
+  private readonly commits: GroupCommits;
   private pendingEnd: Map<number, number> | null = null;
   private failures = 0;
   private scratchPartitions = new Int32Array(1024);
@@ -244,6 +239,12 @@ export class KafkaSource implements AsyncIterable<SourceItem> {
       'consumerRestart',
     );
     this.decoder = new KafkaMessageDecoder(this.shardFrom);
+    this.commits = new GroupCommits(
+      this.topic,
+      this.ledger,
+      options.commitOffsets !== false,
+      (event) => this.emit(event),
+    );
     this.tracker = new ReleaseTracker(this.ledger);
     this.alignment = new PartitionAlignment<KafkaMessage>(
       options.alignmentMs ?? Math.floor((options.windows.latenessMs ?? 0) / 2),
@@ -472,7 +473,7 @@ export class KafkaSource implements AsyncIterable<SourceItem> {
       if (offset >= 0) {
         resumed.push({ partition: entry.partition, offset });
         committedByPartition.set(entry.partition, offset);
-        this.confirmed.set(entry.partition, `${offset}|${entry.metadata ?? null}`);
+        this.commits.resumed(entry.partition, offset, entry.metadata ?? null);
         judgedThrough = Math.max(judgedThrough, judgedThroughFromMetadata(entry.metadata));
       }
     }
@@ -594,7 +595,7 @@ export class KafkaSource implements AsyncIterable<SourceItem> {
    */
   private seekUncommitted(consumer: Consumer, partitions: readonly number[]): void {
     for (const partition of partitions) {
-      if (this.confirmed.has(partition)) continue;
+      if (this.commits.has(partition)) continue;
       const offset = this.ledger.partition(partition).commitOffset(this.ledger.judgedThrough);
       consumer.seek({ topic: this.topic, partition, offset: String(offset) });
     }
@@ -820,55 +821,15 @@ export class KafkaSource implements AsyncIterable<SourceItem> {
 
   private commitSoon(): void {
     const consumer = this.consumer;
-    if (this.closed || consumer === null || this.committing !== null) return;
-    this.committing = this.commitNow(consumer).finally(() => {
-      this.committing = null;
-    });
+    if (this.closed || consumer === null) return;
+    this.commits.soon(consumer);
   }
 
-  /** Commits the judged positions that differ from the last confirmed commit. */
-  private async commitNow(consumer: Consumer): Promise<void> {
-    if (this.options.commitOffsets === false) return;
-    const metadata = commitMetadata(this.ledger.judgedThrough);
-    const changed = this.ledger
-      .commitOffsets()
-      .filter(({ partition, offset }) => this.confirmed.get(partition) !== `${offset}|${metadata}`);
-    if (changed.length === 0) return;
-    try {
-      await consumer.commitOffsets(
-        changed.map(({ partition, offset }) => ({
-          topic: this.topic,
-          partition,
-          offset: String(offset),
-          metadata,
-        })),
-      );
-    } catch (error) {
-      this.emit({ type: 'commit-failed', error: causeText(error) });
-    }
-  }
-
-  private confirmCommit(payload: {
-    topics: {
-      topic: string;
-      partitions: { partition: number; offset: unknown; metadata?: unknown }[];
-    }[];
-  }): void {
-    const offsets: PartitionOffset[] = [];
-    let judged: number | null = null;
-    for (const { topic, partitions } of payload.topics) {
-      if (topic !== this.topic) continue;
-      for (const { partition, offset, metadata } of partitions) {
-        const text = typeof metadata === 'string' ? metadata : null;
-        this.confirmed.set(partition, `${String(offset)}|${text}`);
-        offsets.push({ partition, offset: Number(String(offset)) });
-        const through = judgedThroughFromMetadata(text);
-        if (Number.isFinite(through)) judged = through;
-      }
-    }
-    if (offsets.length === 0) return;
+  private confirmCommit(payload: CommitPayload): void {
+    const confirmed = this.commits.confirm(payload);
+    if (confirmed === null) return;
     this.counters.commits++;
-    this.emit({ type: 'committed', offsets, judgedThrough: judged });
+    this.emit({ type: 'committed', ...confirmed });
   }
 
   private async shutDown(): Promise<void> {
@@ -880,11 +841,11 @@ export class KafkaSource implements AsyncIterable<SourceItem> {
     this.handoff?.end();
     this.alignment.clear();
     await this.connecting?.catch(() => undefined);
-    await this.committing;
+    await this.commits.settled();
     const consumer = this.consumer;
     this.consumer = null;
     if (consumer !== null) {
-      await this.commitNow(consumer);
+      await this.commits.now(consumer);
       await consumer.disconnect().catch(() => undefined);
     }
     this.finished.resolve();
