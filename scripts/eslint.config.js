@@ -66,6 +66,22 @@ export default tseslint.config(
     rules: { 'no-restricted-imports': ['error', pureCoreBans] },
   },
   {
+    // The errors every layer throws: the root class and the usage error. Importing
+    // nothing of the project keeps them safe for the core to import.
+    files: ['src/errors/**'],
+    rules: {
+      'no-restricted-imports': [
+        'error',
+        {
+          patterns: [
+            ...pureCoreBans.patterns.slice(0, 2),
+            { group: ['../*'], message: 'src/errors/ imports nothing of the project.' },
+          ],
+        },
+      ],
+    },
+  },
+  {
     files: ['src/keys/**'],
     rules: { 'no-restricted-imports': ['error', keyAnalysisBans] },
   },

@@ -10,15 +10,14 @@ import {
 import { logChoose } from './discrete-densities.js';
 import { normalBox, normalBoxPoints } from './gaussian-box.js';
 import { log1mExp, logAddExp, logDifference } from './log-space.js';
+import { sweepCuts } from './share-sweep/cut-sums.js';
 import {
   PRUNE_EXACT,
   PRUNE_QUICK,
-  sweepCuts,
-  sweepTails,
   thresholdAt,
   type ShareSweep,
-  type TailSums,
-} from './share-sweep.js';
+} from './share-sweep/sorted-shares.js';
+import { sweepTails, type TailSums } from './share-sweep/tail-sums.js';
 import { logBinomialAtLeast, logBinomialAtMost } from './tails.js';
 
 /**
@@ -541,7 +540,7 @@ function pairEstimatedTail(
 const SWEEP_ERROR = 2e-8;
 
 /**
- * The same question for many weighted shards, answered from share sweeps (share-sweep.ts)
+ * The same question for many weighted shards, answered from share sweeps (share-sweep/)
  * instead of one tail per distinct share: S1 and the pair estimate from a binomial sweep;
  * the complement from Poisson sweeps at Levin's rate and the Edgeworth step. The branches
  * and switch-overs are anyShardTail's for many groups. Null when a sweep refuses (the

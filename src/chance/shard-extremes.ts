@@ -5,7 +5,7 @@ import {
   type TailProbability,
   type ThresholdGroup,
 } from './extreme-load.js';
-import { shareSweep, thresholdAt, type ShareSweep } from './share-sweep.js';
+import { shareSweep, thresholdAt, type ShareSweep } from './share-sweep/sorted-shares.js';
 import { roundingSlack, shareClasses, type Placement } from './placement.js';
 
 /**

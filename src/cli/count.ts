@@ -1,7 +1,7 @@
-import { KafkaSummaryPublisher } from '../ingest/kafka-summary-publisher.js';
+import { KafkaSummaryPublisher } from '../ingest/kafka/summary-publisher.js';
 import { kafkaGroupRecordSource } from '../ingest/record-source.js';
 import { PartialCountSink } from '../partials/partial-count-sink.js';
-import { UsageError } from '../window/errors.js';
+import { UsageError } from '../errors/usage-error.js';
 import type { Command } from './command.js';
 import { summaryOf } from './command-list.js';
 import {

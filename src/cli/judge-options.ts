@@ -1,6 +1,6 @@
 import { defaultJudgeSettings, type JudgeSettings } from '../judge/judge-settings.js';
 import type { NullModelName, SpreadModeName } from '../judge/judgement.js';
-import { UsageError } from '../window/errors.js';
+import { UsageError } from '../errors/usage-error.js';
 import { finiteNumber, probability, wholeNumber } from './option-values.js';
 
 /**

@@ -5,11 +5,11 @@ import {
   type KafkaSasl,
   type KafkaTls,
   type SaslMechanismName,
-} from '../ingest/kafka-connection.js';
-import type { ShardFrom } from '../ingest/kafka-message-decoder.js';
-import type { StartPosition } from '../ingest/kafka-source.js';
+} from '../ingest/kafka/connection.js';
+import type { ShardFrom } from '../ingest/kafka/message-decoder.js';
+import type { StartPosition } from '../ingest/kafka/start-positions.js';
 import { parseIsoTimestamp } from '../ingest/timestamp.js';
-import { UsageError } from '../window/errors.js';
+import { UsageError } from '../errors/usage-error.js';
 
 /**
  * The Kafka options of `watch`, `review` and `simulate`: their parseArgs

@@ -1,7 +1,7 @@
 #!/usr/bin/env node
 import { realpathSync } from 'node:fs';
 import { fileURLToPath } from 'node:url';
-import { UsageError } from '../window/errors.js';
+import { UsageError } from '../errors/usage-error.js';
 import { terminalMessage } from '../window/visible-text.js';
 import type { CommandIO } from './command.js';
 import { commandList } from './command-list.js';

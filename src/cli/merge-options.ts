@@ -1,4 +1,4 @@
-import { UsageError } from '../window/errors.js';
+import { UsageError } from '../errors/usage-error.js';
 import {
   parseGroup,
   parseKafkaConnection,

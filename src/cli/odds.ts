@@ -9,7 +9,7 @@ import {
   fullestTail,
 } from '../chance/shard-extremes.js';
 import { readShardMapFile } from '../ingest/shard-map-file.js';
-import { UsageError } from '../window/errors.js';
+import { UsageError } from '../errors/usage-error.js';
 import type { Command } from './command.js';
 import { summaryOf } from './command-list.js';
 import { formatNumber, reportedProbability } from './chance-report.js';

@@ -2,7 +2,7 @@ import { gonnetExpectedMaximum, raabStegerMaximum } from '../chance/asymptotics.
 import { makePlacement } from '../chance/placement.js';
 import { fullestQuantile, fullestTail } from '../chance/shard-extremes.js';
 import { simulateTwoChoice, type TwoChoiceEstimate } from '../scenario/two-choice-placement.js';
-import { UsageError } from '../window/errors.js';
+import { UsageError } from '../errors/usage-error.js';
 import { formatNumber, reportedProbability } from './chance-report.js';
 import type { Command } from './command.js';
 import { summaryOf } from './command-list.js';

@@ -1,7 +1,7 @@
 import { readFileSync, statSync } from 'node:fs';
-import { SecretText } from '../ingest/kafka-connection.js';
+import { SecretText } from '../ingest/kafka/connection.js';
 import type { PrometheusConnection } from '../ingest/prometheus/prometheus-api.js';
-import { UsageError } from '../window/errors.js';
+import { UsageError } from '../errors/usage-error.js';
 
 /**
  * The Prometheus source options of `watch` and `review`: their parseArgs spec and their

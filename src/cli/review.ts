@@ -1,6 +1,6 @@
 import { access, constants, writeFile } from 'node:fs/promises';
 import type { Readable } from 'node:stream';
-import { describeKafkaEvent } from '../ingest/kafka-events.js';
+import { describeKafkaEvent } from '../ingest/kafka/events.js';
 import { fileRecordSource, kafkaRecordSource } from '../ingest/record-source.js';
 import { parseIsoTimestamp } from '../ingest/timestamp.js';
 import { Judge } from '../judge/judge.js';
@@ -15,7 +15,7 @@ import { formatTime } from '../review/report-text.js';
 import { ReviewBuilder } from '../review/review-model.js';
 import type { ReviewWindow } from '../review/review-window.js';
 import { rejudgeRecording } from '../review/rejudge.js';
-import { UsageError } from '../window/errors.js';
+import { UsageError } from '../errors/usage-error.js';
 import { ShardUniverse } from '../window/shard-universe.js';
 import { terminalMessage } from '../window/visible-text.js';
 import type { Command, CommandIO } from './command.js';

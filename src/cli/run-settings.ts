@@ -5,7 +5,7 @@ import { KeyAnalysis } from '../keys/key-analysis.js';
 import type { KeySketchSettings } from '../keys/window-key-stats.js';
 import type { RecordedSettings } from '../record/recording-line.js';
 import type { ReviewSettings } from '../review/review-model.js';
-import { UsageError } from '../window/errors.js';
+import { UsageError } from '../errors/usage-error.js';
 import type { ShardUniverse } from '../window/shard-universe.js';
 import { wholeNumber } from './option-values.js';
 

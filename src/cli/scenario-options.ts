@@ -1,7 +1,7 @@
 import { parseIsoTimestamp } from '../ingest/timestamp.js';
 import { builtInScenarios } from '../scenario/built-in-scenarios.js';
 import type { ScenarioDefinition } from '../scenario/scenario-definition.js';
-import { UsageError } from '../window/errors.js';
+import { UsageError } from '../errors/usage-error.js';
 import { duration, wholeNumber } from './option-values.js';
 
 /**

@@ -1,5 +1,5 @@
-import { describeKafkaEvent } from '../ingest/kafka-events.js';
-import { produceToKafka } from '../ingest/kafka-sink.js';
+import { describeKafkaEvent } from '../ingest/kafka/events.js';
+import { produceToKafka } from '../ingest/kafka/sink.js';
 import { ScenarioSource } from '../ingest/scenario-source.js';
 import type { ScenarioRun } from '../scenario/scenario-run.js';
 import type { CommandIO } from './command.js';
@@ -13,7 +13,7 @@ import {
 import { createWriteStream } from 'node:fs';
 import { csvHeader, encodeCsvLine, encodeJsonLine } from '../ingest/encode.js';
 import { runScenario, type PlantedEvent } from '../scenario/scenario-run.js';
-import { UsageError } from '../window/errors.js';
+import { UsageError } from '../errors/usage-error.js';
 import type { Command } from './command.js';
 import { parseOptions } from './option-values.js';
 import { durationOption, scenarioNamed, seedOption, startOption } from './scenario-options.js';

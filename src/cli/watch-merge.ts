@@ -1,8 +1,8 @@
 import { Counter, Gauge, type Registry } from 'prom-client';
 import type { SourceItem } from '../ingest/file-source.js';
 import type { RecordSource, SourceStart } from '../ingest/record-source.js';
-import { KafkaSummaryReader } from '../ingest/kafka-summary-reader.js';
-import type { KafkaConnectionOptions } from '../ingest/kafka-connection.js';
+import { KafkaSummaryReader } from '../ingest/kafka/summary-reader.js';
+import type { KafkaConnectionOptions } from '../ingest/kafka/connection.js';
 import type { JudgingPipeline } from '../judge/judging-pipeline.js';
 import { WindowMerge, type MergedWindow, type WindowCoverage } from '../partials/window-merge.js';
 import type { RejectionReason } from '../window/count-record.js';

@@ -1,7 +1,7 @@
 import { openSync } from 'node:fs';
 import { ReadStream } from 'node:tty';
 import type { SourceItem } from '../ingest/file-source.js';
-import type { KafkaSourceEvent } from '../ingest/kafka-events.js';
+import type { KafkaSourceEvent } from '../ingest/kafka/events.js';
 import type { JudgingPipeline } from '../judge/judging-pipeline.js';
 import { ScreenController } from '../ui/screen-controller.js';
 import { SourceMeter } from '../ui/source-meter.js';

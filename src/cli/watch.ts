@@ -2,8 +2,8 @@ import { access, constants } from 'node:fs/promises';
 import type { Readable } from 'node:stream';
 import { metricsHost, metricsPort } from '../exporter/metrics-address.js';
 import { startMetricsExporter } from '../exporter/metrics-exporter.js';
-import { describeKafkaEvent } from '../ingest/kafka-events.js';
-import { KafkaOffsetsSource } from '../ingest/kafka-offsets-source.js';
+import { describeKafkaEvent } from '../ingest/kafka/events.js';
+import { KafkaOffsetsSource } from '../ingest/kafka/offsets-source.js';
 import {
   fileRecordSource,
   kafkaRecordSource,
@@ -23,7 +23,7 @@ import {
   type RunSettings,
 } from './run-settings.js';
 import type { RejectionReason } from '../window/count-record.js';
-import { UsageError } from '../window/errors.js';
+import { UsageError } from '../errors/usage-error.js';
 import { ShardUniverse } from '../window/shard-universe.js';
 import { jsonSafe, terminalMessage, terminalSafe } from '../window/visible-text.js';
 import type { Command, CommandIO } from './command.js';

@@ -1,6 +1,6 @@
 import { readShardMapFile } from '../ingest/shard-map-file.js';
 import { defaultMaxAheadMs } from '../judge/judging-pipeline.js';
-import { UsageError } from '../window/errors.js';
+import { UsageError } from '../errors/usage-error.js';
 import { ShardUniverse } from '../window/shard-universe.js';
 import { duration, wholeNumber } from './option-values.js';
 

@@ -2,7 +2,7 @@ import { createReadStream } from 'node:fs';
 import { itemsOf } from './batch-items.js';
 import type { Readable } from 'node:stream';
 import type { CountRecord, Rejection } from '../window/count-record.js';
-import { UsageError } from '../window/errors.js';
+import { UsageError } from '../errors/usage-error.js';
 import { decodeJsonBytes } from './count-report-scanner.js';
 import {
   decodeCsvLine,

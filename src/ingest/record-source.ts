@@ -1,8 +1,8 @@
 import type { Readable } from 'node:stream';
 import type { ClosedWindow } from '../window/event-time-window.js';
 import { FileSource, type SourceItem } from './file-source.js';
-import { KafkaGroupSource, type KafkaGroupSourceOptions } from './kafka-group-source.js';
-import { KafkaSource, type KafkaSourceInfo, type KafkaSourceOptions } from './kafka-source.js';
+import { KafkaGroupSource, type KafkaGroupSourceOptions } from './kafka/group-source.js';
+import { KafkaSource, type KafkaSourceInfo, type KafkaSourceOptions } from './kafka/source.js';
 import { ScenarioSource, type TickedRecords } from './scenario-source.js';
 
 /**

@@ -1,5 +1,5 @@
 import { readFile } from 'node:fs/promises';
-import { UsageError } from '../window/errors.js';
+import { UsageError } from '../errors/usage-error.js';
 import { ShardUniverse, type UniverseOptions } from '../window/shard-universe.js';
 
 /**

@@ -1,4 +1,4 @@
-import { UsageError } from '../window/errors.js';
+import { UsageError } from '../errors/usage-error.js';
 import type { NullModelName, SpreadModeName } from './judgement.js';
 
 /** How the judge decides. Every field maps to a `watch` option, named in its errors. */

@@ -6,7 +6,7 @@ import {
   type WindowOptions,
   type WindowTotals,
 } from '../window/event-time-window.js';
-import { UsageError } from '../window/errors.js';
+import { UsageError } from '../errors/usage-error.js';
 import type { FeedSink } from '../window/feed-sink.js';
 import type { ShardUniverse } from '../window/shard-universe.js';
 import { describeSpan } from './time-span.js';

@@ -1,4 +1,5 @@
 import { rejectionReasons, type RejectionReason } from '../window/count-record.js';
+import { ShardwiseError } from '../errors/shardwise-error.js';
 
 /**
  * The partial summary a counting instance (`shardwise count`) publishes to the summary
@@ -67,7 +68,7 @@ export function encodePartialSummary(summary: PartialSummary): string {
 }
 
 /** Why a message on the summary topic is not a partial summary this build can merge. */
-export class PartialSummaryError extends Error {}
+export class PartialSummaryError extends ShardwiseError {}
 
 /**
  * Reads and checks one summary message. Throws {@link PartialSummaryError} naming the

@@ -2,6 +2,7 @@ import { createReadStream } from 'node:fs';
 import type { Readable } from 'node:stream';
 import type { Judgement } from '../judge/judgement.js';
 import { recordingVersion, type RecordedSettings, type RecordingLine } from './recording-line.js';
+import { ShardwiseError } from '../errors/shardwise-error.js';
 
 /** One window read back from a recording. */
 export interface RecordedWindow {
@@ -33,7 +34,7 @@ export interface RecordingReadOptions {
 }
 
 /** A file that is not a recording at all (no line of it is one). */
-export class RecordingFormatError extends Error {
+export class RecordingFormatError extends ShardwiseError {
   readonly path: string;
   constructor(path: string, problem: string) {
     super(`${JSON.stringify(path)} is not a shardwise recording: ${problem}`);

@@ -2,7 +2,7 @@ import { Judge } from '../judge/judge.js';
 import type { JudgeSettings } from '../judge/judge-settings.js';
 import type { RecordedWindow } from '../record/recording-reader.js';
 import type { RejectionReason } from '../window/count-record.js';
-import { UsageError } from '../window/errors.js';
+import { UsageError } from '../errors/usage-error.js';
 import { ShardUniverse } from '../window/shard-universe.js';
 import type { ReviewWindow } from './review-window.js';
 

@@ -1,6 +1,6 @@
 import { lgamma as gammaln } from 'lib-r-math.js';
 import { mersenne, unsafeUniformIntDistribution, type RandomGenerator } from 'pure-rand';
-import { UsageError } from '../window/errors.js';
+import { UsageError } from '../errors/usage-error.js';
 
 /** Largest accepted `--seed`: the Mersenne Twister is seeded with 32 bits. */
 export const largestSeed = 0xffff_ffff;

@@ -1,5 +1,5 @@
 import type { CountRecord } from '../window/count-record.js';
-import { UsageError } from '../window/errors.js';
+import { UsageError } from '../errors/usage-error.js';
 import { ShardUniverse } from '../window/shard-universe.js';
 import { builtInScenarios } from './built-in-scenarios.js';
 import { ringShares } from './consistent-hash-ring.js';

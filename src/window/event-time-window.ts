@@ -1,5 +1,5 @@
 import type { CountRecord, RejectionReason } from './count-record.js';
-import { UsageError } from './errors.js';
+import { UsageError } from '../errors/usage-error.js';
 import { remapCounts, ShardRetirement } from './shard-retirement.js';
 import { outsideUniverse, tooManyShards, type ShardUniverse } from './shard-universe.js';
 

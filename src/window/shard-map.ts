@@ -1,6 +1,6 @@
 import { splitCsvRecord } from './csv-record.js';
 import { longestShardId } from './count-record.js';
-import { UsageError } from './errors.js';
+import { UsageError } from '../errors/usage-error.js';
 
 /** Shard ids and their relative weights, in the order the map lists them. */
 export interface ShardMap {

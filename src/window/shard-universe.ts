@@ -1,5 +1,5 @@
 import { longestShardId } from './count-record.js';
-import { UsageError } from './errors.js';
+import { UsageError } from '../errors/usage-error.js';
 import { parseShardMap } from './shard-map.js';
 
 /** {@link ShardUniverse.admit} result: the id is not in the declared universe. */

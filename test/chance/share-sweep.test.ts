@@ -2,7 +2,8 @@ import { existsSync, readFileSync } from 'node:fs';
 import { describe, expect, it } from 'vitest';
 import { anyShardTail, sweptShardTail } from '../../src/chance/extreme-load.js';
 import { makePlacement, roundingSlack, shareClasses } from '../../src/chance/placement.js';
-import { shareSweep, sweepTails, type Side } from '../../src/chance/share-sweep.js';
+import { shareSweep, type Side } from '../../src/chance/share-sweep/sorted-shares.js';
+import { sweepTails } from '../../src/chance/share-sweep/tail-sums.js';
 import {
   emptiestQuantile,
   emptiestTail,

@@ -1,7 +1,7 @@
 // The records of the count tests (test/cli/partial-counting.test.ts, test/cli/count.test.ts).
 import type { RecordSink } from '../../src/ingest/decode.js';
 import type { SourceItem } from '../../src/ingest/file-source.js';
-import { KafkaMessageDecoder } from '../../src/ingest/kafka-message-decoder.js';
+import { KafkaMessageDecoder } from '../../src/ingest/kafka/message-decoder.js';
 import type { RejectionReason } from '../../src/window/count-record.js';
 
 // Source of truth: the record lines below (formats of docs/formats.md) and window

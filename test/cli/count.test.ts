@@ -3,7 +3,7 @@ import { describe, expect, it, vi } from 'vitest';
 import { countCommand } from '../../src/cli/count.js';
 import { feedRecords } from '../../src/cli/record-feed.js';
 import type { SourceItem } from '../../src/ingest/file-source.js';
-import type { GroupSourceEvent } from '../../src/ingest/kafka-group-source.js';
+import type { GroupSourceEvent } from '../../src/ingest/kafka/group-source.js';
 import type { RecordSource } from '../../src/ingest/record-source.js';
 import { countBatches, expectedMarks, expectedParts, expectedWindows } from './count-fixture.js';
 
@@ -52,7 +52,7 @@ vi.mock('../../src/ingest/record-source.js', async (importOriginal) => {
   };
 });
 
-vi.mock('../../src/ingest/kafka-summary-publisher.js', () => ({
+vi.mock('../../src/ingest/kafka/summary-publisher.js', () => ({
   KafkaSummaryPublisher: class {
     readonly instance = 'stand-in';
     get stats() {

@@ -15,7 +15,7 @@ import {
   parseTopic,
   saslPasswordVariable,
 } from '../../src/cli/kafka-options.js';
-import { UsageError } from '../../src/window/errors.js';
+import { UsageError } from '../../src/errors/usage-error.js';
 
 const values = (argv: string[]) =>
   parseArgs({ args: argv, options: kafkaSourceOptionSpec, strict: true }).values;

@@ -7,7 +7,7 @@ import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { afterAll, describe, expect, it } from 'vitest';
 import { readPrometheusOptions } from '../../src/cli/prometheus-options.js';
-import { UsageError } from '../../src/window/errors.js';
+import { UsageError } from '../../src/errors/usage-error.js';
 
 const dir = mkdtempSync(join(tmpdir(), 'shardwise-prometheus-options-'));
 afterAll(() => rmSync(dir, { recursive: true, force: true }));

@@ -4,8 +4,8 @@
 // stops and restarts the shared test broker with scripts/kafka-broker.sh.
 import { afterAll, describe, expect, it } from 'vitest';
 import { encodeJsonLine } from '../../src/ingest/encode.js';
-import { produceToKafka } from '../../src/ingest/kafka-sink.js';
-import { KafkaSource } from '../../src/ingest/kafka-source.js';
+import { produceToKafka } from '../../src/ingest/kafka/sink.js';
+import { KafkaSource } from '../../src/ingest/kafka/source.js';
 import { brokerList } from './kafka-env.js';
 import {
   EventLog,

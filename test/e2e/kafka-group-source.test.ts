@@ -1,7 +1,7 @@
 import { randomUUID } from 'node:crypto';
 import { afterAll, describe, expect, it } from 'vitest';
 import { PartialCounting } from '../../src/cli/partial-counting.js';
-import type { GroupSourceEvent } from '../../src/ingest/kafka-group-source.js';
+import type { GroupSourceEvent } from '../../src/ingest/kafka/group-source.js';
 import { kafkaGroupRecordSource } from '../../src/ingest/record-source.js';
 import { PartialCountSink, type ClosedWindowParts } from '../../src/partials/partial-count-sink.js';
 import { brokerList } from './kafka-env.js';

@@ -4,7 +4,7 @@
 // partitions away and back replays from the commit and the replays are skipped.
 import { Kafka, logLevel } from 'kafkajs';
 import { afterAll, describe, expect, it } from 'vitest';
-import { KafkaSource } from '../../src/ingest/kafka-source.js';
+import { KafkaSource } from '../../src/ingest/kafka/source.js';
 import { brokerList } from './kafka-env.js';
 import {
   EventLog,

@@ -13,9 +13,9 @@ import {
   parseKafkaSource,
   saslPasswordVariable,
 } from '../../src/cli/kafka-options.js';
-import { BrokersUnreachableError, KafkaIngestError } from '../../src/ingest/kafka-errors.js';
-import { produceToKafka } from '../../src/ingest/kafka-sink.js';
-import { KafkaSource, type KafkaSourceOptions } from '../../src/ingest/kafka-source.js';
+import { BrokersUnreachableError, KafkaIngestError } from '../../src/ingest/kafka/errors.js';
+import { produceToKafka } from '../../src/ingest/kafka/sink.js';
+import { KafkaSource, type KafkaSourceOptions } from '../../src/ingest/kafka/source.js';
 import type { CountRecord } from '../../src/window/count-record.js';
 import { CollectingSink, createTopicsReady, EventLog } from './kafka-fixtures.js';
 import { SecureBroker, secureUsers } from './kafka-secure-broker.js';

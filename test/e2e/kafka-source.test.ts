@@ -7,8 +7,8 @@ import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { afterAll, describe, expect, it } from 'vitest';
 import { FileSource } from '../../src/ingest/file-source.js';
-import { BrokersUnreachableError, KafkaTopicError } from '../../src/ingest/kafka-errors.js';
-import { KafkaSource } from '../../src/ingest/kafka-source.js';
+import { BrokersUnreachableError, KafkaTopicError } from '../../src/ingest/kafka/errors.js';
+import { KafkaSource } from '../../src/ingest/kafka/source.js';
 import { isRejection, type CountRecord } from '../../src/window/count-record.js';
 import {
   CollectingSink,

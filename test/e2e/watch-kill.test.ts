@@ -3,7 +3,7 @@
 // requests produced into it. Source of truth: the records this file produces (each window's
 // total is summed here from what was sent).
 //
-// The contract, from src/ingest/kafka-offset-ledger.ts and kafka-source.ts: offsets are
+// The contract, from src/ingest/kafka/offset-ledger.ts and kafka/source.ts: offsets are
 // committed every second, each partition below the first record still counted in a window
 // not yet judged, with `shardwise judged-through=T` (the end of the newest judged window)
 // as commit metadata. So after a crash the windows ending at or before the last committed

@@ -1,6 +1,6 @@
 import { describe, expect, it } from 'vitest';
 import { hostPort, metricsHost, metricsPort } from '../../src/exporter/metrics-address.js';
-import { UsageError } from '../../src/window/errors.js';
+import { UsageError } from '../../src/errors/usage-error.js';
 
 function usageError(run: () => unknown): UsageError {
   try {

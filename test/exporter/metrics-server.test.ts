@@ -3,7 +3,7 @@ import { createServer } from 'node:net';
 import { afterEach, describe, expect, it } from 'vitest';
 import { MetricsServer, type MetricsSource } from '../../src/exporter/metrics-server.js';
 import type { Readiness } from '../../src/exporter/readiness.js';
-import { UsageError } from '../../src/window/errors.js';
+import { UsageError } from '../../src/errors/usage-error.js';
 
 const started: MetricsServer[] = [];
 afterEach(async () => {

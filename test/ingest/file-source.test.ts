@@ -6,7 +6,7 @@ import { Readable } from 'node:stream';
 import { afterAll, describe, expect, it } from 'vitest';
 import { FileSource, type SourceItem } from '../../src/ingest/file-source.js';
 import { isRejection, type RejectionReason } from '../../src/window/count-record.js';
-import { UsageError } from '../../src/window/errors.js';
+import { UsageError } from '../../src/errors/usage-error.js';
 import { EventTimeWindows, type ClosedWindow } from '../../src/window/event-time-window.js';
 import { ShardUniverse } from '../../src/window/shard-universe.js';
 

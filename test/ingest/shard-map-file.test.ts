@@ -3,7 +3,7 @@ import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { afterAll, describe, expect, it } from 'vitest';
 import { readShardMapFile } from '../../src/ingest/shard-map-file.js';
-import { UsageError } from '../../src/window/errors.js';
+import { UsageError } from '../../src/errors/usage-error.js';
 
 const directory = mkdtempSync(join(tmpdir(), 'shardwise-shard-map-'));
 afterAll(() => rmSync(directory, { recursive: true, force: true }));

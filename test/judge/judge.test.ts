@@ -4,7 +4,7 @@ import { fullestTail } from '../../src/chance/shard-extremes.js';
 import { Judge } from '../../src/judge/judge.js';
 import { defaultJudgeSettings, type JudgeSettings } from '../../src/judge/judge-settings.js';
 import type { Judgement } from '../../src/judge/judgement.js';
-import { UsageError } from '../../src/window/errors.js';
+import { UsageError } from '../../src/errors/usage-error.js';
 import type { ClosedWindow } from '../../src/window/event-time-window.js';
 import { ShardUniverse } from '../../src/window/shard-universe.js';
 

@@ -1,5 +1,5 @@
 import { describe, expect, it } from 'vitest';
-import { PartitionLedger } from '../../src/ingest/kafka-offset-ledger.js';
+import { PartitionLedger } from '../../src/ingest/kafka/offset-ledger.js';
 import { PartitionCounter } from '../../src/partials/partition-counter.js';
 
 // Source of truth: the records fed in below; each window's part must hold exactly the

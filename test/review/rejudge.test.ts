@@ -9,7 +9,7 @@ import { JudgingPipeline } from '../../src/judge/judging-pipeline.js';
 import { readRecording } from '../../src/record/recording-reader.js';
 import { WindowRecorder } from '../../src/record/window-recorder.js';
 import { rejudgeRecording } from '../../src/review/rejudge.js';
-import { UsageError } from '../../src/window/errors.js';
+import { UsageError } from '../../src/errors/usage-error.js';
 import { ShardUniverse } from '../../src/window/shard-universe.js';
 import { countReports, runCli } from './cli-run.js';
 

@@ -1,7 +1,7 @@
 import { chiSquaredDistributionTable, mean as sampleMean, sampleVariance } from 'simple-statistics';
 import { describe, expect, it } from 'vitest';
 import { RandomDraws } from '../../src/scenario/random-draws.js';
-import { UsageError } from '../../src/window/errors.js';
+import { UsageError } from '../../src/errors/usage-error.js';
 
 function draws(seed: number, count: number, draw: (random: RandomDraws) => number): number[] {
   const random = new RandomDraws(seed);

@@ -4,7 +4,7 @@ import { encodeJsonLine } from '../../src/ingest/encode.js';
 import { builtInScenarios } from '../../src/scenario/built-in-scenarios.js';
 import { shardOfKey } from '../../src/scenario/key-popularity.js';
 import { runScenario, type ScenarioRun } from '../../src/scenario/scenario-run.js';
-import { UsageError } from '../../src/window/errors.js';
+import { UsageError } from '../../src/errors/usage-error.js';
 import { EventTimeWindows, type ClosedWindow } from '../../src/window/event-time-window.js';
 
 const start = Date.UTC(2025, 11, 1, 10);

@@ -1,5 +1,5 @@
 import { describe, expect, it } from 'vitest';
-import { quoteValue, UsageError } from '../../src/window/errors.js';
+import { quoteValue, UsageError } from '../../src/errors/usage-error.js';
 
 describe('UsageError', () => {
   it('names the option and quotes the value', () => {

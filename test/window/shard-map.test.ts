@@ -1,5 +1,5 @@
 import { describe, expect, it } from 'vitest';
-import { UsageError } from '../../src/window/errors.js';
+import { UsageError } from '../../src/errors/usage-error.js';
 import { parseShardMap } from '../../src/window/shard-map.js';
 
 function mapError(content: string, fileName: string, maxShards = 100): string {

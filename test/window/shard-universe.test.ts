@@ -1,5 +1,5 @@
 import { describe, expect, it } from 'vitest';
-import { UsageError } from '../../src/window/errors.js';
+import { UsageError } from '../../src/errors/usage-error.js';
 import {
   defaultMaxShards,
   outsideUniverse,

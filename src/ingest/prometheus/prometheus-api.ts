@@ -1,7 +1,8 @@
 import { request as httpRequest, type IncomingMessage } from 'node:http';
 import { request as httpsRequest } from 'node:https';
-import type { SecretText } from '../kafka-connection.js';
+import type { SecretText } from '../kafka/connection.js';
 import type { CounterSeries } from './counter-ledger.js';
+import { ShardwiseError } from '../../errors/shardwise-error.js';
 
 /** How to reach a Prometheus server's HTTP API. */
 export interface PrometheusConnection {
@@ -21,7 +22,7 @@ export interface PrometheusConnection {
 export type PrometheusFailure = 'unreachable' | 'bad query' | 'status' | 'bad answer';
 
 /** A failed query, with Prometheus's own error text when it gave one. */
-export class PrometheusQueryError extends Error {
+export class PrometheusQueryError extends ShardwiseError {
   readonly failure: PrometheusFailure;
   /** The HTTP status, when there was an answer. */
   readonly status: number | undefined;
@@ -32,7 +33,7 @@ export class PrometheusQueryError extends Error {
     status?: number,
     options?: { cause?: unknown },
   ) {
-    super(message, options);
+    super(message, { cause: options?.cause });
     this.name = 'PrometheusQueryError';
     this.failure = failure;
     this.status = status;

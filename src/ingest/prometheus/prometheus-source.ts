@@ -1,6 +1,6 @@
 import { setTimeout as sleep } from 'node:timers/promises';
 import type { ClosedWindow } from '../../window/event-time-window.js';
-import { UsageError } from '../../window/errors.js';
+import { UsageError } from '../../errors/usage-error.js';
 import type { SourceItem } from '../file-source.js';
 import type { RecordSource, SourceStart } from '../record-source.js';
 import { CounterLedger, forgetStoppedAfterMs, type ScrapeGap } from './counter-ledger.js';

@@ -1,7 +1,7 @@
 #!/usr/bin/env python3
 """Exact fullest- and emptiest-shard tails for weighted universes of 600 and 1500 shards,
 the sizes at which the chance engine sums single-shard tails by share sweeps
-(src/chance/share-sweep.ts) instead of one tail per distinct share.
+(src/chance/share-sweep/) instead of one tail per distinct share.
 
 Run:  python3 test/chance/reference/make-sweep-reference.py > test/chance/reference/sweep-exact.json
 Needs: pip install python-flint==0.9.0 (PyPI). About twenty minutes on one core.

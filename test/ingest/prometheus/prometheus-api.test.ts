@@ -13,13 +13,13 @@ import { createServer as createTlsServer } from 'node:https';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { SecretText } from '../../../src/ingest/kafka-connection.js';
+import { SecretText } from '../../../src/ingest/kafka/connection.js';
 import {
   PrometheusQueryError,
   readRangeVector,
 } from '../../../src/ingest/prometheus/prometheus-api.js';
 import { PrometheusSource } from '../../../src/ingest/prometheus/prometheus-source.js';
-import { UsageError } from '../../../src/window/errors.js';
+import { UsageError } from '../../../src/errors/usage-error.js';
 
 interface Seen {
   method: string;

@@ -1,7 +1,7 @@
 // The stderr lines for source events (what `watch` prints): one readable line each, the
 // chatty ones only under --debug. Expected texts are this project's own wording.
 import { describe, expect, it } from 'vitest';
-import { describeKafkaEvent, type KafkaSourceEvent } from '../../src/ingest/kafka-events.js';
+import { describeKafkaEvent, type KafkaSourceEvent } from '../../../src/ingest/kafka/events.js';
 
 describe('describeKafkaEvent', () => {
   it('says what happened in one line per event', () => {

@@ -1,16 +1,14 @@
 import type { Consumer, EachBatchPayload, Kafka } from 'kafkajs';
-import type { RejectionReason } from '../window/count-record.js';
-import { UsageError } from '../window/errors.js';
-import type { RecordSink } from './decode.js';
-import type { SourceItem } from './file-source.js';
-import { brokerText, createKafkaClient, type KafkaConnectionOptions } from './kafka-connection.js';
-import { causeText, KafkaIngestError, KafkaTopicError } from './kafka-errors.js';
-import { KafkaMessageDecoder, type ShardFrom } from './kafka-message-decoder.js';
-import {
-  commitMetadata,
-  judgedThroughFromMetadata,
-  PartitionLedger,
-} from './kafka-offset-ledger.js';
+import type { RejectionReason } from '../../window/count-record.js';
+import { UsageError } from '../../errors/usage-error.js';
+import type { RecordSink } from '../decode.js';
+import type { SourceItem } from '../file-source.js';
+import { createKafkaClient, type KafkaConnectionOptions } from './connection.js';
+import { causeText, KafkaIngestError } from './errors.js';
+import { BatchHandoff } from './batch-handoff.js';
+import { KafkaMessageDecoder, type ShardFrom } from './message-decoder.js';
+import { partitionCount } from './topic-metadata.js';
+import { commitMetadata, judgedThroughFromMetadata, PartitionLedger } from './offset-ledger.js';
 
 /** What a group source reports while it runs. */
 export type GroupSourceEvent =
@@ -78,7 +76,7 @@ export class KafkaGroupSource {
   private readonly options: KafkaGroupSourceOptions;
   private readonly kafka: Kafka;
   private readonly decoder: KafkaMessageDecoder;
-  private readonly handoff = new FeedHandoff();
+  private readonly handoff = new BatchHandoff(true);
   private readonly started = new Map<number, StartedPartition>();
   private readonly caughtUp = new Map<number, boolean>();
   private readonly collector = new PositionedCollector();
@@ -353,107 +351,5 @@ class PositionedCollector implements RecordSink {
 
   finish(): { items: SourceItem[]; offsets: number[]; releases: number[] } {
     return { items: this.items, offsets: this.offsets, releases: this.releases };
-  }
-}
-
-/**
- * A one-slot hand-over from the consumer's batch callback to the reader that holds the
- * callback until the reader has finished the batch (asks for the next one): `put` waits,
- * heartbeating so the group keeps the member, and answers false if the source ended first.
- */
-class FeedHandoff {
-  private offered: { items: SourceItem[]; finished: (fed: boolean) => void } | null = null;
-  private feeding: ((fed: boolean) => void) | null = null;
-  private waiting: {
-    resolve: (items: SourceItem[] | null) => void;
-    reject: (error: unknown) => void;
-  } | null = null;
-  private done = false;
-  private failure: unknown = null;
-
-  async put(items: SourceItem[], payload: EachBatchPayload): Promise<boolean> {
-    if (this.done) return false;
-    const fed = new Promise<boolean>((resolve) => {
-      if (this.waiting !== null) {
-        const reader = this.waiting;
-        this.waiting = null;
-        this.feeding = resolve;
-        reader.resolve(items);
-      } else {
-        this.offered = { items, finished: resolve };
-      }
-    });
-    const beat = setInterval(() => {
-      payload.heartbeat().catch(() => undefined);
-    }, 2000);
-    try {
-      return await fed;
-    } finally {
-      clearInterval(beat);
-    }
-  }
-
-  /** The next batch; the one taken before counts as finished. */
-  take(): Promise<SourceItem[] | null> {
-    this.feeding?.(true);
-    this.feeding = null;
-    if (this.failure !== null) return Promise.reject(this.failure);
-    if (this.offered !== null) {
-      const { items, finished } = this.offered;
-      this.offered = null;
-      this.feeding = finished;
-      return Promise.resolve(items);
-    }
-    if (this.done) return Promise.resolve(null);
-    return new Promise((resolve, reject) => {
-      this.waiting = { resolve, reject };
-    });
-  }
-
-  end(): void {
-    this.done = true;
-    this.release();
-    this.waiting?.resolve(null);
-    this.waiting = null;
-  }
-
-  fail(error: unknown): void {
-    this.failure = error;
-    this.done = true;
-    this.release();
-    this.waiting?.reject(error);
-    this.waiting = null;
-  }
-
-  private release(): void {
-    this.feeding?.(false);
-    this.feeding = null;
-    this.offered?.finished(false);
-    this.offered = null;
-  }
-}
-
-/** A topic's partition count; a KafkaTopicError naming the topic when it has none or cannot be described. */
-export async function partitionCount(
-  kafka: Kafka,
-  topic: string,
-  options: KafkaConnectionOptions,
-): Promise<number> {
-  const admin = kafka.admin();
-  try {
-    await admin.connect();
-    const { topics } = await admin.fetchTopicMetadata({ topics: [topic] });
-    const count = topics[0]?.partitions.length ?? 0;
-    if (count === 0) throw new KafkaTopicError(topic, `topic ${topic} has no partitions`);
-    return count;
-  } catch (error) {
-    if (error instanceof KafkaTopicError) throw error;
-    throw new KafkaTopicError(
-      topic,
-      `topic ${topic} cannot be described on ${brokerText(options)}: ${causeText(error)}`,
-      { cause: error },
-    );
-  } finally {
-    await admin.disconnect().catch(() => undefined);
   }
 }

@@ -1,9 +1,9 @@
-import { longestShardId } from '../window/count-record.js';
-import { decodeJsonBytes } from './count-report-scanner.js';
-import { emitChecked, longestLine, type RecordSink } from './decode.js';
-import { hashIdByte, idHashStart, ShardIdCache } from './shard-id-cache.js';
-import { checkEpochMs, parseIsoTimestamp } from './timestamp.js';
-import { decodeUtf8Marked } from './utf8-text.js';
+import { longestShardId } from '../../window/count-record.js';
+import { decodeJsonBytes } from '../count-report-scanner.js';
+import { emitChecked, longestLine, type RecordSink } from '../decode.js';
+import { hashIdByte, idHashStart, ShardIdCache } from '../shard-id-cache.js';
+import { checkEpochMs, parseIsoTimestamp } from '../timestamp.js';
+import { decodeUtf8Marked } from '../utf8-text.js';
 
 /**
  * Where a Kafka record's shard comes from (`--shard-from`):

@@ -3,9 +3,9 @@
 // same records and reasons; the other modes' expectations follow docs/formats.md.
 import fc from 'fast-check';
 import { describe, expect, it } from 'vitest';
-import { decodeJsonLine, type RecordSink } from '../../src/ingest/decode.js';
-import { KafkaMessageDecoder, type ShardFrom } from '../../src/ingest/kafka-message-decoder.js';
-import type { RejectionReason } from '../../src/window/count-record.js';
+import { decodeJsonLine, type RecordSink } from '../../../src/ingest/decode.js';
+import { KafkaMessageDecoder, type ShardFrom } from '../../../src/ingest/kafka/message-decoder.js';
+import type { RejectionReason } from '../../../src/window/count-record.js';
 
 const encoder = new TextEncoder();
 const bytes = (text: string): Uint8Array => encoder.encode(text);

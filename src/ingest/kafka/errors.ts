@@ -1,23 +1,21 @@
+import { ShardwiseError } from '../../errors/shardwise-error.js';
+
 /**
- * Errors of the Kafka source and sink. One root, {@link KafkaIngestError},
- * carrying `retriable` (whether trying the same thing again can help) and
+ * Errors of the Kafka source and sink. One root, {@link KafkaIngestError} (a
+ * `ShardwiseError`), carrying `retriable` (whether trying the same thing again can help) and
  * `cause` (the Kafka client's own error, kept whole for `--debug`); below it
  * an error naming the brokers that could not be reached, and errors naming
  * the topic and, where one is at fault, the partition. The CLI turns any of
  * them into exit code 1 with the message, which never holds a secret.
  */
-export class KafkaIngestError extends Error {
-  /** True when the same operation may succeed if tried again later. */
-  readonly retriable: boolean;
-
+export class KafkaIngestError extends ShardwiseError {
   /**
    * @param message one line saying what failed, naming the option or value at fault
    * @param options `retriable` (default false) and the underlying `cause`
    */
   constructor(message: string, options: { retriable?: boolean; cause?: unknown } = {}) {
-    super(message, { cause: options.cause });
+    super(message, { retriable: options.retriable, cause: options.cause });
     this.name = 'KafkaIngestError';
-    this.retriable = options.retriable ?? false;
   }
 }
 
@@ -113,6 +111,14 @@ export function isRetriable(error: unknown): boolean {
     innermost = cause;
   }
   return (innermost as { retriable?: unknown } | null)?.retriable === true;
+}
+
+/**
+ * Whether a connection attempt that failed this way is worth another: our own
+ * errors say so themselves, the client's by their cause chain ({@link isRetriable}).
+ */
+export function isRetriableConnectError(error: unknown): boolean {
+  return error instanceof KafkaIngestError ? error.retriable : isRetriable(error);
 }
 
 /** The innermost message of an error's cause chain, the one that says what actually happened. */

@@ -4,15 +4,12 @@ import {
   decodePartialSummary,
   PartialSummaryError,
   type PartialSummary,
-} from '../partials/partial-summary.js';
-import { UsageError } from '../window/errors.js';
-import { createKafkaClient, type KafkaConnectionOptions } from './kafka-connection.js';
-import { causeText, KafkaIngestError } from './kafka-errors.js';
-import {
-  commitMetadata,
-  judgedThroughFromMetadata,
-  PartitionLedger,
-} from './kafka-offset-ledger.js';
+} from '../../partials/partial-summary.js';
+import { UsageError } from '../../errors/usage-error.js';
+import { createKafkaClient, type KafkaConnectionOptions } from './connection.js';
+import { causeText, KafkaIngestError } from './errors.js';
+import { describedPartitionCount } from './topic-metadata.js';
+import { commitMetadata, judgedThroughFromMetadata, PartitionLedger } from './offset-ledger.js';
 
 /** Settings of a {@link KafkaSummaryReader}. */
 export interface SummaryReaderOptions extends KafkaConnectionOptions {
@@ -60,10 +57,7 @@ export class KafkaSummaryReader {
     const admin = this.kafka.admin();
     try {
       await admin.connect();
-      const { topics } = await admin.fetchTopicMetadata({ topics: [this.options.topic] });
-      if ((topics[0]?.partitions.length ?? 0) === 0) {
-        throw new KafkaIngestError(`--merge ${this.options.topic} has no partitions`);
-      }
+      await describedPartitionCount(admin, this.options.topic, `--merge ${this.options.topic}`);
       const [entry] = await admin.fetchOffsets({
         groupId: this.groupId,
         topics: [this.options.topic],

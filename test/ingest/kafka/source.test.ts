@@ -2,9 +2,9 @@
 // it is still trying to connect ends the read at once. Port 9 on loopback has no listener,
 // so connections are refused immediately (the broker tests are in test/e2e/).
 import { describe, expect, it } from 'vitest';
-import { KafkaSource, type KafkaSourceOptions } from '../../src/ingest/kafka-source.js';
-import type { KafkaSourceEvent } from '../../src/ingest/kafka-events.js';
-import { UsageError } from '../../src/window/errors.js';
+import { KafkaSource, type KafkaSourceOptions } from '../../../src/ingest/kafka/source.js';
+import type { KafkaSourceEvent } from '../../../src/ingest/kafka/events.js';
+import { UsageError } from '../../../src/errors/usage-error.js';
 
 const nowhere: KafkaSourceOptions = {
   brokers: ['127.0.0.1:9'],

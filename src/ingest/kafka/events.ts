@@ -1,4 +1,4 @@
-import type { KafkaClientLog } from './kafka-connection.js';
+import type { KafkaClientLog } from './connection.js';
 
 /**
  * What the Kafka source reports while it runs: the seam the CLI (stderr

@@ -1,8 +1,8 @@
 import { setTimeout as sleepFor } from 'node:timers/promises';
 import type { Admin } from 'kafkajs';
-import type { SourceItem } from './file-source.js';
-import { brokerText, createKafkaClient, type KafkaConnectionOptions } from './kafka-connection.js';
-import type { RecordSource, SourceStart } from './record-source.js';
+import type { SourceItem } from '../file-source.js';
+import { brokerText, createKafkaClient, type KafkaConnectionOptions } from './connection.js';
+import type { RecordSource, SourceStart } from '../record-source.js';
 
 /** How long after a hop boundary the end offsets are read: writes in flight land first. */
 const readDelayMs = 50;

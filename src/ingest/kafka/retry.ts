@@ -1,5 +1,6 @@
 import { setTimeout as sleepFor } from 'node:timers/promises';
-import { isRetriable } from './kafka-errors.js';
+import { BrokersUnreachableError, isRetriable } from './errors.js';
+import { ShardwiseError } from '../../errors/shardwise-error.js';
 
 /** How often and how patiently to retry. */
 export interface BackoffPolicy {
@@ -59,7 +60,7 @@ export interface RetryHooks {
 }
 
 /** Thrown by {@link retryWithBackoff} when every attempt failed with a retriable error. */
-export class RetriesExhausted extends Error {
+export class RetriesExhausted extends ShardwiseError {
   /** Attempts made. */
   readonly attempts: number;
   /** From the first attempt to the last failure, ms. */
@@ -101,4 +102,16 @@ export async function retryWithBackoff<T>(
       await sleepFor(delayMs, undefined, { signal: hooks.signal });
     }
   }
+}
+
+/**
+ * Connecting that ran out of attempts ({@link RetriesExhausted}) as the error
+ * naming the brokers of `--brokers`; null for any other error.
+ */
+export function unreachableBrokersError(
+  error: unknown,
+  brokers: readonly string[],
+): BrokersUnreachableError | null {
+  if (!(error instanceof RetriesExhausted)) return null;
+  return new BrokersUnreachableError(brokers, error.attempts, error.elapsedMs, error.cause);
 }

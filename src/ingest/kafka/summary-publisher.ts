@@ -1,10 +1,10 @@
 import { randomUUID } from 'node:crypto';
 import { Partitioners, type Kafka, type Producer } from 'kafkajs';
-import type { ClosedWindowParts } from '../partials/partial-count-sink.js';
-import { encodePartialSummary, type PartialSummary } from '../partials/partial-summary.js';
-import { UsageError } from '../window/errors.js';
-import { createKafkaClient, type KafkaConnectionOptions } from './kafka-connection.js';
-import { partitionCount } from './kafka-group-source.js';
+import type { ClosedWindowParts } from '../../partials/partial-count-sink.js';
+import { encodePartialSummary, type PartialSummary } from '../../partials/partial-summary.js';
+import { UsageError } from '../../errors/usage-error.js';
+import { createKafkaClient, type KafkaConnectionOptions } from './connection.js';
+import { partitionCount } from './topic-metadata.js';
 
 /** Settings of a {@link KafkaSummaryPublisher}: what every summary of the instance names. */
 export interface SummaryPublisherOptions extends KafkaConnectionOptions {

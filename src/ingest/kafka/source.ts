@@ -1,47 +1,31 @@
 import { randomUUID } from 'node:crypto';
-import { itemsOf } from './batch-items.js';
+import { itemsOf } from '../batch-items.js';
 import type { Admin, Consumer, EachBatchPayload, Kafka, KafkaMessage } from 'kafkajs';
-import type { CountRecord, RejectionReason } from '../window/count-record.js';
-import { UsageError } from '../window/errors.js';
-import type { RecordSink } from './decode.js';
-import type { SourceItem } from './file-source.js';
+import { UsageError } from '../../errors/usage-error.js';
+import type { RecordSink } from '../decode.js';
+import type { SourceItem } from '../file-source.js';
 import {
   brokerText,
   createKafkaClient,
   type KafkaClientLog,
   type KafkaConnectionOptions,
-} from './kafka-connection.js';
-import {
-  BrokersUnreachableError,
-  causeText,
-  isRetriable,
-  KafkaIngestError,
-  KafkaPartitionError,
-  KafkaTopicError,
-} from './kafka-errors.js';
-import type { KafkaSourceEvent, KafkaSourceListener, PartitionOffset } from './kafka-events.js';
-import { KafkaMessageDecoder, type ShardFrom } from './kafka-message-decoder.js';
-import { PartitionAlignment } from './kafka-partition-alignment.js';
-import {
-  commitMetadata,
-  judgedThroughFromMetadata,
-  OffsetLedger,
-  type WindowGeometry,
-} from './kafka-offset-ledger.js';
+} from './connection.js';
+import { causeText, isRetriable, isRetriableConnectError, KafkaIngestError } from './errors.js';
+import type { KafkaSourceEvent, KafkaSourceListener, PartitionOffset } from './events.js';
+import { KafkaMessageDecoder, type ShardFrom } from './message-decoder.js';
+import { PartitionAlignment } from './partition-alignment.js';
+import { judgedThroughFromMetadata, OffsetLedger, type WindowGeometry } from './offset-ledger.js';
 import {
   backoffDelay,
   checkBackoffPolicy,
   retryWithBackoff,
-  RetriesExhausted,
+  unreachableBrokersError,
   type BackoffPolicy,
-} from './kafka-retry.js';
-
-/** Where to start a partition the group has no committed position for (`--from`). */
-export type StartPosition =
-  | { readonly kind: 'latest' }
-  | { readonly kind: 'earliest' }
-  /** The first message whose Kafka timestamp is at or after `ms` (epoch ms). */
-  | { readonly kind: 'time'; readonly ms: number };
+} from './retry.js';
+import { BatchHandoff, Settled } from './batch-handoff.js';
+import { GroupCommits, type CommitPayload } from './group-commits.js';
+import { ItemCollector, ReleaseTracker } from './source-sinks.js';
+import { fromOptionOffsets, sourcePartitionCount, type StartPosition } from './start-positions.js';
 
 /** Settings of a {@link KafkaSource}. */
 export interface KafkaSourceOptions extends KafkaConnectionOptions {
@@ -167,7 +151,7 @@ const defaultConsumerRestart: BackoffPolicy = {
  * replayed stretch may be counted again.
  *
  * Faults. Connecting retries with capped exponential backoff and jitter, then
- * fails with {@link BrokersUnreachableError} naming the brokers. A consumer
+ * fails with `BrokersUnreachableError` naming the brokers. A consumer
  * that crashes (the client gives up on a request, or hits a non-retriable
  * error) is replaced by a new one on the same group, with the same backoff;
  * the client's own restart is switched off so every crash comes here.
@@ -208,8 +192,7 @@ export class KafkaSource implements AsyncIterable<SourceItem> {
   private ended = false;
   private closing: Promise<void> | null = null;
   private commitTimer: NodeJS.Timeout | null = null;
-  private committing: Promise<void> | null = null;
-  private readonly confirmed = new Map<number, string>();
+  private readonly commits: GroupCommits;
   private pendingEnd: Map<number, number> | null = null;
   private failures = 0;
   private scratchPartitions = new Int32Array(1024);
@@ -256,6 +239,12 @@ export class KafkaSource implements AsyncIterable<SourceItem> {
       'consumerRestart',
     );
     this.decoder = new KafkaMessageDecoder(this.shardFrom);
+    this.commits = new GroupCommits(
+      this.topic,
+      this.ledger,
+      options.commitOffsets !== false,
+      (event) => this.emit(event),
+    );
     this.tracker = new ReleaseTracker(this.ledger);
     this.alignment = new PartitionAlignment<KafkaMessage>(
       options.alignmentMs ?? Math.floor((options.windows.latenessMs ?? 0) / 2),
@@ -414,17 +403,11 @@ export class KafkaSource implements AsyncIterable<SourceItem> {
     } catch (error) {
       if (this.closed) return;
       const failure =
-        error instanceof RetriesExhausted
-          ? new BrokersUnreachableError(
-              this.options.brokers,
-              error.attempts,
-              error.elapsedMs,
-              error.cause,
-            )
-          : new KafkaIngestError(
-              `cannot start the Kafka consumer of --topic ${this.topic} (--group ${this.groupId}): ${causeText(error)}`,
-              { cause: error },
-            );
+        unreachableBrokersError(error, this.options.brokers) ??
+        new KafkaIngestError(
+          `cannot start the Kafka consumer of --topic ${this.topic} (--group ${this.groupId}): ${causeText(error)}`,
+          { cause: error },
+        );
       this.fail(failure);
       throw failure;
     }
@@ -441,8 +424,7 @@ export class KafkaSource implements AsyncIterable<SourceItem> {
     try {
       const info = await retryWithBackoff(() => this.readStart(admin), this.connectRetry, {
         signal: this.stopping.signal,
-        shouldRetry: (error) =>
-          error instanceof KafkaIngestError ? error.retriable : isRetriable(error),
+        shouldRetry: isRetriableConnectError,
         onRetry: (failures, delayMs, error) =>
           this.emit({ type: 'connect-retry', brokers, failures, delayMs, error: causeText(error) }),
       });
@@ -452,14 +434,8 @@ export class KafkaSource implements AsyncIterable<SourceItem> {
       }
       return info;
     } catch (error) {
-      if (error instanceof RetriesExhausted) {
-        throw new BrokersUnreachableError(
-          this.options.brokers,
-          error.attempts,
-          error.elapsedMs,
-          error.cause,
-        );
-      }
+      const unreachable = unreachableBrokersError(error, this.options.brokers);
+      if (unreachable !== null) throw unreachable;
       if (error instanceof KafkaIngestError || this.stopping.signal.aborted) throw error;
       throw new KafkaIngestError(
         `cannot start reading --topic ${this.topic} from ${brokers}: ${causeText(error)}`,
@@ -475,7 +451,7 @@ export class KafkaSource implements AsyncIterable<SourceItem> {
     const topic = this.topic;
     const groupId = this.groupId;
     await admin.connect();
-    const partitions = await this.partitionCount(admin);
+    const partitions = await sourcePartitionCount(admin, topic, brokerText(this.options));
     this.emit({
       type: 'connected',
       brokers: brokerText(this.options),
@@ -497,14 +473,19 @@ export class KafkaSource implements AsyncIterable<SourceItem> {
       if (offset >= 0) {
         resumed.push({ partition: entry.partition, offset });
         committedByPartition.set(entry.partition, offset);
-        this.confirmed.set(entry.partition, `${offset}|${entry.metadata ?? null}`);
+        this.commits.resumed(entry.partition, offset, entry.metadata ?? null);
         judgedThrough = Math.max(judgedThrough, judgedThroughFromMetadata(entry.metadata));
       }
     }
     for (let partition = 0; partition < partitions; partition++) {
       if (!committedByPartition.has(partition)) missing.push(partition);
     }
-    const fromOption = await this.startOffsets(admin, missing);
+    const fromOption = await fromOptionOffsets(
+      admin,
+      topic,
+      this.options.from ?? { kind: 'latest' },
+      missing,
+    );
     const startOffsets = [...resumed, ...fromOption].sort((a, b) => a.partition - b.partition);
     const until = this.options.untilMs;
     const ends =
@@ -538,59 +519,6 @@ export class KafkaSource implements AsyncIterable<SourceItem> {
       startOffsets,
       backlogPartitions: [...pending.keys()].sort((a, b) => a - b),
     };
-  }
-
-  private async partitionCount(admin: Admin): Promise<number> {
-    try {
-      const { topics } = await admin.fetchTopicMetadata({ topics: [this.topic] });
-      const count = topics[0]?.partitions.length ?? 0;
-      if (count === 0) {
-        throw new KafkaTopicError(this.topic, `--topic ${this.topic} has no partitions`);
-      }
-      return count;
-    } catch (error) {
-      const type = (error as { type?: string }).type;
-      if (type === 'UNKNOWN_TOPIC_OR_PARTITION') {
-        throw new KafkaTopicError(
-          this.topic,
-          `--topic ${this.topic} does not exist on ${brokerText(this.options)}`,
-          { cause: error },
-        );
-      }
-      if (type === 'TOPIC_AUTHORIZATION_FAILED') {
-        throw new KafkaTopicError(
-          this.topic,
-          `--topic ${this.topic} may not be described by this client on ${brokerText(this.options)}`,
-          { cause: error },
-        );
-      }
-      throw error;
-    }
-  }
-
-  /** Offsets of `--from` for the partitions without a committed position. */
-  private async startOffsets(admin: Admin, partitions: number[]): Promise<PartitionOffset[]> {
-    if (partitions.length === 0) return [];
-    const from = this.options.from ?? { kind: 'latest' };
-    const entries =
-      from.kind === 'time'
-        ? await admin.fetchTopicOffsetsByTimestamp(this.topic, from.ms)
-        : (await admin.fetchTopicOffsets(this.topic)).map((entry) => ({
-            partition: entry.partition,
-            offset: from.kind === 'earliest' ? entry.low : entry.high,
-          }));
-    return partitions.map((partition) => {
-      const entry = entries.find((candidate) => candidate.partition === partition);
-      const offset = Number(entry?.offset);
-      if (entry === undefined || !Number.isSafeInteger(offset) || offset < 0) {
-        throw new KafkaPartitionError(
-          this.topic,
-          partition,
-          `no start offset for partition ${partition} of --topic ${this.topic} (--from ${from.kind})`,
-        );
-      }
-      return { partition, offset };
-    });
   }
 
   /** Makes, connects and runs a consumer, retrying with backoff while the brokers are away. */
@@ -667,7 +595,7 @@ export class KafkaSource implements AsyncIterable<SourceItem> {
    */
   private seekUncommitted(consumer: Consumer, partitions: readonly number[]): void {
     for (const partition of partitions) {
-      if (this.confirmed.has(partition)) continue;
+      if (this.commits.has(partition)) continue;
       const offset = this.ledger.partition(partition).commitOffset(this.ledger.judgedThrough);
       consumer.seek({ topic: this.topic, partition, offset: String(offset) });
     }
@@ -893,55 +821,15 @@ export class KafkaSource implements AsyncIterable<SourceItem> {
 
   private commitSoon(): void {
     const consumer = this.consumer;
-    if (this.closed || consumer === null || this.committing !== null) return;
-    this.committing = this.commitNow(consumer).finally(() => {
-      this.committing = null;
-    });
+    if (this.closed || consumer === null) return;
+    this.commits.soon(consumer);
   }
 
-  /** Commits the judged positions that differ from the last confirmed commit. */
-  private async commitNow(consumer: Consumer): Promise<void> {
-    if (this.options.commitOffsets === false) return;
-    const metadata = commitMetadata(this.ledger.judgedThrough);
-    const changed = this.ledger
-      .commitOffsets()
-      .filter(({ partition, offset }) => this.confirmed.get(partition) !== `${offset}|${metadata}`);
-    if (changed.length === 0) return;
-    try {
-      await consumer.commitOffsets(
-        changed.map(({ partition, offset }) => ({
-          topic: this.topic,
-          partition,
-          offset: String(offset),
-          metadata,
-        })),
-      );
-    } catch (error) {
-      this.emit({ type: 'commit-failed', error: causeText(error) });
-    }
-  }
-
-  private confirmCommit(payload: {
-    topics: {
-      topic: string;
-      partitions: { partition: number; offset: unknown; metadata?: unknown }[];
-    }[];
-  }): void {
-    const offsets: PartitionOffset[] = [];
-    let judged: number | null = null;
-    for (const { topic, partitions } of payload.topics) {
-      if (topic !== this.topic) continue;
-      for (const { partition, offset, metadata } of partitions) {
-        const text = typeof metadata === 'string' ? metadata : null;
-        this.confirmed.set(partition, `${String(offset)}|${text}`);
-        offsets.push({ partition, offset: Number(String(offset)) });
-        const through = judgedThroughFromMetadata(text);
-        if (Number.isFinite(through)) judged = through;
-      }
-    }
-    if (offsets.length === 0) return;
+  private confirmCommit(payload: CommitPayload): void {
+    const confirmed = this.commits.confirm(payload);
+    if (confirmed === null) return;
     this.counters.commits++;
-    this.emit({ type: 'committed', offsets, judgedThrough: judged });
+    this.emit({ type: 'committed', ...confirmed });
   }
 
   private async shutDown(): Promise<void> {
@@ -953,11 +841,11 @@ export class KafkaSource implements AsyncIterable<SourceItem> {
     this.handoff?.end();
     this.alignment.clear();
     await this.connecting?.catch(() => undefined);
-    await this.committing;
+    await this.commits.settled();
     const consumer = this.consumer;
     this.consumer = null;
     if (consumer !== null) {
-      await this.commitNow(consumer);
+      await this.commits.now(consumer);
       await consumer.disconnect().catch(() => undefined);
     }
     this.finished.resolve();
@@ -981,148 +869,5 @@ export class KafkaSource implements AsyncIterable<SourceItem> {
         // A listener's failure must not stop the source.
       }
     }
-  }
-}
-
-/**
- * The sink between decoder and pipeline: passes records on, notes the latest
- * window end each message's records need judged, and drops replayed records
- * whose windows a previous run judged. Plain fields, no closure per message.
- */
-class ReleaseTracker implements RecordSink {
-  target: RecordSink = { record() {}, reject() {} };
-  latestRelease = Number.NEGATIVE_INFINITY;
-  resumeFloor = Number.NEGATIVE_INFINITY;
-  alreadyJudged = 0;
-  private readonly hopMs: number;
-  private readonly windowMs: number;
-
-  constructor(ledger: OffsetLedger) {
-    this.hopMs = ledger.hopMs;
-    this.windowMs = ledger.windowMs;
-  }
-
-  record(ts: number, shard: string, count: number, key: string | undefined): void {
-    const release = Math.floor(ts / this.hopMs) * this.hopMs + this.windowMs;
-    if (release <= this.resumeFloor) {
-      this.alreadyJudged++;
-      return;
-    }
-    if (release > this.latestRelease) this.latestRelease = release;
-    this.target.record(ts, shard, count, key);
-  }
-
-  reject(reason: RejectionReason): void {
-    this.target.reject(reason);
-  }
-}
-
-/** Builds items, tagged with their partition, into the array `current()` returns. */
-class ItemCollector implements RecordSink {
-  /** The partition of the message being decoded. */
-  partition = 0;
-  private readonly current: () => SourceItem[];
-
-  constructor(current: () => SourceItem[]) {
-    this.current = current;
-  }
-
-  record(ts: number, shard: string, count: number, key: string | undefined): void {
-    const partition = this.partition;
-    const record: CountRecord =
-      key === undefined ? { ts, shard, count, partition } : { ts, shard, count, key, partition };
-    this.current().push(record);
-  }
-
-  reject(reason: RejectionReason): void {
-    this.current().push({ reason });
-  }
-}
-
-/**
- * A one-slot hand-over from the consumer's batch callback to an iterating
- * reader: `put` waits (heartbeating, so the group keeps the member) until the
- * reader takes the batch, and answers false if the source ended first.
- */
-class BatchHandoff {
-  private offered: { items: SourceItem[]; taken: (accepted: boolean) => void } | null = null;
-  private waiting: {
-    resolve: (items: SourceItem[] | null) => void;
-    reject: (error: unknown) => void;
-  } | null = null;
-  private done = false;
-  private failure: unknown = null;
-
-  async put(items: SourceItem[], payload: EachBatchPayload | null): Promise<boolean> {
-    if (this.done) return false;
-    if (this.waiting !== null) {
-      const reader = this.waiting;
-      this.waiting = null;
-      reader.resolve(items);
-      return true;
-    }
-    const accepted = new Promise<boolean>((resolve) => {
-      this.offered = { items, taken: resolve };
-    });
-    const beat = setInterval(() => {
-      payload?.heartbeat().catch(() => undefined);
-    }, 2000);
-    try {
-      return await accepted;
-    } finally {
-      clearInterval(beat);
-    }
-  }
-
-  take(): Promise<SourceItem[] | null> {
-    if (this.failure !== null) return Promise.reject(this.failure);
-    if (this.offered !== null) {
-      const { items, taken } = this.offered;
-      this.offered = null;
-      taken(true);
-      return Promise.resolve(items);
-    }
-    if (this.done) return Promise.resolve(null);
-    return new Promise((resolve, reject) => {
-      this.waiting = { resolve, reject };
-    });
-  }
-
-  end(): void {
-    this.done = true;
-    this.offered?.taken(false);
-    this.offered = null;
-    this.waiting?.resolve(null);
-    this.waiting = null;
-  }
-
-  fail(error: unknown): void {
-    this.failure = error;
-    this.offered?.taken(false);
-    this.offered = null;
-    this.waiting?.reject(error);
-    this.waiting = null;
-    this.done = true;
-  }
-}
-
-/** A promise settled once, from outside; an unobserved rejection is not reported as unhandled. */
-class Settled {
-  readonly promise: Promise<void>;
-  private settle!: { resolve: () => void; reject: (error: unknown) => void };
-
-  constructor() {
-    this.promise = new Promise<void>((resolve, reject) => {
-      this.settle = { resolve, reject };
-    });
-    this.promise.catch(() => undefined);
-  }
-
-  resolve(): void {
-    this.settle.resolve();
-  }
-
-  reject(error: unknown): void {
-    this.settle.reject(error);
   }
 }

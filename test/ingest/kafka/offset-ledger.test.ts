@@ -7,7 +7,7 @@ import {
   PartitionLedger,
   commitMetadata,
   judgedThroughFromMetadata,
-} from '../../src/ingest/kafka-offset-ledger.js';
+} from '../../../src/ingest/kafka/offset-ledger.js';
 
 describe('OffsetLedger.releaseOf', () => {
   it('is the end of the last window covering the time (tumbling and sliding)', () => {

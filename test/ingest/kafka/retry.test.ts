@@ -15,13 +15,13 @@ import {
   KafkaTopicError,
   causeText,
   isRetriable,
-} from '../../src/ingest/kafka-errors.js';
+} from '../../../src/ingest/kafka/errors.js';
 import {
   RetriesExhausted,
   backoffDelay,
   checkBackoffPolicy,
   retryWithBackoff,
-} from '../../src/ingest/kafka-retry.js';
+} from '../../../src/ingest/kafka/retry.js';
 
 const policy = { attempts: 6, initialDelayMs: 100, maxDelayMs: 1000 };
 

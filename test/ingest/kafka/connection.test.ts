@@ -6,7 +6,7 @@ import {
   SecretText,
   createKafkaClient,
   type KafkaClientLog,
-} from '../../src/ingest/kafka-connection.js';
+} from '../../../src/ingest/kafka/connection.js';
 
 describe('SecretText', () => {
   it('never shows its text by string, JSON, inspection or template', () => {

@@ -4,7 +4,7 @@
 // the two promises: every message handed on, and none more than the alignment ahead of a
 // partition still behind.
 import { describe, expect, it } from 'vitest';
-import { PartitionAlignment } from '../../src/ingest/kafka-partition-alignment.js';
+import { PartitionAlignment } from '../../../src/ingest/kafka/partition-alignment.js';
 
 /** Messages are their own timestamps here. */
 function alignment(ms: number): PartitionAlignment<number> {

@@ -1,22 +1,22 @@
 import { CompressionTypes, Partitioners, type Message, type Producer } from 'kafkajs';
-import type { CountRecord } from '../window/count-record.js';
-import { UsageError } from '../window/errors.js';
-import { encodeJsonLine } from './encode.js';
-import { brokerText, createKafkaClient, type KafkaConnectionOptions } from './kafka-connection.js';
+import type { CountRecord } from '../../window/count-record.js';
+import { UsageError } from '../../errors/usage-error.js';
+import { encodeJsonLine } from '../encode.js';
+import { brokerText, createKafkaClient, type KafkaConnectionOptions } from './connection.js';
 import {
-  BrokersUnreachableError,
   causeText,
   isRetriable,
+  isRetriableConnectError,
   KafkaIngestError,
   KafkaTopicError,
-} from './kafka-errors.js';
-import type { KafkaSourceListener } from './kafka-events.js';
+} from './errors.js';
+import type { KafkaSourceListener } from './events.js';
 import {
   checkBackoffPolicy,
   retryWithBackoff,
-  RetriesExhausted,
+  unreachableBrokersError,
   type BackoffPolicy,
-} from './kafka-retry.js';
+} from './retry.js';
 
 /** Settings of {@link produceToKafka}. */
 export interface KafkaSinkOptions extends KafkaConnectionOptions {
@@ -191,21 +191,14 @@ async function connectProducer(
       policy,
       {
         signal: options.signal,
-        shouldRetry: (error) =>
-          error instanceof KafkaIngestError ? error.retriable : isRetriable(error),
+        shouldRetry: isRetriableConnectError,
         onRetry: (failures, delayMs, error) =>
           emit({ type: 'connect-retry', brokers, failures, delayMs, error: causeText(error) }),
       },
     );
   } catch (error) {
-    if (error instanceof RetriesExhausted) {
-      throw new BrokersUnreachableError(
-        options.brokers,
-        error.attempts,
-        error.elapsedMs,
-        error.cause,
-      );
-    }
+    const unreachable = unreachableBrokersError(error, options.brokers);
+    if (unreachable !== null) throw unreachable;
     if (error instanceof KafkaIngestError) throw error;
     throw new KafkaIngestError(
       `cannot connect to the Kafka brokers ${brokers}: ${causeText(error)}`,
