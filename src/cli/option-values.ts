@@ -1,5 +1,5 @@
 import { parseArgs, type ParseArgsConfig } from 'node:util';
-import { UsageError } from '../window/errors.js';
+import { UsageError } from '../errors/usage-error.js';
 
 /**
  * Parsing of command-line values with messages that name the option and the value, so a

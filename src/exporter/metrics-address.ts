@@ -1,5 +1,5 @@
 import { isIP } from 'node:net';
-import { UsageError } from '../window/errors.js';
+import { UsageError } from '../errors/usage-error.js';
 
 /** Default `--metrics-port`. */
 export const defaultMetricsPort = 9464;

@@ -14,7 +14,6 @@ import { RetriesExhausted } from '../../src/ingest/kafka/retry.js';
 import { PrometheusQueryError } from '../../src/ingest/prometheus/prometheus-api.js';
 import { PartialSummaryError } from '../../src/partials/partial-summary.js';
 import { RecordingFormatError } from '../../src/record/recording-reader.js';
-import { UsageError as UsageErrorOfWindow } from '../../src/window/errors.js';
 
 describe('ShardwiseError', () => {
   const cause = new Error('connection refused');
@@ -44,9 +43,5 @@ describe('ShardwiseError', () => {
     expect(unreachable.cause).toBe(cause);
     expect(new KafkaIngestError('x', { retriable: true }).retriable).toBe(true);
     expect(new KafkaIngestError('x').retriable).toBe(false);
-  });
-
-  it('is the same usage error under its former place', () => {
-    expect(UsageErrorOfWindow).toBe(UsageError);
   });
 });
