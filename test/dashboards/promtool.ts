@@ -1,6 +1,6 @@
 // Runs Debian's promtool (package prometheus). Missing promtool is a failure with the
 // install line, never a skip: the rule tests are part of the suite.
-import { execFile } from 'node:child_process';
+import { execFile, spawn } from 'node:child_process';
 import { accessSync, constants } from 'node:fs';
 import { delimiter, join } from 'node:path';
 import { promisify } from 'node:util';
@@ -54,4 +54,17 @@ export async function promtool(args: readonly string[], cwd: string): Promise<To
     if (typeof failed.code !== 'number') throw error;
     return { code: failed.code, stdout: failed.stdout ?? '', stderr: failed.stderr ?? '' };
   }
+}
+
+/** `promtool check metrics` on an exposition (stdin); exit 0 and no output when clean. */
+export function checkMetrics(text: string): Promise<{ code: number | null; out: string }> {
+  return new Promise((resolve, reject) => {
+    const child = spawn(requirePromtool(), ['check', 'metrics'], { stdio: 'pipe' });
+    let out = '';
+    child.stdout.on('data', (d) => (out += d));
+    child.stderr.on('data', (d) => (out += d));
+    child.on('error', reject);
+    child.on('close', (code) => resolve({ code, out }));
+    child.stdin.end(text);
+  });
 }

@@ -7,7 +7,6 @@
 // alert names the planted shard (seat-17, src/scenario/built-in-scenarios.ts) in its
 // labels and carries its load, the chance ceiling and its p-value in its annotations; a
 // scrape holding the per-incident series passes `promtool check metrics`.
-import { spawn } from 'node:child_process';
 import { mkdtempSync, readFileSync, rmSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
@@ -20,7 +19,7 @@ import {
   startWatch,
   type Child,
 } from './prometheus-fixtures.js';
-import { requirePromtool } from '../dashboards/promtool.js';
+import { checkMetrics } from '../dashboards/promtool.js';
 
 interface AlertState {
   readonly labels: Record<string, string>;
@@ -59,19 +58,6 @@ async function query(
   const body = (await response.json()) as { status: string; data: { result: never[] } };
   expect(body.status).toBe('success');
   return body.data.result;
-}
-
-/** `promtool check metrics` on an exposition (stdin); exit 0 and no output when clean. */
-function checkMetrics(text: string): Promise<{ code: number | null; out: string }> {
-  return new Promise((resolve, reject) => {
-    const child = spawn(requirePromtool(), ['check', 'metrics'], { stdio: 'pipe' });
-    let out = '';
-    child.stdout.on('data', (d) => (out += d));
-    child.stderr.on('data', (d) => (out += d));
-    child.on('error', reject);
-    child.on('close', (code) => resolve({ code, out }));
-    child.stdin.end(text);
-  });
 }
 
 /** The hotspot alert's annotation when its shard is flagged in the latest window. */

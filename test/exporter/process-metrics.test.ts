@@ -1,4 +1,3 @@
-import { spawn } from 'node:child_process';
 import { describe, expect, it } from 'vitest';
 import { VerdictMetrics } from '../../src/exporter/verdict-metrics.js';
 import { Judge } from '../../src/judge/judge.js';
@@ -7,20 +6,7 @@ import { JudgingPipeline } from '../../src/judge/judging-pipeline.js';
 import { ShardUniverse } from '../../src/window/shard-universe.js';
 import { MergeMetrics, type SummaryMergeSource } from '../../src/cli/watch-merge.js';
 import { runScenario } from '../../src/scenario/scenario-run.js';
-import { requirePromtool } from '../dashboards/promtool.js';
-
-/** `promtool check metrics` reads an exposition on stdin; exit 0 and no output when clean. */
-function checkMetrics(text: string): Promise<{ code: number | null; out: string }> {
-  return new Promise((resolve, reject) => {
-    const child = spawn(requirePromtool(), ['check', 'metrics'], { stdio: 'pipe' });
-    let out = '';
-    child.stdout.on('data', (d) => (out += d));
-    child.stderr.on('data', (d) => (out += d));
-    child.on('error', reject);
-    child.on('close', (code) => resolve({ code, out }));
-    child.stdin.end(text);
-  });
-}
+import { checkMetrics } from '../dashboards/promtool.js';
 
 describe('a scrape of the metrics endpoint', () => {
   it('passes promtool check metrics (measured on main: exit 3 on the default collectors\u2019 nodejs_active_*_total gauges)', async () => {

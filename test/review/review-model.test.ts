@@ -9,23 +9,7 @@ import { judgeScenario, reviewOf } from './judged-scenario.js';
 
 describe('ReviewBuilder', () => {
   const judged = judgeScenario('hotspot');
-  const builder = new ReviewBuilder({
-    source: 'test',
-    judgedHere: true,
-    settings: { ...judged.recorded },
-  });
-  for (const { window, judgement } of judged.windows) {
-    builder.add({
-      start: window.start,
-      end: window.end,
-      counts: window.counts,
-      total: window.total,
-      shardIds: judged.universe.ids,
-      shares: null,
-      judgement,
-    });
-  }
-  const model = builder.build();
+  const model = reviewOf(judged);
 
   it('predicts the peak window spread with the binomial law (jstat 1.9.6 binomial.cdf)', () => {
     const peak = model.peak;
