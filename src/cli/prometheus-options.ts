@@ -58,6 +58,24 @@ type Values = Readonly<Record<string, string | boolean | (string | boolean)[] | 
 const labelName = /^[a-zA-Z_][a-zA-Z0-9_]*$/;
 
 /**
+ * A secret from its file option or its environment variable, never both (a usage error
+ * naming the option); undefined when neither is given.
+ */
+function oneSecret(
+  option: string,
+  file: string | undefined,
+  variable: string,
+  fromEnv: string | undefined,
+  what: string,
+  warnings: string[],
+): string | undefined {
+  if (file !== undefined && fromEnv !== undefined) {
+    throw new UsageError(option, file, `and ${variable} both give ${what}; unset one of them`);
+  }
+  return file !== undefined ? secretFromFile(option, file, warnings) : fromEnv;
+}
+
+/**
  * Reads `--prometheus` and its options; null without `--prometheus` (any of its options
  * alone is a usage error: it would be silently ignored).
  */
@@ -156,17 +174,14 @@ function readAuth(
   const user = text(values, 'prometheus-user');
   const passwordFile = text(values, 'prometheus-password-file');
   const passwordEnv = context.env[prometheusPasswordVariable];
-  if (tokenFile !== undefined && tokenEnv !== undefined) {
-    throw new UsageError(
-      '--prometheus-token-file',
-      tokenFile,
-      `and ${prometheusTokenVariable} both give a token; unset one of them`,
-    );
-  }
-  const token =
-    tokenFile !== undefined
-      ? secretFromFile('--prometheus-token-file', tokenFile, warnings)
-      : tokenEnv;
+  const token = oneSecret(
+    '--prometheus-token-file',
+    tokenFile,
+    prometheusTokenVariable,
+    tokenEnv,
+    'a token',
+    warnings,
+  );
   if (user === undefined) {
     if (passwordFile !== undefined) {
       throw new UsageError(
@@ -202,17 +217,14 @@ function readAuth(
       'is empty or holds a colon (basic auth cannot carry it)',
     );
   }
-  if (passwordFile !== undefined && passwordEnv !== undefined) {
-    throw new UsageError(
-      '--prometheus-password-file',
-      passwordFile,
-      `and ${prometheusPasswordVariable} both give a password; unset one of them`,
-    );
-  }
-  const password =
-    passwordFile !== undefined
-      ? secretFromFile('--prometheus-password-file', passwordFile, warnings)
-      : passwordEnv;
+  const password = oneSecret(
+    '--prometheus-password-file',
+    passwordFile,
+    prometheusPasswordVariable,
+    passwordEnv,
+    'a password',
+    warnings,
+  );
   if (password === undefined || password === '') {
     throw new UsageError(
       '--prometheus-user',
