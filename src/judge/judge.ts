@@ -1,7 +1,5 @@
 import { probabilityFromLog } from '../chance/log-space.js';
-import type { Placement } from '../chance/placement.js';
 import { spreadTest } from '../chance/spread.js';
-import { logBinomialAtLeast, logBinomialAtMost } from '../chance/tails.js';
 import type { ClosedWindow } from '../window/event-time-window.js';
 import type { ShardRemap, ShardUniverse } from '../window/shard-universe.js';
 import { BaselineShares } from './baseline-shares.js';
@@ -10,7 +8,6 @@ import { robustSpread, scaleCounts } from './dispersion-scaling.js';
 import { PooledSpread, tailDispersion, type SpreadEstimate } from './pooled-spread.js';
 import {
   IncidentTracker,
-  trackingKey,
   windowsWithoutFlagToClearFactor,
   type PersistenceUpdate,
   type SequentialFlag,
@@ -18,14 +15,21 @@ import {
 } from './incident-tracker.js';
 import { checkJudgeSettings, type JudgeSettings } from './judge-settings.js';
 import { leastNullRunLength, SequentialEvidence } from './sequential-evidence.js';
+import { flagShards } from './flagged-shards.js';
+import {
+  describeSpreadMode,
+  leastShardsForRobust,
+  round,
+  spreadReadyWindows,
+  spreadSpanWindows,
+} from './spread-mode.js';
+import { level, placementOf, shareAt } from './window-placement.js';
 import type {
   BaselineStatus,
   ExtremeShardVerdict,
   Finding,
-  FlaggedShard,
   Incident,
   Judgement,
-  LoadLevel,
 } from './judgement.js';
 
 const dayMs = 86_400_000;
@@ -35,22 +39,6 @@ const dayMs = 86_400_000;
  * exactly at the ceiling must not be flagged by a rounding error.
  */
 const comparisonSlack = 1e-9;
-/**
- * Fewest shards for which auto turns robust. The robust spread is a median of squared
- * residuals; with few shards the excess of one shard depresses all the others visibly
- * (each by 1/m of it), so every residual is large and the median reads one hotspot as a
- * general spread (with 2 shards both residuals are always equal). From 16 shards one
- * shard's excess moves the others by at most 1/16 of it. Our choice, stated.
- */
-const leastShardsForRobust = 16;
-/**
- * The learned spread (pooled-spread.ts): span of its exponential weights, in windows, and
- * the windows learned before it replaces random placement as the yardstick of "uneven".
- * Our choices, stated: 60 windows (10 minutes of 10 s windows) pools 60 x m residuals;
- * 10 windows are enough for the t widening to be modest (see docs/calibration.md).
- */
-const spreadSpanWindows = 60;
-const spreadReadyWindows = 10;
 
 /** The shares a window is judged against, and what they rest on. */
 interface NullShares {
@@ -353,7 +341,10 @@ export class Judge {
       sequentialHot,
     );
     this.afterUpdate(update, notes);
-    const flagged = this.flag(
+    const flagged = flagShards(
+      this.memo,
+      this.universe,
+      s.maxFlagged,
       hotCandidates,
       coldCandidates,
       placement,
@@ -491,69 +482,6 @@ export class Judge {
       alpha: this.settings.alpha,
       notes,
     };
-  }
-
-  /**
-   * The flagged list: adjusted p-values for the strongest candidates of each side (at most
-   * --max-flagged each, so the cost is bounded however many shards exceed the ceiling),
-   * most significant first, at most --max-flagged in all.
-   */
-  private flag(
-    hot: number[],
-    cold: number[],
-    placement: Placement,
-    version: string,
-    judgedCounts: ArrayLike<number>,
-    counts: ArrayLike<number>,
-    n: number,
-    shares: Float64Array | null,
-    streaks: ReadonlyMap<number, number>,
-  ): FlaggedShard[] {
-    const s = this.settings;
-    const m = counts.length;
-    const judgedTotal = placement.total;
-    const judgedLoad = (shard: number) =>
-      judgedCounts[shard] / (judgedTotal * shareAt(shares, shard, m));
-    const entries: (FlaggedShard & { logP: number })[] = [];
-    // Hot shards against the fullest-shard law, cold ones against the emptiest-shard law;
-    // the plain binomial tail goes beside, never used alone.
-    const sides = [
-      { finding: 'hotspot', shards: hot, hotter: true },
-      { finding: 'cold', shards: cold, hotter: false },
-    ] as const;
-    for (const side of sides) {
-      const strongest = [...side.shards]
-        .sort(
-          (a, b) =>
-            (side.hotter ? judgedLoad(b) - judgedLoad(a) : judgedLoad(a) - judgedLoad(b)) || a - b,
-        )
-        .slice(0, s.maxFlagged);
-      for (const shard of strongest) {
-        const relative = judgedLoad(shard);
-        const logP = (
-          side.hotter
-            ? this.memo.fullestTail(placement, version, relative)
-            : this.memo.emptiestTail(placement, version, relative)
-        ).logProbability;
-        const share = shareAt(shares, shard, m);
-        const binomialLogP = side.hotter
-          ? logBinomialAtLeast(judgedCounts[shard], judgedTotal, share)
-          : logBinomialAtMost(judgedCounts[shard], judgedTotal, share);
-        entries.push({
-          shard: this.universe.idAt(shard),
-          finding: side.finding,
-          count: counts[shard],
-          relative: counts[shard] / (n * share),
-          p: probabilityFromLog(logP),
-          binomialP: probabilityFromLog(binomialLogP),
-          streak: streaks.get(trackingKey(shard, side.finding)) ?? 0,
-          logP,
-        });
-      }
-    }
-    // Sorted on the log so that p-values below the 1e-300 reporting floor keep their order.
-    entries.sort((a, b) => a.logP - b.logP);
-    return entries.slice(0, s.maxFlagged).map(({ logP: _logP, ...entry }) => entry);
   }
 
   private extreme(
@@ -711,66 +639,6 @@ function universeKeyOf(universe: ShardUniverse): number {
   return key;
 }
 
-/**
- * A placement built without copying the shares: they are already non-negative and sum to 1
- * (the universe's or the baseline's), and makePlacement's O(m) copy per window is waste.
- * The counts' length may be below the scratch arrays' length; only the first m are read.
- */
-function placementOf(total: number, shardCount: number, shares: Float64Array | null): Placement {
-  return { total, shardCount, shares };
-}
-
-function shareAt(shares: Float64Array | null, shard: number, m: number): number {
-  return shares === null ? 1 / m : shares[shard];
-}
-
-/**
- * A chance level in both units. In requests it is relative x the real fair share: a whole
- * count in exact mode (the engine's quantile is count / fair share, so the product is that
- * count up to rounding, hence the rounding to 1e-6), a fraction of one in robust mode,
- * where the level was found on the scaled counts.
- */
-function level(relative: number, equalShares: boolean, fairShare: number): LoadLevel {
-  return { relative, requests: equalShares ? Math.round(relative * fairShare * 1e6) / 1e6 : null };
-}
-
 function iso(ms: number): string {
   return new Date(ms).toISOString();
-}
-
-function describeSpreadMode(
-  m: number,
-  s: JudgeSettings,
-  robust: boolean,
-  spreadRejects: boolean,
-  spreadP: number,
-  phi: number,
-  learned: SpreadEstimate | null,
-  robustPhi: number,
-  dispersion: number,
-): string {
-  const learnedText =
-    learned === null
-      ? ''
-      : `learned phi ${round(learned.phi)} over ${learned.windows} windows, upper 95% bound ${round(learned.upper)}`;
-  const scaled =
-    dispersion > 1
-      ? `counts divided by ${round(dispersion)}${robust ? ` (${learnedText}${dispersion === robustPhi ? `; this window is beyond it, so its own robust phi ${round(robustPhi)}` : ', matched on the tail of clumped counts'})` : " for the learned baseline's own uncertainty"}`
-      : robust
-        ? `${learnedText} is at most 1, so counts are judged as they are`
-        : 'counts judged as they are';
-  if (s.spread !== 'auto') return `--spread ${s.spread}: ${scaled}`;
-  if (spreadRejects && m < leastShardsForRobust) {
-    return `auto: the spread test rejects (p ${spreadP.toPrecision(3)} <= alpha ${s.alpha}, phi ${round(phi)}) but ${m} shards are too few for a robust spread (${leastShardsForRobust} needed); ${scaled}`;
-  }
-  if (!spreadRejects && robust) {
-    return `auto: the spread test does not reject (p ${spreadP.toPrecision(3)} > alpha ${s.alpha}) but the learned spread is above 1 (lower 95% bound ${round(learned?.lower ?? 1)}); ${scaled}`;
-  }
-  return spreadRejects
-    ? `auto: the spread test rejects (p ${spreadP.toPrecision(3)} <= alpha ${s.alpha}, phi ${round(phi)}); ${scaled}`
-    : `auto: the spread test does not reject (p ${spreadP.toPrecision(3)} > alpha ${s.alpha}); ${scaled}`;
-}
-
-function round(value: number): string {
-  return value.toPrecision(3);
 }

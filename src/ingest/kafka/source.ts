@@ -1,20 +1,15 @@
 import { randomUUID } from 'node:crypto';
 import { itemsOf } from '../batch-items.js';
-import type { Admin, Consumer, EachBatchPayload, Kafka, KafkaMessage } from 'kafkajs';
+import type { Consumer, EachBatchPayload, Kafka, KafkaMessage } from 'kafkajs';
 import { UsageError } from '../../errors/usage-error.js';
 import type { RecordSink } from '../decode.js';
 import type { SourceItem } from '../file-source.js';
-import {
-  brokerText,
-  createKafkaClient,
-  type KafkaClientLog,
-  type KafkaConnectionOptions,
-} from './connection.js';
-import { causeText, isRetriable, isRetriableConnectError, KafkaIngestError } from './errors.js';
-import type { KafkaSourceEvent, KafkaSourceListener, PartitionOffset } from './events.js';
+import { brokerText, createKafkaClient, type KafkaClientLog } from './connection.js';
+import { causeText, isRetriable, KafkaIngestError } from './errors.js';
+import type { KafkaSourceEvent, KafkaSourceListener } from './events.js';
 import { KafkaMessageDecoder, type ShardFrom } from './message-decoder.js';
 import { PartitionAlignment } from './partition-alignment.js';
-import { judgedThroughFromMetadata, OffsetLedger, type WindowGeometry } from './offset-ledger.js';
+import { OffsetLedger } from './offset-ledger.js';
 import {
   backoffDelay,
   checkBackoffPolicy,
@@ -25,113 +20,16 @@ import {
 import { BatchHandoff, Settled } from './batch-handoff.js';
 import { GroupCommits, type CommitPayload } from './group-commits.js';
 import { ItemCollector, ReleaseTracker } from './source-sinks.js';
-import { fromOptionOffsets, sourcePartitionCount, type StartPosition } from './start-positions.js';
+import { establishStart, type StartTarget } from './source-start.js';
+import {
+  defaultConnectRetry,
+  defaultConsumerRestart,
+  type KafkaSourceInfo,
+  type KafkaSourceOptions,
+  type KafkaSourceStats,
+} from './source-types.js';
 
-/** Settings of a {@link KafkaSource}. */
-export interface KafkaSourceOptions extends KafkaConnectionOptions {
-  /** `--topic`. */
-  readonly topic: string;
-  /**
-   * `--group`: the consumer group whose committed positions a restart
-   * resumes from. Without one a fresh group is made per run and `from`
-   * decides everything.
-   */
-  readonly groupId?: string;
-  /** `--from`, for partitions without a committed position (default latest). */
-  readonly from?: StartPosition;
-  /** `--shard-from` (default: the record's `shard` field). */
-  readonly shardFrom?: ShardFrom;
-  /**
-   * The pipeline's windows, to know when a record is fully judged and may be
-   * committed past; their lateness also sets the default alignment.
-   */
-  readonly windows: WindowGeometry & { readonly latenessMs?: number };
-  /**
-   * While catching up, how far a partition may run ahead of the slowest one
-   * with a backlog, in Kafka message time, ms (default half the lateness;
-   * Infinity turns alignment off). See {@link PartitionAlignment}.
-   */
-  readonly alignmentMs?: number;
-  /**
-   * End once every partition reaches the end offset it had when the source
-   * connected (a bounded read: reviews, tests, benchmarks). Default false:
-   * read until closed.
-   */
-  readonly stopAtEnd?: boolean;
-  /**
-   * End each partition before its first message whose Kafka timestamp is at or after this
-   * instant (epoch ms), found by timestamp when connecting; messages from there on are
-   * dropped. Implies `stopAtEnd`. With `from: {kind: 'time'}` this reads a time range.
-   */
-  readonly untilMs?: number;
-  /**
-   * False: never commit an offset, so reading moves no group's position (a review). The
-   * group is then only a name for the consumer's membership. Default true.
-   */
-  readonly commitOffsets?: boolean;
-  /** Connecting at start (default 8 attempts, 250 ms doubling to 8 s: about 30 s). */
-  readonly connectRetry?: BackoffPolicy;
-  /** Making a new consumer after a crash (default 10 attempts, 500 ms doubling to 15 s). */
-  readonly consumerRestart?: BackoffPolicy;
-  /** The client's own retries of a failed request before the consumer crashes (default 5). */
-  readonly consumerRetries?: number;
-  /** How often judged positions are committed, ms (default 1000); always on close. */
-  readonly commitIntervalMs?: number;
-  /** Longest wait of a fetch for new messages, ms (default 500). */
-  readonly maxWaitTimeMs?: number;
-  /** Fetch size per partition, bytes (default 4 MiB). */
-  readonly maxBytesPerPartition?: number;
-  /** Fetch size per request, bytes (default 16 MiB). */
-  readonly maxBytes?: number;
-  /** Group session timeout, ms (default 30000). */
-  readonly sessionTimeoutMs?: number;
-  /** Group heartbeat interval, ms (default 3000, or a third of a shorter session timeout). */
-  readonly heartbeatIntervalMs?: number;
-  /** Receives the source's events from the start (see also {@link KafkaSource.on}). */
-  readonly onEvent?: KafkaSourceListener;
-}
-
-/** What {@link KafkaSource.connect} found. */
-export interface KafkaSourceInfo {
-  readonly topic: string;
-  readonly groupId: string;
-  /** The topic's partition count: the shard universe size for `--shard-from partition`. */
-  readonly partitions: number;
-  /**
-   * End of the last window a previous run on this group judged, or null. The
-   * pipeline must not emit windows ending at or before it again (see the
-   * module notes on sliding windows).
-   */
-  readonly judgedThrough: number | null;
-  /** Where each partition starts. */
-  readonly startOffsets: readonly PartitionOffset[];
-  /**
-   * Partitions with records to read at start (a backlog): event time waits for each of
-   * them before closing windows, so a partition fetched late is not judged as late.
-   */
-  readonly backlogPartitions: readonly number[];
-}
-
-/** Running counts of the source. */
-export interface KafkaSourceStats {
-  /** Messages decoded (each gives records or one rejection). */
-  readonly messages: number;
-  /** Redelivered messages dropped because they were already counted. */
-  readonly redeliveriesSkipped: number;
-  /** Replayed records dropped because a previous run judged all their windows. */
-  readonly alreadyJudgedSkipped: number;
-  /** New consumers made after crashes. */
-  readonly consumerRecreations: number;
-  /** Commits confirmed by the group coordinator. */
-  readonly commits: number;
-}
-
-const defaultConnectRetry: BackoffPolicy = { attempts: 8, initialDelayMs: 250, maxDelayMs: 8000 };
-const defaultConsumerRestart: BackoffPolicy = {
-  attempts: 10,
-  initialDelayMs: 500,
-  maxDelayMs: 15_000,
-};
+export type { KafkaSourceInfo, KafkaSourceOptions, KafkaSourceStats } from './source-types.js';
 
 /**
  * Records from a Kafka topic, the same shape as a file source: iterate items,
@@ -293,7 +191,7 @@ export class KafkaSource implements AsyncIterable<SourceItem> {
    * of `--shard-from partition`). Idempotent.
    */
   connect(): Promise<KafkaSourceInfo> {
-    this.connecting ??= this.establish();
+    this.connecting ??= establishStart(this.startTarget());
     return this.connecting;
   }
 
@@ -413,111 +311,23 @@ export class KafkaSource implements AsyncIterable<SourceItem> {
     }
   }
 
-  private async establish(): Promise<KafkaSourceInfo> {
-    // A client of its own with no retries: the backoff here is the only one.
-    const admin = createKafkaClient(
-      this.options,
-      (entry: KafkaClientLog) => this.emit({ type: 'client-log', ...entry }),
-      0,
-    ).admin({ retry: { retries: 0 } });
-    const brokers = brokerText(this.options);
-    try {
-      const info = await retryWithBackoff(() => this.readStart(admin), this.connectRetry, {
-        signal: this.stopping.signal,
-        shouldRetry: isRetriableConnectError,
-        onRetry: (failures, delayMs, error) =>
-          this.emit({ type: 'connect-retry', brokers, failures, delayMs, error: causeText(error) }),
-      });
-      if (info.judgedThrough !== null) {
-        this.ledger.markJudgedUpTo(info.judgedThrough);
-        this.tracker.resumeFloor = info.judgedThrough;
-      }
-      return info;
-    } catch (error) {
-      const unreachable = unreachableBrokersError(error, this.options.brokers);
-      if (unreachable !== null) throw unreachable;
-      if (error instanceof KafkaIngestError || this.stopping.signal.aborted) throw error;
-      throw new KafkaIngestError(
-        `cannot start reading --topic ${this.topic} from ${brokers}: ${causeText(error)}`,
-        { cause: error },
-      );
-    } finally {
-      await admin.disconnect().catch(() => undefined);
-    }
-  }
-
-  /** One connection attempt: metadata, committed positions, start positions, end offsets. */
-  private async readStart(admin: Admin): Promise<KafkaSourceInfo> {
-    const topic = this.topic;
-    const groupId = this.groupId;
-    await admin.connect();
-    const partitions = await sourcePartitionCount(admin, topic, brokerText(this.options));
-    this.emit({
-      type: 'connected',
-      brokers: brokerText(this.options),
-      topic,
-      partitions,
-      groupId,
-    });
-    const [committed] = await admin.fetchOffsets({ groupId, topics: [topic] });
-    const described = await admin.describeGroups([groupId]);
-    const members = described.groups[0]?.members.length ?? 0;
-    if (members > 0) this.emit({ type: 'group-busy', groupId, members });
-
-    const resumed: PartitionOffset[] = [];
-    const missing: number[] = [];
-    let judgedThrough = Number.NEGATIVE_INFINITY;
-    const committedByPartition = new Map<number, number>();
-    for (const entry of committed?.partitions ?? []) {
-      const offset = Number(entry.offset);
-      if (offset >= 0) {
-        resumed.push({ partition: entry.partition, offset });
-        committedByPartition.set(entry.partition, offset);
-        this.commits.resumed(entry.partition, offset, entry.metadata ?? null);
-        judgedThrough = Math.max(judgedThrough, judgedThroughFromMetadata(entry.metadata));
-      }
-    }
-    for (let partition = 0; partition < partitions; partition++) {
-      if (!committedByPartition.has(partition)) missing.push(partition);
-    }
-    const fromOption = await fromOptionOffsets(
-      admin,
-      topic,
-      this.options.from ?? { kind: 'latest' },
-      missing,
-    );
-    const startOffsets = [...resumed, ...fromOption].sort((a, b) => a.partition - b.partition);
-    const until = this.options.untilMs;
-    const ends =
-      until === undefined
-        ? (await admin.fetchTopicOffsets(topic)).map((entry) => ({
-            partition: entry.partition,
-            offset: entry.high,
-          }))
-        : await admin.fetchTopicOffsetsByTimestamp(topic, until);
-    const pending = new Map<number, number>();
-    this.endOffsets.clear();
-    for (const { partition, offset } of startOffsets) {
-      const end = Number(ends.find((entry) => entry.partition === partition)?.offset ?? 0);
-      if (until !== undefined) this.endOffsets.set(partition, end);
-      if (offset < end) pending.set(partition, end);
-    }
-    for (const partition of pending.keys()) this.alignment.expect(partition);
-    if (this.options.stopAtEnd === true || until !== undefined) this.pendingEnd = pending;
-    // Everything below a partition's start counts as processed: a fetch that starts lower
-    // (a rebalance before the start position is committed) is skipped like a redelivery.
-    for (const { partition, offset } of startOffsets) {
-      this.ledger.partition(partition).startAt(offset);
-    }
-    const judged = Number.isFinite(judgedThrough) ? judgedThrough : null;
-    this.emit({ type: 'start-positions', groupId, resumed, fromOption, judgedThrough: judged });
+  /** What connecting reads from this source and sets up in it (source-start.ts). */
+  private startTarget(): StartTarget {
     return {
-      topic,
-      groupId,
-      partitions,
-      judgedThrough: judged,
-      startOffsets,
-      backlogPartitions: [...pending.keys()].sort((a, b) => a - b),
+      options: this.options,
+      topic: this.topic,
+      groupId: this.groupId,
+      connectRetry: this.connectRetry,
+      signal: this.stopping.signal,
+      ledger: this.ledger,
+      tracker: this.tracker,
+      commits: this.commits,
+      alignment: this.alignment,
+      endOffsets: this.endOffsets,
+      stopAtEnd: (pending) => {
+        this.pendingEnd = pending;
+      },
+      emit: (event) => this.emit(event),
     };
   }
 
