@@ -5,7 +5,7 @@ import type { KafkaSourceEvent } from '../ingest/kafka/events.js';
 import type { JudgingPipeline } from '../judge/judging-pipeline.js';
 import { ScreenController } from '../ui/screen-controller.js';
 import { SourceMeter } from '../ui/source-meter.js';
-import { openTerminalScreen, type TerminalScreen } from '../ui/terminal-screen.js';
+import type { TerminalScreen, TerminalScreenOptions } from '../ui/terminal-screen.js';
 import type { ScreenContext, SourceState } from '../ui/view-model.js';
 import { isRejection } from '../window/count-record.js';
 import type { ShardUniverse } from '../window/shard-universe.js';
@@ -75,7 +75,19 @@ export class WatchScreen {
   private newestEventTs = Number.NaN;
   private quitSignal: Promise<void>;
 
-  constructor(options: WatchScreenOptions) {
+  /**
+   * Opens the screen. Ink and React (about half a second of start-up) are loaded here, so a
+   * run with `--no-ui` never loads them.
+   */
+  static async open(options: WatchScreenOptions): Promise<WatchScreen> {
+    const { openTerminalScreen } = await import('../ui/terminal-screen.js');
+    return new WatchScreen(options, openTerminalScreen);
+  }
+
+  private constructor(
+    options: WatchScreenOptions,
+    openTerminalScreen: (options: TerminalScreenOptions) => TerminalScreen,
+  ) {
     const { pipeline, universe, io } = options;
     this.pipeline = pipeline;
     this.keys = options.keys;

@@ -427,7 +427,7 @@ async function watch(plan: WatchPlan, io: CommandIO): Promise<number> {
     plan.source.kind === 'prometheus';
   if (choice.kind === 'screen') {
     try {
-      screen = new WatchScreen({
+      screen = await WatchScreen.open({
         pipeline,
         universe,
         io,

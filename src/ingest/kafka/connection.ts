@@ -1,5 +1,19 @@
+import { createRequire } from 'node:module';
 import { inspect } from 'node:util';
-import { Kafka, logLevel, type KafkaConfig, type LogEntry, type SASLOptions } from 'kafkajs';
+import type { Kafka, KafkaConfig, LogEntry, SASLOptions } from 'kafkajs';
+
+let kafkajsModule: typeof import('kafkajs') | undefined;
+
+/**
+ * The kafkajs package, loaded on first use (it is CommonJS, so synchronously): commands
+ * and sources that never meet a broker (`watch --input`, `odds`, `plan`) do not pay its
+ * start-up. Kafka modules take its values (client, partitioners, levels) from here and
+ * import only its types.
+ */
+export function kafkajs(): typeof import('kafkajs') {
+  kafkajsModule ??= createRequire(import.meta.url)('kafkajs') as typeof import('kafkajs');
+  return kafkajsModule;
+}
 
 /**
  * A secret (a SASL password) that cannot leak by accident: it prints, logs,
@@ -84,6 +98,7 @@ export function createKafkaClient(
   onLog: (entry: KafkaClientLog) => void,
   retries: number,
 ): Kafka {
+  const { Kafka, logLevel } = kafkajs();
   const secret = options.sasl?.password.reveal();
   const config: KafkaConfig = {
     clientId: options.clientId ?? 'shardwise',

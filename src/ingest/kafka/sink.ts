@@ -1,8 +1,13 @@
-import { CompressionTypes, Partitioners, type Message, type Producer } from 'kafkajs';
+import type { Message, Producer } from 'kafkajs';
 import type { CountRecord } from '../../window/count-record.js';
 import { UsageError } from '../../errors/usage-error.js';
 import { encodeJsonLine } from '../encode.js';
-import { brokerText, createKafkaClient, type KafkaConnectionOptions } from './connection.js';
+import {
+  brokerText,
+  createKafkaClient,
+  kafkajs,
+  type KafkaConnectionOptions,
+} from './connection.js';
 import {
   causeText,
   isRetriable,
@@ -86,7 +91,7 @@ export async function produceToKafka(
   const emit = options.onEvent ?? (() => undefined);
   const kafka = createKafkaClient(options, (entry) => emit({ type: 'client-log', ...entry }), 5);
   const producer = kafka.producer({
-    createPartitioner: Partitioners.DefaultPartitioner,
+    createPartitioner: kafkajs().Partitioners.DefaultPartitioner,
     allowAutoTopicCreation: false,
     idempotent: true,
     maxInFlightRequests: 1,
@@ -121,7 +126,7 @@ export async function produceToKafka(
             topic: options.topic,
             messages,
             acks: -1,
-            compression: CompressionTypes.None,
+            compression: kafkajs().CompressionTypes.None,
           });
           requests++;
           written += messages.length;

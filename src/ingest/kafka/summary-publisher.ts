@@ -1,9 +1,9 @@
 import { randomUUID } from 'node:crypto';
-import { Partitioners, type Kafka, type Producer } from 'kafkajs';
+import type { Kafka, Producer } from 'kafkajs';
 import type { ClosedWindowParts } from '../../partials/partial-count-sink.js';
 import { encodePartialSummary, type PartialSummary } from '../../partials/partial-summary.js';
 import { UsageError } from '../../errors/usage-error.js';
-import { createKafkaClient, type KafkaConnectionOptions } from './connection.js';
+import { createKafkaClient, kafkajs, type KafkaConnectionOptions } from './connection.js';
 import { partitionCount } from './topic-metadata.js';
 
 /** Settings of a {@link KafkaSummaryPublisher}: what every summary of the instance names. */
@@ -51,7 +51,7 @@ export class KafkaSummaryPublisher {
     const producer = this.kafka.producer({
       idempotent: true,
       maxInFlightRequests: 1,
-      createPartitioner: Partitioners.DefaultPartitioner,
+      createPartitioner: kafkajs().Partitioners.DefaultPartitioner,
     });
     this.producer = producer;
     await producer.connect();
