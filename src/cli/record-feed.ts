@@ -28,7 +28,8 @@ const sliceMs = 20;
  * one; rejections with their line, partition and offset. Partitions the source announces
  * with a backlog are announced to a sink that waits for them, and the sink's idle rule
  * asks the source which partitions are still behind. Between batches, and every 1024 records within one once the slice is used up,
- * the event loop gets a turn. Resolves when the source ends or `stopped()` says so after
+ * the event loop gets a turn; at the same points a sink that judges on another thread and
+ * is a backlog behind ({@link FeedSink.room}) is waited for. Resolves when the source ends or `stopped()` says so after
  * a batch (never mid-batch: a batch is counted whole, so offsets stay consistent).
  */
 export async function feedRecords(
@@ -49,11 +50,19 @@ export async function feedRecords(
       else if (keep === undefined || keep(item)) {
         sink.record(item.ts, item.shard, item.count, item.key, item.partition ?? 0, item.offset);
       }
-      if ((at & 1023) === 1023 && performance.now() - sliceStart > sliceMs) {
-        await nextTurn();
-        sliceStart = performance.now();
+      if ((at & 1023) === 1023) {
+        const full = sink.room?.();
+        if (full !== undefined) {
+          await full;
+          sliceStart = performance.now();
+        } else if (performance.now() - sliceStart > sliceMs) {
+          await nextTurn();
+          sliceStart = performance.now();
+        }
       }
     }
+    const full = sink.room?.();
+    if (full !== undefined) await full;
     await hooks.afterBatch?.(batch);
     if (hooks.stopped?.() === true) return;
     if (performance.now() - sliceStart > sliceMs) {

@@ -1,4 +1,4 @@
-import type { Judge } from '../judge/judge.js';
+import type { WindowJudge } from '../judge/judging-pipeline.js';
 import type { JudgeSettings } from '../judge/judge-settings.js';
 import { JudgingPipeline } from '../judge/judging-pipeline.js';
 import { KeyAnalysis } from '../keys/key-analysis.js';
@@ -89,7 +89,7 @@ export function readKeySettings(values: KeyOptionValues): KeySettings | null {
  */
 export function buildPipeline(
   universe: ShardUniverse,
-  judge: Judge,
+  judge: WindowJudge,
   run: RunSettings,
   live: boolean,
 ): JudgingPipeline {

@@ -139,6 +139,11 @@ Judging:
                           or J x 10 windows in a row without a flag
   --max-flagged N         most shards listed per window (default 10); also the most
                           open incidents /metrics names by shard
+  --judge-inline          judge on the thread that reads the records, not on a
+                          second thread (the default when the shard set is
+                          declared: --shards, --shard-map, a scenario, the
+                          partitions of --offsets-only); the verdicts are the
+                          same either way
 
 Keys (request events with "key"; Kafka message keys with --shard-from partition):
   --no-keys               no key analysis
@@ -162,7 +167,7 @@ Output:
   --record FILE           also write a recording for shardwise review: each
                           closed window's verdict with its full count vector and
                           the settings, one JSON line per window, written to the
-                          file before the next window is judged (no fsync), so a
+                          file before the next verdict is out (no fsync), so a
                           run stopped mid-write leaves at most a torn last line,
                           which review skips with a note. FILE is replaced.
   --record-max-size S     rotate the recording once it would pass S bytes

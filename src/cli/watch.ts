@@ -11,6 +11,8 @@ import {
   type RecordSource,
 } from '../ingest/record-source.js';
 import { Judge } from '../judge/judge.js';
+import type { JudgeSettings } from '../judge/judge-settings.js';
+import { builtJudgeThreadEntry, JudgeThread } from './judge-thread.js';
 import type { Incident } from '../judge/judgement.js';
 import type { RecordedSettings } from '../record/recording-line.js';
 import { defaultRecordingMaxBytes, WindowRecorder } from '../record/window-recorder.js';
@@ -78,6 +80,7 @@ export const watchOptions = {
   record: { type: 'string' },
   'record-max-size': { type: 'string' },
   'no-ui': { type: 'boolean' },
+  'judge-inline': { type: 'boolean' },
   'metrics-port': { type: 'string' },
   'metrics-host': { type: 'string' },
   'no-metrics': { type: 'boolean' },
@@ -119,6 +122,8 @@ interface WatchPlan {
   /** `--record-max-size`: the recording rotates to FILE.1 past this size. */
   readonly recordMaxBytes: number;
   readonly noUi: boolean;
+  /** --judge-inline: judge on the reading thread even when a second thread could. */
+  readonly judgeInline: boolean;
   /** Where to serve metrics; null with --no-metrics. */
   readonly metrics: { readonly host: string; readonly port: number } | null;
 }
@@ -289,6 +294,7 @@ async function readPlan(values: Values, io: CommandIO): Promise<WatchPlan> {
     recordPath: values.record,
     recordMaxBytes,
     noUi: values['no-ui'] === true,
+    judgeInline: values['judge-inline'] === true,
     metrics:
       values['no-metrics'] === true ? null : { host: metricsHostValue, port: metricsPortValue },
   };
@@ -352,9 +358,10 @@ async function watch(plan: WatchPlan, io: CommandIO): Promise<number> {
   grown.universe = universe;
   // Built before the record file is opened, so a bad setting leaves no file behind.
   const judge = new Judge(universe, plan.run.judge);
+  const thread = plan.judgeInline ? null : judgeThreadFor(universe, plan.run.judge);
   const pipeline = buildPipeline(
     universe,
-    judge,
+    thread ?? judge,
     plan.run,
     recordSource === null ? true : recordSource.live,
   );
@@ -499,9 +506,13 @@ async function watch(plan: WatchPlan, io: CommandIO): Promise<number> {
   let interrupted = false;
   const interrupt = () => {
     interrupted = true;
-    // Judge what is due before closing Kafka: a window judged after close would never be committed.
+    // Judge what is due before closing Kafka: a window judged after close would never be
+    // committed (its verdict may come back from the judging thread a little later).
     if (connected) pipeline.tick();
-    void source.close();
+    void pipeline
+      .settled()
+      .catch(() => undefined)
+      .then(() => source.close());
     screen?.quit();
   };
   process.once('SIGINT', interrupt);
@@ -526,6 +537,7 @@ async function watch(plan: WatchPlan, io: CommandIO): Promise<number> {
     } else if (!connected) {
       pipeline.finish();
     }
+    await pipeline.settled();
     // Read to its end, the run stays on the screen until the user quits.
     if (screen !== null && !interrupted) await screen.untilQuit();
   } finally {
@@ -536,11 +548,23 @@ async function watch(plan: WatchPlan, io: CommandIO): Promise<number> {
     process.removeListener('SIGTERM', interrupt);
     recorder?.close();
     await exporter?.close();
+    await thread?.close();
   }
   await output.drained();
   output.check();
   io.stderr.write(summary(windows, pipeline, incidents, interrupted, retired, firstRejected));
   return emptyRunVerdict(pipeline, interrupted || connected, io);
+}
+
+/**
+ * A judge on a second thread for a declared universe when the built worker is at hand (see
+ * judge-thread.ts), else null: the Judge on this thread judges.
+ */
+function judgeThreadFor(universe: ShardUniverse, settings: JudgeSettings): JudgeThread | null {
+  const description = universe.describe();
+  const entry = builtJudgeThreadEntry();
+  if (description === null || entry === null) return null;
+  return new JudgeThread(description, settings, entry);
 }
 
 /** The source a plan names, not yet open (a --merge source is built with the pipeline). */

@@ -118,7 +118,8 @@ export class VerdictMetrics {
   private readonly unsubscribe: (() => void)[] = [];
   private readonly startedAt: number;
   private lastJudgedAt = Number.NaN;
-  private closedAt = Number.NaN;
+  /** When each window awaiting its verdict closed, oldest first (verdicts come in close order). */
+  private readonly closedAt: number[] = [];
   private stalledAtRecords = -1;
   private readonly maxFlagged: number;
   private flaggedSeries = new Map<string, { shard: string; finding: string }>();
@@ -342,7 +343,7 @@ export class VerdictMetrics {
     });
     this.judgingTime = new Histogram({
       name: 'shardwise_window_judging_duration_seconds',
-      help: 'Time to judge one closed window, seconds',
+      help: 'Time from a window closing to its verdict (judging, and waiting for the judging thread), seconds',
       buckets: judgingBuckets,
       registers,
     });
@@ -381,12 +382,12 @@ export class VerdictMetrics {
     const events = pipeline.events;
     this.unsubscribe.push(
       events.on('window closed', () => {
-        this.closedAt = this.timer();
+        this.closedAt.push(this.timer());
       }),
       events.on('window judged', ({ window, judgement }) => {
-        if (!Number.isNaN(this.closedAt)) {
-          this.judgingTime.observe(Math.max(this.timer() - this.closedAt, 0) / 1000);
-          this.closedAt = Number.NaN;
+        const closedAt = this.closedAt.shift();
+        if (closedAt !== undefined) {
+          this.judgingTime.observe(Math.max(this.timer() - closedAt, 0) / 1000);
         }
         this.show(judgement);
         this.windowsClosed.inc();

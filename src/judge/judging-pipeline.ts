@@ -10,9 +10,8 @@ import { UsageError } from '../errors/usage-error.js';
 import type { FeedSink } from '../window/feed-sink.js';
 import type { ShardUniverse } from '../window/shard-universe.js';
 import { describeSpan } from './time-span.js';
-import type { Judge } from './judge.js';
 import type { Judgement } from './judgement.js';
-import type { WindowKeyAnalyst } from './key-verdict.js';
+import type { KeyVerdict, WindowKeyAnalyst } from './key-verdict.js';
 import { PipelineEvents } from './pipeline-events.js';
 
 /** How the pipeline treats its source's clock. */
@@ -29,6 +28,30 @@ export interface PipelineClockOptions {
   readonly maxAheadMs?: number;
   /** A live partition without records for this long stops holding the others back (default window + lateness). */
   readonly idleAfterMs?: number;
+}
+
+/**
+ * What judges the pipeline's windows, one at a time in start order: a Judge on this thread
+ * (a judgement), or one on another thread (a promise of it; src/cli/judge-thread.ts).
+ */
+export interface WindowJudge {
+  judge(window: ClosedWindow): Judgement | Promise<Judgement>;
+}
+
+/**
+ * With a judge on another thread, reading waits ({@link JudgingPipeline.room}) once this
+ * many windows, or this many shard counts across them, wait for their verdicts.
+ */
+export const maxPendingWindows = 64;
+export const maxPendingCounts = 1 << 22;
+
+/** What a window's verdict gets from the moment it closed (the idle partitions then). */
+interface CloseContext {
+  /** The key verdict, once the window is judged (null without key analysis). */
+  readonly keys: ((judgement: Judgement) => KeyVerdict | null) | null;
+  readonly idle: readonly number[];
+  /** The note on idle partitions, when they changed since the last window. */
+  readonly idleNote: string | null;
 }
 
 /** Default of `--max-ahead`: an hour, far beyond any clock skew between honest hosts. */
@@ -80,7 +103,7 @@ interface HeldRun {
 export class JudgingPipeline implements FeedSink {
   readonly events = new PipelineEvents();
   private readonly windows: EventTimeWindows;
-  private readonly judge: Judge;
+  private readonly judge: WindowJudge;
   private readonly clock: () => number;
   private readonly stallAfterMs: number;
   private sawRecordSinceTick = false;
@@ -102,11 +125,18 @@ export class JudgingPipeline implements FeedSink {
   private backlogged: (partition: number) => boolean = () => false;
   private reportedIdle = '';
   private readonly universe: ShardUniverse;
+  /** Judge on another thread: verdicts still to come, published in window order. */
+  private verdictQueue: Promise<void> = Promise.resolve();
+  private pendingWindows = 0;
+  private pendingCounts = 0;
+  private failure: { readonly error: unknown } | null = null;
+  private roomWaiters: (() => void)[] = [];
 
   /**
    * @param universe the shards records are counted under
    * @param windowOptions window length, hop, lateness (checked by the windows: UsageError)
-   * @param judge judges each closed window
+   * @param judge judges each closed window, here or on another thread (then verdicts are
+   *   announced as they come back, still in window order; see {@link room} and {@link settled})
    * @param clock wall clock, epoch ms (only {@link tick} uses it)
    * @param options `keys`: key analysis, fed every counted keyed request; its verdict goes
    *   into each judgement as `keys` (src/keys/ provides one); `live`, `maxAheadMs`,
@@ -115,7 +145,7 @@ export class JudgingPipeline implements FeedSink {
   constructor(
     universe: ShardUniverse,
     windowOptions: WindowOptions,
-    judge: Judge,
+    judge: WindowJudge,
     clock: () => number = Date.now,
     options: { keys?: WindowKeyAnalyst } & PipelineClockOptions = {},
   ) {
@@ -161,6 +191,7 @@ export class JudgingPipeline implements FeedSink {
    * analysis meets a new shard or window).
    */
   record(ts: number, shard: string, count: number, key?: string, partition = 0): void {
+    if (this.failure !== null) throw this.failure.error;
     this.sawRecordSinceTick = true;
     this.records++;
     if (this.live) {
@@ -321,25 +352,100 @@ export class JudgingPipeline implements FeedSink {
     return this.windows.idlePartitions;
   }
 
+  /**
+   * With a judge on another thread: undefined while fewer than {@link maxPendingWindows}
+   * windows (and {@link maxPendingCounts} counts) wait for verdicts, else a promise that
+   * resolves once half of them are out. The record feed waits on it, so a reader faster
+   * than the judge holds a bounded backlog. Rejects once judging has failed.
+   */
+  room(): Promise<void> | undefined {
+    if (this.failure !== null) return Promise.reject(this.failure.error as Error);
+    if (this.pendingWindows < maxPendingWindows && this.pendingCounts < maxPendingCounts) {
+      return undefined;
+    }
+    return new Promise<void>((resolve) => this.roomWaiters.push(resolve)).then(() => {
+      if (this.failure !== null) throw this.failure.error;
+    });
+  }
+
+  /**
+   * Resolves once every window closed so far has its verdict announced (at once for a
+   * judge on this thread); rejects with the error if judging failed.
+   */
+  async settled(): Promise<void> {
+    while (this.pendingWindows > 0) await this.verdictQueue;
+    if (this.failure !== null) throw this.failure.error;
+  }
+
   private judgeWindow(window: ClosedWindow): void {
+    if (this.failure !== null) throw this.failure.error;
     this.events.emit('window closed', window);
+    const context = this.closeContext(window);
     const judged = this.judge.judge(window);
-    const keys = this.keys?.verdict(window, judged) ?? null;
-    let judgement: Judgement = keys === null ? judged : { ...judged, keys };
-    const gap = window.gapBefore;
+    if (!(judged instanceof Promise)) {
+      this.publish(window, judged, context);
+      return;
+    }
+    const counts = window.counts.length;
+    this.pendingWindows++;
+    this.pendingCounts += counts;
+    this.verdictQueue = this.verdictQueue
+      .then(() => judged)
+      .then(
+        (judgement) => {
+          if (this.failure === null) this.publish(window, judgement, context);
+        },
+        (error: unknown) => {
+          this.failure ??= { error };
+        },
+      )
+      .catch((error: unknown) => {
+        // A listener of the verdict failed: the run stops as it would on this thread.
+        this.failure ??= { error };
+      })
+      .finally(() => {
+        this.pendingWindows--;
+        this.pendingCounts -= counts;
+        this.wakeReaders();
+      });
+  }
+
+  private wakeReaders(): void {
+    if (this.roomWaiters.length === 0) return;
+    const drained =
+      this.pendingWindows <= maxPendingWindows / 2 && this.pendingCounts <= maxPendingCounts / 2;
+    if (!drained && this.failure === null) return;
+    const waiters = this.roomWaiters;
+    this.roomWaiters = [];
+    for (const wake of waiters) wake();
+  }
+
+  /** The window's key statistics and idle partitions as it closes, and the idle note when they changed. */
+  private closeContext(window: ClosedWindow): CloseContext {
+    const keys = this.keys?.close(window) ?? null;
     const idle = this.windows.partitions > 1 ? this.windows.idlePartitions : [];
     const idleText = idle.join(', ');
-    if (gap !== undefined || idleText !== this.reportedIdle) {
+    if (idleText === this.reportedIdle) return { keys, idle, idleNote: null };
+    this.reportedIdle = idleText;
+    return {
+      keys,
+      idle,
+      idleNote:
+        idle.length === 0
+          ? 'every source partition is reporting again'
+          : `source partition${idle.length === 1 ? '' : 's'} ${idleText} idle (no records for ${Math.round(this.idleAfterMs / 1000)} s or more): not holding windows back`,
+    };
+  }
+
+  private publish(window: ClosedWindow, judged: Judgement, context: CloseContext): void {
+    const keys = context.keys?.(judged) ?? null;
+    let judgement: Judgement = keys === null ? judged : { ...judged, keys };
+    const gap = window.gapBefore;
+    const { idle, idleNote } = context;
+    if (gap !== undefined || idleNote !== null) {
       const notes = [...judgement.notes];
       if (gap !== undefined) notes.push(gapNote(gap));
-      if (idleText !== this.reportedIdle) {
-        notes.push(
-          idle.length === 0
-            ? 'every source partition is reporting again'
-            : `source partition${idle.length === 1 ? '' : 's'} ${idleText} idle (no records for ${Math.round(this.idleAfterMs / 1000)} s or more): not holding windows back`,
-        );
-        this.reportedIdle = idleText;
-      }
+      if (idleNote !== null) notes.push(idleNote);
       judgement = { ...judgement, notes };
     }
     if (gap !== undefined) {

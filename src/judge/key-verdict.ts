@@ -148,6 +148,10 @@ export interface KeyCause {
 export interface WindowKeyAnalyst {
   /** A keyed request the windows counted: shard index in the universe, `count` requests. */
   record(ts: number, shardIndex: number, key: string, count: number): void;
-  /** The key verdict of a judged window; null when none of its requests carried a key. */
-  verdict(window: ClosedWindow, judgement: Judgement): KeyVerdict | null;
+  /**
+   * Takes a window's key statistics as it closes (later keyed requests no longer reach it)
+   * and returns what makes its key verdict once the window is judged: null when none of
+   * its requests carried a key. The judgement may come later (a judge on another thread).
+   */
+  close(window: ClosedWindow): (judgement: Judgement) => KeyVerdict | null;
 }

@@ -82,10 +82,15 @@ export class KeyAnalysis implements WindowKeyAnalyst {
     this.windows.add(ts, shardIndex, key, count);
   }
 
-  verdict(window: ClosedWindow, judgement: Judgement): KeyVerdict | null {
+  close(window: ClosedWindow): (judgement: Judgement) => KeyVerdict | null {
     const stats = this.windows.close(window.start);
-    if (stats === null || stats.requests === 0) return null;
-    return this.analyse(window, judgement, stats);
+    if (stats === null || stats.requests === 0) return () => null;
+    return (judgement) => this.analyse(window, judgement, stats);
+  }
+
+  /** The key verdict of a judged window, closed and judged at once (see {@link close}). */
+  verdict(window: ClosedWindow, judgement: Judgement): KeyVerdict | null {
+    return this.close(window)(judgement);
   }
 
   /** Key statistics held for windows not yet closed. */

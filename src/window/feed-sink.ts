@@ -32,4 +32,9 @@ export interface FeedSink {
    * watermark per partition has nothing to wait for and leaves it out.
    */
   expectPartition?(partition: number): void;
+  /**
+   * Back-pressure of a sink that finishes work later (windows judged on another thread):
+   * a promise the feed awaits before counting more, or undefined when there is room.
+   */
+  room?(): Promise<void> | undefined;
 }

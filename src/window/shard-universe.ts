@@ -25,6 +25,14 @@ export interface ShardRemap {
   readonly retired: number;
 }
 
+/** A declared universe as plain data (see {@link ShardUniverse.describe}). */
+export interface DeclaredUniverse {
+  readonly ids: readonly string[];
+  /** Relative weights as declared (not normalised), or null for equal shares. */
+  readonly weights: readonly number[] | null;
+  readonly maxShards: number;
+}
+
 /** Settings shared by every way of building a universe. */
 export interface UniverseOptions {
   /** `--max-shards`: the most shards a universe may hold (default 100000). */
@@ -199,6 +207,27 @@ export class ShardUniverse {
       this.idList.push(id);
       this.indexById.set(id, index);
     }
+  }
+
+  /**
+   * What rebuilds this universe in another thread (the judging worker, see
+   * src/judge/threaded-judge.ts): a declared universe's ids, its exact weights and its cap.
+   * A growing universe changes with every record, so it is judged on the reading thread and
+   * has none. O(m).
+   */
+  describe(): DeclaredUniverse | null {
+    if (!this.declared) return null;
+    return {
+      ids: [...this.idList],
+      weights: this.weights === null ? null : [...this.weights],
+      maxShards: this.maxShards,
+    };
+  }
+
+  /** The universe {@link describe} described, equal to the original in ids and shares. */
+  static fromDescription(description: DeclaredUniverse): ShardUniverse {
+    const { ids, weights, maxShards } = description;
+    return new ShardUniverse(ids, weights === null ? null : [...weights], true, maxShards);
   }
 
   /** An undeclared universe that grows as shards report, equal shares. */
