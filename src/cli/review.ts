@@ -4,7 +4,7 @@ import { describeKafkaEvent } from '../ingest/kafka/events.js';
 import { fileRecordSource, kafkaRecordSource } from '../ingest/record-source.js';
 import { parseIsoTimestamp } from '../ingest/timestamp.js';
 import { Judge } from '../judge/judge.js';
-import type { JudgeSettings } from '../judge/judge-settings.js';
+import { judgeSettingsOf } from '../judge/judge-settings.js';
 import { describeSpan } from '../judge/time-span.js';
 import type { RecordedSettings } from '../record/recording-line.js';
 import { readRecording, type RecordedWindow } from '../record/recording-reader.js';
@@ -335,7 +335,7 @@ async function reviewRecording(
   const settings = readJudgeSettings(values, {
     sharesDeclared: first.value.shares !== null || base.null === 'map',
     hopMs: windowMs ?? base.hopMs,
-    base: judgeBase(base),
+    base: judgeSettingsOf(base),
   });
   const replay: AsyncIterable<RecordedWindow> = {
     [Symbol.asyncIterator]: () => {
@@ -410,21 +410,6 @@ function describeRecording(text: string, settings: RecordedSettings): string {
           ? `file ${source.input}`
           : 'an unnamed source';
   return `${text} (watch on ${origin})`;
-}
-
-function judgeBase(settings: RecordedSettings): Omit<JudgeSettings, 'hopMs'> {
-  return {
-    alpha: settings.alpha,
-    minExcess: settings.minExcess,
-    minDispersion: settings.minDispersion,
-    maxDetectable: settings.maxDetectable,
-    confirm: settings.confirm,
-    clear: settings.clear,
-    maxFlagged: settings.maxFlagged,
-    null: settings.null,
-    spread: settings.spread,
-    baselineWindows: settings.baselineWindows,
-  };
 }
 
 /** The review of records (a file or a Kafka range), judged through watch's pipeline. */
