@@ -44,7 +44,12 @@ import {
   type RunSettings,
 } from './run-settings.js';
 import { terminalSafe } from '../ui/terminal-text.js';
-import { maxAheadHelp, readUniverseOptions, readWindowOptions } from './window-options.js';
+import {
+  maxAheadHelp,
+  readUniverseOptions,
+  readWindowOptions,
+  windowOptionSpec,
+} from './window-options.js';
 
 const help = `Usage: shardwise review (--recording FILE... | --input FILE|- | --brokers H:P --topic T --since TIME [--until TIME] |
                         --prometheus URL --series SELECTOR --shard-label NAME --since TIME [--until TIME]) [options]
@@ -153,13 +158,7 @@ export const reviewOptions = {
   since: { type: 'string' },
   until: { type: 'string' },
   'shard-from': { type: 'string' },
-  shards: { type: 'string' },
-  'shard-map': { type: 'string' },
-  'max-shards': { type: 'string' },
-  window: { type: 'string' },
-  hop: { type: 'string' },
-  lateness: { type: 'string' },
-  'max-ahead': { type: 'string' },
+  ...windowOptionSpec,
   'no-keys': { type: 'boolean' },
   ...judgeOptionSpec,
   out: { type: 'string' },
