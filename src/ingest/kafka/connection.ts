@@ -1,5 +1,12 @@
 import { inspect } from 'node:util';
-import { Kafka, logLevel, type KafkaConfig, type LogEntry, type SASLOptions } from 'kafkajs';
+import {
+  Kafka,
+  logLevel,
+  type Consumer,
+  type KafkaConfig,
+  type LogEntry,
+  type SASLOptions,
+} from 'kafkajs';
 
 /**
  * A secret (a SASL password) that cannot leak by accident: it prints, logs,
@@ -124,6 +131,20 @@ export function createKafkaClient(
     } as SASLOptions;
   }
   return new Kafka(config);
+}
+
+/**
+ * Connects a group consumer and subscribes it to one topic, read from the earliest offsets or
+ * the latest where the group has committed none: `count`'s share of a topic and the partial
+ * summaries `watch --merge` reads.
+ */
+export async function subscribeToTopic(
+  consumer: Consumer,
+  topic: string,
+  from: 'earliest' | 'latest',
+): Promise<void> {
+  await consumer.connect();
+  await consumer.subscribe({ topics: [topic], fromBeginning: from === 'earliest' });
 }
 
 /** The broker list for messages: `a:9092,b:9092`. */
