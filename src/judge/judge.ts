@@ -510,9 +510,13 @@ export class Judge {
     return { shard: this.universe.idAt(shard), count: counts[shard], relative, p };
   }
 
-  private incident(incident: TrackedIncident, windowStart: number): Incident {
+  private incident(
+    incident: TrackedIncident,
+    windowStart: number,
+    shard = this.universe.idAt(incident.index),
+  ): Incident {
     return {
-      shard: this.universe.idAt(incident.index),
+      shard,
       finding: incident.finding,
       since: iso(incident.since),
       windows: Math.round((windowStart - incident.since) / this.settings.hopMs) + 1,
@@ -544,13 +548,10 @@ export class Judge {
 
   /** Incidents ended by a retirement since the last window, as cleared with this one. */
   private endedIncidents(windowStart: number): Incident[] {
-    const ended = this.endedByRetirement.map(({ id, incident }) => ({
-      shard: id,
-      finding: incident.finding,
-      since: iso(incident.since),
-      windows: Math.round((windowStart - incident.since) / this.settings.hopMs) + 1,
-      test: incident.test,
-    }));
+    // A retired id is no longer the universe's at the incident's index: it is named here.
+    const ended = this.endedByRetirement.map(({ id, incident }) =>
+      this.incident(incident, windowStart, id),
+    );
     this.endedByRetirement = [];
     return ended;
   }
