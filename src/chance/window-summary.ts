@@ -78,26 +78,24 @@ export function summarizeWindow(
     }
     if (counts[i] === 0 && expected > 0) empties++;
   }
-  const fullestP = fullestTail(placement, hiRel);
-  const fullest: ExtremeShard = {
-    index: hi,
-    count: counts[hi],
-    relative: n > 0 ? hiRel : 0,
-    p: probabilityFromLog(fullestP.logProbability),
-    logP: fullestP.logProbability,
-    method: fullestP.method,
-  };
-  const emptiestP = withEmptyTests
-    ? emptiestTail(placement, loRel)
-    : { logProbability: 0, method: 'off' };
-  const emptiest: ExtremeShard = {
-    index: lo,
-    count: counts[lo],
-    relative: n > 0 ? loRel : 0,
-    p: probabilityFromLog(emptiestP.logProbability),
-    logP: emptiestP.logProbability,
-    method: emptiestP.method,
-  };
+  const extreme = (
+    index: number,
+    relative: number,
+    tail: { readonly logProbability: number; readonly method: string },
+  ): ExtremeShard => ({
+    index,
+    count: counts[index],
+    relative: n > 0 ? relative : 0,
+    p: probabilityFromLog(tail.logProbability),
+    logP: tail.logProbability,
+    method: tail.method,
+  });
+  const fullest = extreme(hi, hiRel, fullestTail(placement, hiRel));
+  const emptiest = extreme(
+    lo,
+    loRel,
+    withEmptyTests ? emptiestTail(placement, loRel) : { logProbability: 0, method: 'off' },
+  );
   const moments = emptyShardMoments(placement);
   const emptyTail = withEmptyTests
     ? emptyShardsTail(placement, empties)

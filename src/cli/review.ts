@@ -4,7 +4,7 @@ import { describeKafkaEvent } from '../ingest/kafka/events.js';
 import { fileRecordSource, kafkaRecordSource } from '../ingest/record-source.js';
 import { parseIsoTimestamp } from '../ingest/timestamp.js';
 import { Judge } from '../judge/judge.js';
-import type { JudgeSettings } from '../judge/judge-settings.js';
+import { judgeSettingsOf } from '../judge/judge-settings.js';
 import { describeSpan } from '../judge/time-span.js';
 import type { RecordedSettings } from '../record/recording-line.js';
 import { readRecording, type RecordedWindow } from '../record/recording-reader.js';
@@ -44,7 +44,12 @@ import {
   type RunSettings,
 } from './run-settings.js';
 import { terminalSafe } from '../ui/terminal-text.js';
-import { maxAheadHelp, readUniverseOptions, readWindowOptions } from './window-options.js';
+import {
+  maxAheadHelp,
+  readUniverseOptions,
+  readWindowOptions,
+  windowOptionSpec,
+} from './window-options.js';
 
 const help = `Usage: shardwise review (--recording FILE... | --input FILE|- | --brokers H:P --topic T --since TIME [--until TIME] |
                         --prometheus URL --series SELECTOR --shard-label NAME --since TIME [--until TIME]) [options]
@@ -153,13 +158,7 @@ export const reviewOptions = {
   since: { type: 'string' },
   until: { type: 'string' },
   'shard-from': { type: 'string' },
-  shards: { type: 'string' },
-  'shard-map': { type: 'string' },
-  'max-shards': { type: 'string' },
-  window: { type: 'string' },
-  hop: { type: 'string' },
-  lateness: { type: 'string' },
-  'max-ahead': { type: 'string' },
+  ...windowOptionSpec,
   'no-keys': { type: 'boolean' },
   ...judgeOptionSpec,
   out: { type: 'string' },
@@ -335,7 +334,7 @@ async function reviewRecording(
   const settings = readJudgeSettings(values, {
     sharesDeclared: first.value.shares !== null || base.null === 'map',
     hopMs: windowMs ?? base.hopMs,
-    base: judgeBase(base),
+    base: judgeSettingsOf(base),
   });
   const replay: AsyncIterable<RecordedWindow> = {
     [Symbol.asyncIterator]: () => {
@@ -410,21 +409,6 @@ function describeRecording(text: string, settings: RecordedSettings): string {
           ? `file ${source.input}`
           : 'an unnamed source';
   return `${text} (watch on ${origin})`;
-}
-
-function judgeBase(settings: RecordedSettings): Omit<JudgeSettings, 'hopMs'> {
-  return {
-    alpha: settings.alpha,
-    minExcess: settings.minExcess,
-    minDispersion: settings.minDispersion,
-    maxDetectable: settings.maxDetectable,
-    confirm: settings.confirm,
-    clear: settings.clear,
-    maxFlagged: settings.maxFlagged,
-    null: settings.null,
-    spread: settings.spread,
-    baselineWindows: settings.baselineWindows,
-  };
 }
 
 /** The review of records (a file or a Kafka range), judged through watch's pipeline. */

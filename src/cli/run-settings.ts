@@ -1,5 +1,5 @@
 import type { WindowJudge } from '../judge/judging-pipeline.js';
-import type { JudgeSettings } from '../judge/judge-settings.js';
+import { judgeSettingsOf, type JudgeSettings } from '../judge/judge-settings.js';
 import { JudgingPipeline } from '../judge/judging-pipeline.js';
 import { KeyAnalysis } from '../keys/key-analysis.js';
 import type { KeySketchSettings } from '../keys/window-key-stats.js';
@@ -144,16 +144,7 @@ export function reviewSettingsOf(
   hopMs: number,
 ): ReviewSettings {
   return {
-    null: judge.null,
-    spread: judge.spread,
-    alpha: judge.alpha,
-    minExcess: judge.minExcess,
-    minDispersion: judge.minDispersion,
-    maxDetectable: judge.maxDetectable,
-    confirm: judge.confirm,
-    clear: judge.clear,
-    maxFlagged: judge.maxFlagged,
-    baselineWindows: judge.baselineWindows,
+    ...judgeSettingsOf(judge),
     windowMs,
     hopMs,
     declaredUniverse: judge.declaredUniverse ?? true,

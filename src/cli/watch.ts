@@ -30,7 +30,7 @@ import { ShardUniverse } from '../window/shard-universe.js';
 import { jsonSafe, terminalMessage, terminalSafe } from '../window/visible-text.js';
 import type { Command, CommandIO } from './command.js';
 import { summaryOf } from './command-list.js';
-import { readUniverseOptions, readWindowOptions } from './window-options.js';
+import { readUniverseOptions, readWindowOptions, windowOptionSpec } from './window-options.js';
 import { judgeOptionSpec, readJudgeSettings } from './judge-options.js';
 import { byteSize, duration, parseOptions } from './option-values.js';
 import {
@@ -64,13 +64,7 @@ export const watchOptions = {
   duration: { type: 'string' },
   start: { type: 'string' },
   pace: { type: 'string' },
-  shards: { type: 'string' },
-  'shard-map': { type: 'string' },
-  'max-shards': { type: 'string' },
-  window: { type: 'string' },
-  hop: { type: 'string' },
-  lateness: { type: 'string' },
-  'max-ahead': { type: 'string' },
+  ...windowOptionSpec,
   'offsets-only': { type: 'boolean' },
   ...judgeOptionSpec,
   'no-keys': { type: 'boolean' },

@@ -10,6 +10,17 @@ import { duration, wholeNumber } from './option-values.js';
  * messages.
  */
 
+/** The parseArgs specs of the shard-universe and window options. */
+export const windowOptionSpec = {
+  shards: { type: 'string' },
+  'shard-map': { type: 'string' },
+  'max-shards': { type: 'string' },
+  window: { type: 'string' },
+  hop: { type: 'string' },
+  lateness: { type: 'string' },
+  'max-ahead': { type: 'string' },
+} as const;
+
 /** The window option values as parseArgs gives them. */
 export interface WindowOptionValues {
   readonly window?: string;

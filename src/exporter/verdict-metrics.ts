@@ -212,8 +212,18 @@ export class VerdictMetrics {
       registers,
     }).set(options.latenessMs / 1000);
 
-    const windowGauge = (name: string, help: string) =>
-      new Gauge<ModelLabel>({ name, help, labelNames: ['null', 'spread'], registers });
+    // Every gauge of the latest window carries the model labels, some a few labels more.
+    const windowGauge = <More extends string = never>(
+      name: string,
+      help: string,
+      more: readonly More[] = [],
+    ) =>
+      new Gauge<ModelLabel | More>({
+        name,
+        help,
+        labelNames: ['null', 'spread', ...more],
+        registers,
+      });
     this.requests = windowGauge(
       'shardwise_window_requests',
       'Requests (N) counted in the latest closed window',
@@ -235,12 +245,11 @@ export class VerdictMetrics {
       'shardwise_chance_floor_relative_load',
       'Chance floor: the alpha quantile of the emptiest shard relative load under random placement (absent with the cold tests off)',
     );
-    this.pValue = new Gauge({
-      name: 'shardwise_window_p_value',
-      help: 'p-values of the latest window under the null model: test=fullest P(max r >= observed), emptiest P(min r <= observed), empty_shards P(E >= observed), spread (dispersion); statistical evidence, not certainty',
-      labelNames: ['null', 'spread', 'test'],
-      registers,
-    });
+    this.pValue = windowGauge(
+      'shardwise_window_p_value',
+      'p-values of the latest window under the null model: test=fullest P(max r >= observed), emptiest P(min r <= observed), empty_shards P(E >= observed), spread (dispersion); statistical evidence, not certainty',
+      ['test'],
+    );
     this.emptyShards = windowGauge(
       'shardwise_empty_shards',
       'Shards with no request in the latest window',
@@ -261,40 +270,35 @@ export class VerdictMetrics {
       'shardwise_window_spread_robust',
       '1 when the latest window was judged against the robust spread (counts divided by the general dispersion), 0 when exact',
     );
-    this.finding = new Gauge({
-      name: 'shardwise_finding',
-      help: 'Findings of the latest window, 1 when it holds: hotspot, cold, uneven, chance, too_little_traffic',
-      labelNames: ['null', 'spread', 'finding'],
-      registers,
-    });
-    this.incidents = new Gauge({
-      name: 'shardwise_open_incidents',
-      help: 'Shards whose finding (hotspot or cold) has held for --confirm consecutive windows and not yet cleared',
-      labelNames: ['null', 'spread', 'finding'],
-      registers,
-    });
+    this.finding = windowGauge(
+      'shardwise_finding',
+      'Findings of the latest window, 1 when it holds: hotspot, cold, uneven, chance, too_little_traffic',
+      ['finding'],
+    );
+    this.incidents = windowGauge(
+      'shardwise_open_incidents',
+      'Shards whose finding (hotspot or cold) has held for --confirm consecutive windows and not yet cleared',
+      ['finding'],
+    );
     this.falseIncidents = windowGauge(
       'shardwise_false_incidents_expected_per_day',
       'About windows per day x alpha^confirm: incidents a day random placement alone would open (an approximation)',
     );
-    this.flagged = new Gauge({
-      name: 'shardwise_flagged_shard_relative_load',
-      help: 'Relative load of each shard flagged in the latest window (at most --max-flagged; shard ids sanitized, see docs/metrics.md); the series goes away when the shard is no longer flagged',
-      labelNames: ['null', 'spread', 'shard', 'finding'],
-      registers,
-    });
-    this.flaggedP = new Gauge({
-      name: 'shardwise_flagged_shard_p_value',
-      help: 'Adjusted p-value of each shard flagged in the latest window: P(max r >= its r) for a hotspot, P(min r <= its r) for a cold shard, under the null model (same series as shardwise_flagged_shard_relative_load); statistical evidence, not certainty',
-      labelNames: ['null', 'spread', 'shard', 'finding'],
-      registers,
-    });
-    this.incidentOpen = new Gauge({
-      name: 'shardwise_incident_open',
-      help: 'Always 1, one series per open incident (hotspot or cold) naming its shard and the test that opened it (window or cusum); at most --max-flagged, those flagged in the latest window first, then the longest open; the series goes away when the incident clears',
-      labelNames: ['null', 'spread', 'shard', 'finding', 'test'],
-      registers,
-    });
+    this.flagged = windowGauge(
+      'shardwise_flagged_shard_relative_load',
+      'Relative load of each shard flagged in the latest window (at most --max-flagged; shard ids sanitized, see docs/metrics.md); the series goes away when the shard is no longer flagged',
+      ['shard', 'finding'],
+    );
+    this.flaggedP = windowGauge(
+      'shardwise_flagged_shard_p_value',
+      'Adjusted p-value of each shard flagged in the latest window: P(max r >= its r) for a hotspot, P(min r <= its r) for a cold shard, under the null model (same series as shardwise_flagged_shard_relative_load); statistical evidence, not certainty',
+      ['shard', 'finding'],
+    );
+    this.incidentOpen = windowGauge(
+      'shardwise_incident_open',
+      'Always 1, one series per open incident (hotspot or cold) naming its shard and the test that opened it (window or cusum); at most --max-flagged, those flagged in the latest window first, then the longest open; the series goes away when the incident clears',
+      ['shard', 'finding', 'test'],
+    );
     this.keyedRequests = windowGauge(
       'shardwise_keyed_requests',
       'Requests of the latest window that carried a key (absent when none did)',
@@ -303,18 +307,16 @@ export class VerdictMetrics {
       'shardwise_distinct_keys',
       'Distinct keys of the latest window summed over its shards: exact up to registers/16 per shard, then HyperLogLog with standard error 1.04/sqrt(registers)',
     );
-    this.keyPValue = new Gauge({
-      name: 'shardwise_key_p_value',
-      help: 'Key tests of the latest window: test=key_fullest / key_emptiest P(max or min keys per shard this extreme) for K keys placed at random, replacement the Monte Carlo P(fullest load >= observed) were the observed key weights placed at random (absent without a hot shard)',
-      labelNames: ['null', 'spread', 'test'],
-      registers,
-    });
-    this.keyCauses = new Gauge({
-      name: 'shardwise_key_causes',
-      help: 'Shards of the latest window given each cause: hot_key (one key carries at least half the excess), placement (excess spread over many keys, or keys per shard off), moved (a cold shard lost what a hot one gained)',
-      labelNames: ['null', 'spread', 'cause'],
-      registers,
-    });
+    this.keyPValue = windowGauge(
+      'shardwise_key_p_value',
+      'Key tests of the latest window: test=key_fullest / key_emptiest P(max or min keys per shard this extreme) for K keys placed at random, replacement the Monte Carlo P(fullest load >= observed) were the observed key weights placed at random (absent without a hot shard)',
+      ['test'],
+    );
+    this.keyCauses = windowGauge(
+      'shardwise_key_causes',
+      'Shards of the latest window given each cause: hot_key (one key carries at least half the excess), placement (excess spread over many keys, or keys per shard off), moved (a cold shard lost what a hot one gained)',
+      ['cause'],
+    );
     this.records = new Counter({
       name: 'shardwise_records_total',
       help: 'Records read, by outcome: accepted (counted in every window it belongs to), late (missed a window that had closed), rejected (failed validation)',

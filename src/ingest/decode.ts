@@ -186,11 +186,9 @@ export function emitChecked(
   key: string | undefined,
   sink: RecordSink,
 ): void {
-  if (shard === '') {
-    sink.reject('missing shard');
-    return;
-  }
-  if (!isWellFormedText(shard) || (key !== undefined && !isWellFormedText(key))) {
+  // A missing shard is said as such (by emitWellFormed) before any text is checked.
+  const illFormed = !isWellFormedText(shard) || (key !== undefined && !isWellFormedText(key));
+  if (shard !== '' && illFormed) {
     sink.reject('invalid UTF-8');
     return;
   }

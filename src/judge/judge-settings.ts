@@ -41,6 +41,27 @@ export const defaultJudgeSettings: Omit<JudgeSettings, 'hopMs'> = {
   baselineWindows: 60,
 };
 
+/**
+ * The judge's own settings, all but the hop, out of a wider record that carries them (a
+ * recording's settings), so that nothing else rides along into a Judge or a report.
+ */
+export function judgeSettingsOf(
+  settings: Omit<JudgeSettings, 'hopMs'>,
+): Omit<JudgeSettings, 'hopMs'> {
+  return {
+    alpha: settings.alpha,
+    minExcess: settings.minExcess,
+    minDispersion: settings.minDispersion,
+    maxDetectable: settings.maxDetectable,
+    confirm: settings.confirm,
+    clear: settings.clear,
+    maxFlagged: settings.maxFlagged,
+    null: settings.null,
+    spread: settings.spread,
+    baselineWindows: settings.baselineWindows,
+  };
+}
+
 const nullModels: readonly NullModelName[] = ['uniform', 'map', 'baseline'];
 const spreadModes: readonly SpreadModeName[] = ['exact', 'robust', 'auto'];
 

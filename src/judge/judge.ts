@@ -408,20 +408,7 @@ export class Judge {
       floor: floorRelative === null ? null : level(floorRelative, equalShares, fairShare),
       detectableExcess: ceilingRelative,
       flagged,
-      incidents: update.open.map((incident) => this.incident(incident, window.start)),
-      opened: update.opened.map((incident) => this.incident(incident, window.start)),
-      cleared: [
-        ...this.endedIncidents(window.start),
-        ...update.cleared.map((incident) => this.incident(incident, window.start)),
-      ],
-      falseIncidentsPerDay: this.falseIncidentsPerDay,
-      cusumFalseIncidentsPerDay: this.cusumFalseIncidentsPerDay(m),
-      late: window.late,
-      rejected: window.rejected,
-      coldTests,
-      ...this.retirementFields(),
-      alpha: s.alpha,
-      notes,
+      ...this.closingFields(window, update, update.opened, m, coldTests, notes),
     };
   }
 
@@ -467,8 +454,38 @@ export class Judge {
       floor: coldTests ? { relative: 0, requests: 0 } : null,
       detectableExcess: null,
       flagged: [],
+      ...this.closingFields(window, update, [], m, coldTests, notes),
+    };
+  }
+
+  /**
+   * What ends every judgement, judged or quiet, in the verdict stream's order: the incidents
+   * (open, opened with this window, cleared) and the window's bookkeeping.
+   */
+  private closingFields(
+    window: ClosedWindow,
+    update: PersistenceUpdate,
+    opened: readonly TrackedIncident[],
+    m: number,
+    coldTests: boolean,
+    notes: string[],
+  ): Pick<
+    Judgement,
+    | 'incidents'
+    | 'opened'
+    | 'cleared'
+    | 'falseIncidentsPerDay'
+    | 'cusumFalseIncidentsPerDay'
+    | 'late'
+    | 'rejected'
+    | 'coldTests'
+    | 'retiredShards'
+    | 'alpha'
+    | 'notes'
+  > {
+    return {
       incidents: update.open.map((incident) => this.incident(incident, window.start)),
-      opened: [],
+      opened: opened.map((incident) => this.incident(incident, window.start)),
       cleared: [
         ...this.endedIncidents(window.start),
         ...update.cleared.map((incident) => this.incident(incident, window.start)),
@@ -493,9 +510,13 @@ export class Judge {
     return { shard: this.universe.idAt(shard), count: counts[shard], relative, p };
   }
 
-  private incident(incident: TrackedIncident, windowStart: number): Incident {
+  private incident(
+    incident: TrackedIncident,
+    windowStart: number,
+    shard = this.universe.idAt(incident.index),
+  ): Incident {
     return {
-      shard: this.universe.idAt(incident.index),
+      shard,
       finding: incident.finding,
       since: iso(incident.since),
       windows: Math.round((windowStart - incident.since) / this.settings.hopMs) + 1,
@@ -527,13 +548,10 @@ export class Judge {
 
   /** Incidents ended by a retirement since the last window, as cleared with this one. */
   private endedIncidents(windowStart: number): Incident[] {
-    const ended = this.endedByRetirement.map(({ id, incident }) => ({
-      shard: id,
-      finding: incident.finding,
-      since: iso(incident.since),
-      windows: Math.round((windowStart - incident.since) / this.settings.hopMs) + 1,
-      test: incident.test,
-    }));
+    // A retired id is no longer the universe's at the incident's index: it is named here.
+    const ended = this.endedByRetirement.map(({ id, incident }) =>
+      this.incident(incident, windowStart, id),
+    );
     this.endedByRetirement = [];
     return ended;
   }

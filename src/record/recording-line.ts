@@ -1,3 +1,4 @@
+import type { JudgeSettings } from '../judge/judge-settings.js';
 import type { Judgement } from '../judge/judgement.js';
 
 /**
@@ -20,23 +21,13 @@ export interface RecordingLine extends Judgement {
 }
 
 /** The settings a recording carries: the judge's, the windows', and where records came from. */
-export interface RecordedSettings {
+export interface RecordedSettings extends Omit<JudgeSettings, 'hopMs'> {
   readonly source: Readonly<Record<string, unknown>>;
   readonly windowMs: number;
   readonly hopMs: number;
   readonly latenessMs: number;
   /** False when the universe grew as shards reported (cold tests off). */
   readonly declaredUniverse: boolean;
-  readonly alpha: number;
-  readonly minExcess: number;
-  readonly minDispersion: number;
-  readonly maxDetectable: number;
-  readonly confirm: number;
-  readonly clear: number;
-  readonly maxFlagged: number;
-  readonly null: Judgement['null'];
-  readonly spread: 'exact' | 'robust' | 'auto';
-  readonly baselineWindows: number;
   /**
    * Key analysis in force: sketch sizes and the re-placement simulations, or null when it
    * was off (--no-keys). Absent in recordings made before key analysis existed.

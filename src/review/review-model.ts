@@ -1,3 +1,4 @@
+import type { JudgeSettings } from '../judge/judge-settings.js';
 import type { Finding, Incident, Judgement } from '../judge/judgement.js';
 import {
   loadHistogram,
@@ -17,20 +18,11 @@ export const findingOrder: readonly Finding[] = [
   'too little traffic',
 ];
 
-/** What the verdicts rested on, for the method section. */
-export interface ReviewSettings {
+/** What the verdicts rested on, for the method section: the judge's settings and the windows'. */
+export interface ReviewSettings extends Omit<JudgeSettings, 'null' | 'spread'> {
   readonly null: string;
   readonly spread: string;
-  readonly alpha: number;
-  readonly minExcess: number;
-  readonly minDispersion: number;
-  readonly maxDetectable: number;
-  readonly confirm: number;
-  readonly clear: number;
-  readonly maxFlagged: number;
-  readonly baselineWindows: number;
   readonly windowMs: number;
-  readonly hopMs: number;
   /** False when the universe grew as shards reported (cold tests off). */
   readonly declaredUniverse: boolean;
 }

@@ -1,19 +1,9 @@
-import type { Judgement } from '../judge/judgement.js';
+import type { RecordedWindow } from '../record/recording-reader.js';
 
 /**
  * One judged window as the review sees it, whatever it came from (a recording as recorded,
- * a recording judged again, a record file or a Kafka range judged afresh).
+ * a recording judged again, a record file or a Kafka range judged afresh): the fields of a
+ * recorded window but its line number and settings. The review reads its counts during the
+ * call only.
  */
-export interface ReviewWindow {
-  /** Window start and end, epoch ms. */
-  readonly start: number;
-  readonly end: number;
-  /** Load per shard, indexed like `shardIds`; read during the call only. */
-  readonly counts: Float64Array;
-  readonly total: number;
-  /** Shard ids by index (at least as many as counts). */
-  readonly shardIds: readonly string[];
-  /** Declared shares by index when unequal, else null (equal shares). */
-  readonly shares: Float64Array | null;
-  readonly judgement: Judgement;
-}
+export type ReviewWindow = Omit<RecordedWindow, 'line' | 'settings'>;

@@ -1,4 +1,5 @@
 import type { Judgement } from '../judge/judgement.js';
+import { type ShardCandidate, compareIds } from '../judge/shard-candidates.js';
 import { formatCount, formatP, formatRelative } from './display-numbers.js';
 import { shardColumns } from './screen-layout.js';
 import { fitParts, padWidth, wireLabel, type LinePart } from './terminal-text.js';
@@ -6,10 +7,8 @@ import {
   type ShardSort,
   type Tone,
   type ScreenContext,
-  type ShardCandidate,
   type WindowView,
   type ScreenLayout,
-  compareIds,
 } from './view-common.js';
 
 /* The shard table's view model: which shards get a row, in what order, and their bars. */

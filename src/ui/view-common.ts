@@ -1,4 +1,5 @@
 import type { Finding, Judgement } from '../judge/judgement.js';
+import type { ShardCandidate } from '../judge/shard-candidates.js';
 import type { LoadHistogram } from '../judge/spread-histogram.js';
 import { wireLabel } from './terminal-text.js';
 
@@ -54,24 +55,6 @@ export interface SourceReading {
   readonly rejected: number;
   /** Units of load that arrived after their window had closed. */
   readonly late: number;
-}
-
-/** A shard worth a row, with its numbers (not yet words). */
-export interface ShardCandidate {
-  /** The id as it came from the wire: escaped only when a row is built. */
-  readonly shard: string;
-  readonly count: number;
-  /** N p_i in requests; null when the shares are not known here (learned baseline). */
-  readonly fairShare: number | null;
-  readonly relative: number;
-  /** Adjusted p: exact for flagged, fullest and emptiest shards, else a bound (see pBound). */
-  readonly p: number | null;
-  /** '' when p is exact; `≥` when the adjusted p is at least p; `>` when it is above p (alpha). */
-  readonly pBound: '' | '≥' | '>';
-  readonly finding: 'hotspot' | 'cold' | null;
-  readonly streak: number;
-  /** An incident is open on this shard with its finding. */
-  readonly incident: boolean;
 }
 
 /** One judged window, prepared when it closes; frames only pick from it. */
@@ -170,11 +153,6 @@ export const legendItems: readonly { text: string; short: string }[] = [
 ];
 export const findingLegend = legendItems.map((item) => item.text).join('  ');
 
-/** Shard ids in reading order: `seat-2` before `seat-10`. */
-const idCollator = new Intl.Collator('en', { numeric: true });
-export function compareIds(a: string, b: string): number {
-  return idCollator.compare(a, b);
-}
 /** A shard id for a sentence: escaped and cut to 24 cells. */
 export function label(id: string | undefined): string {
   return id === undefined ? '?' : wireLabel(id, 24);

@@ -26,11 +26,11 @@ export type {
   ScreenContext,
   SourceState,
   SourceReading,
-  ShardCandidate,
   WindowView,
   ScreenState,
   ScreenLayout,
 } from './view-common.js';
+export type { ShardCandidate } from '../judge/shard-candidates.js';
 export { shardSorts, cellsPerBin } from './view-common.js';
 export { buildWindowView } from './window-view.js';
 export { screenLayout, shardColumns, shardRowCells } from './screen-layout.js';

@@ -183,6 +183,10 @@ describe('decodeJsonLine, "invalid UTF-8" for lone surrogates from escapes', () 
     expect(decoded.rejected).toEqual(['invalid UTF-8', 'invalid UTF-8']);
   });
 
+  it('says a missing shard before an ill-formed key (the check order of emitChecked)', () => {
+    expect(reasonOf(`{"ts": ${ts}, "shard": "", "key": "k\\udfff"}`)).toEqual(['missing shard']);
+  });
+
   it('keeps escaped surrogate pairs and a genuine U+FFFD', () => {
     expect(json(`{"ts": ${ts}, "shard": "\\ud83d\\ude00", "key": "\\ufffd"}`).records).toEqual([
       { ts, shard: '\u{1f600}', count: 1, key: '\ufffd' },

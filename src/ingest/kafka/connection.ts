@@ -1,6 +1,6 @@
 import { createRequire } from 'node:module';
 import { inspect } from 'node:util';
-import type { Kafka, KafkaConfig, LogEntry, SASLOptions } from 'kafkajs';
+import type { Consumer, Kafka, KafkaConfig, LogEntry, SASLOptions } from 'kafkajs';
 
 let kafkajsModule: typeof import('kafkajs') | undefined;
 
@@ -139,6 +139,20 @@ export function createKafkaClient(
     } as SASLOptions;
   }
   return new Kafka(config);
+}
+
+/**
+ * Connects a group consumer and subscribes it to one topic, read from the earliest offsets or
+ * the latest where the group has committed none: `count`'s share of a topic and the partial
+ * summaries `watch --merge` reads.
+ */
+export async function subscribeToTopic(
+  consumer: Consumer,
+  topic: string,
+  from: 'earliest' | 'latest',
+): Promise<void> {
+  await consumer.connect();
+  await consumer.subscribe({ topics: [topic], fromBeginning: from === 'earliest' });
 }
 
 /** The broker list for messages: `a:9092,b:9092`. */

@@ -3,7 +3,7 @@ import type { RejectionReason } from '../../window/count-record.js';
 import { UsageError } from '../../errors/usage-error.js';
 import type { RecordSink } from '../decode.js';
 import type { SourceItem } from '../file-source.js';
-import { createKafkaClient, type KafkaConnectionOptions } from './connection.js';
+import { createKafkaClient, subscribeToTopic, type KafkaConnectionOptions } from './connection.js';
 import { causeText, KafkaIngestError } from './errors.js';
 import { BatchHandoff } from './batch-handoff.js';
 import { KafkaMessageDecoder, type ShardFrom } from './message-decoder.js';
@@ -208,11 +208,7 @@ export class KafkaGroupSource {
         ),
       );
     });
-    await consumer.connect();
-    await consumer.subscribe({
-      topics: [this.options.topic],
-      fromBeginning: this.options.from === 'earliest',
-    });
+    await subscribeToTopic(consumer, this.options.topic, this.options.from);
     await consumer.run({
       autoCommit: false,
       partitionsConsumedConcurrently: 1,

@@ -6,7 +6,7 @@ import {
   type PartialSummary,
 } from '../../partials/partial-summary.js';
 import { UsageError } from '../../errors/usage-error.js';
-import { createKafkaClient, type KafkaConnectionOptions } from './connection.js';
+import { createKafkaClient, subscribeToTopic, type KafkaConnectionOptions } from './connection.js';
 import { causeText, KafkaIngestError } from './errors.js';
 import { describedPartitionCount } from './topic-metadata.js';
 import { commitMetadata, judgedThroughFromMetadata, PartitionLedger } from './offset-ledger.js';
@@ -84,11 +84,7 @@ export class KafkaSummaryReader {
       allowAutoTopicCreation: false,
     });
     this.consumer = consumer;
-    await consumer.connect();
-    await consumer.subscribe({
-      topics: [this.options.topic],
-      fromBeginning: this.options.from === 'earliest',
-    });
+    await subscribeToTopic(consumer, this.options.topic, this.options.from);
     await consumer.run({
       autoCommit: false,
       eachBatch: async ({ batch }) => {
