@@ -1,5 +1,6 @@
+import { chanceCacheOr, type ChanceCache } from './chance-cache.js';
 import { logFactorial, logPoissonDensity } from './discrete-densities.js';
-import { fftConvolve } from './fft-convolution.js';
+import { fftConvolve, type Twiddles } from './fft-convolution.js';
 import { inversionWork, sumLogDensityAt, type LatticePiece } from './lattice-inversion.js';
 import { log1mExp, logAddExp, logDifference } from './log-space.js';
 import { logBinomialAtLeast, logBinomialAtMost } from './tails.js';
@@ -77,6 +78,12 @@ export interface BoxOptions {
    * complement magnification) is already below it.
    */
   readonly tolerance?: number;
+  /**
+   * Work kept across questions (chance-cache.ts): here the FFT twiddle tables, in
+   * shard-extremes.ts the share classes and sweeps. Without one, the default shared by
+   * callers that have none.
+   */
+  readonly cache?: ChanceCache;
 }
 
 /** Work above which the exact convolution gives way to the Edgeworth expansion. */
@@ -206,14 +213,19 @@ interface Lattice {
 }
 
 /** Convolution of two lattice mass functions, cut above `maxValue` and pruned of negligible terms. */
-function convolve(a: Lattice, b: Lattice, maxValue: number): Lattice {
+function convolve(
+  a: Lattice,
+  b: Lattice,
+  maxValue: number,
+  twiddles: (n: number) => Twiddles,
+): Lattice {
   const offset = a.offset + b.offset;
   const length = Math.min(a.values.length + b.values.length - 1, maxValue - offset + 1);
   if (length <= 0) return { offset, values: new Float64Array(0) };
   const av = a.values;
   const bv = b.values;
   if (av.length > FFT_FROM && bv.length > FFT_FROM) {
-    const full = fftConvolve(av, bv);
+    const full = fftConvolve(av, bv, twiddles);
     return prune(
       { offset, values: full.length > length ? full.slice(0, length) : full },
       FFT_FLOOR,
@@ -242,14 +254,19 @@ function prune(lattice: Lattice, relativeFloor = 1e-40): Lattice {
   return { offset: lattice.offset + start, values: v.slice(start, end) };
 }
 
-function power(base: Lattice, exponent: number, maxValue: number): Lattice {
+function power(
+  base: Lattice,
+  exponent: number,
+  maxValue: number,
+  twiddles: (n: number) => Twiddles,
+): Lattice {
   let result: Lattice = { offset: 0, values: Float64Array.of(1) };
   let square = base;
   let e = exponent;
   while (e > 0) {
-    if (e & 1) result = convolve(result, square, maxValue);
+    if (e & 1) result = convolve(result, square, maxValue, twiddles);
     e = Math.floor(e / 2);
-    if (e > 0) square = convolve(square, square, maxValue);
+    if (e > 0) square = convolve(square, square, maxValue, twiddles);
   }
   return result;
 }
@@ -259,7 +276,11 @@ function power(base: Lattice, exponent: number, maxValue: number): Lattice {
  * cheaper (many shards: few frequencies are needed), else by convolving the cut mass
  * functions (repeated squaring within each group, FFT for long factors).
  */
-function exactLogDensity(tilted: readonly TiltedGroup[], at: number): number {
+function exactLogDensity(
+  tilted: readonly TiltedGroup[],
+  at: number,
+  twiddles: (n: number) => Twiddles,
+): number {
   const pieces: LatticePiece[] = tilted.map((t) => ({
     ...cutMassFunction(t.cut, t.logMass, at),
     count: t.group.count,
@@ -273,7 +294,7 @@ function exactLogDensity(tilted: readonly TiltedGroup[], at: number): number {
   }
   let result: Lattice = { offset: 0, values: Float64Array.of(1) };
   for (const piece of pieces) {
-    result = convolve(result, power(piece, piece.count, at), at);
+    result = convolve(result, power(piece, piece.count, at, twiddles), at, twiddles);
   }
   const index = at - result.offset;
   if (index < 0 || index >= result.values.length) return -Infinity;
@@ -492,7 +513,7 @@ export function boxLogProbability(
     (edgeworth.remainder > EDGEWORTH_TOLERANCE &&
       work <= (options.quick ? EXACT_BUDGET : EXACT_BUDGET_WHEN_NEEDED));
   if (exactWanted) {
-    const logDensity = exactLogDensity(tilted, total);
+    const logDensity = exactLogDensity(tilted, total, chanceCacheOr(options.cache).twiddles);
     return {
       logProbability: logPrefactor + logMassSum + logDensity,
       method: 'exact',

@@ -1,5 +1,6 @@
 import { pnorm } from 'lib-r-math.js';
 import { boxLogProbability } from './box-probability.js';
+import type { ChanceCache } from './chance-cache.js';
 import { logChoose } from './discrete-densities.js';
 import { log1mExp, logAddExp } from './log-space.js';
 import { logBinomialAtLeast, logBinomialAtMost, logPoissonAtLeast } from './tails.js';
@@ -26,14 +27,18 @@ export interface EmptyShardsTail {
  * (q_ij - q_i q_j = q_i q_j expm1(N log(1 - c_i c_j)), c = p / (1 - p)), so nothing cancels.
  * Cost O(1) for equal shares; O(k^2) for k distinct shares up to 3000, beyond that the
  * pair sum is expanded in powers of c_i c_j (four terms; relative error below
- * (N max c^2)^5 / 120).
+ * (N max c^2)^5 / 120). `cache` keeps the share classes (without one, the default:
+ * chance-cache.ts).
  * Example: emptyShardMoments(makePlacement(3, 3)) has mean 3 (2/3)^3 = 8/9.
  */
-export function emptyShardMoments(placement: Placement): { mean: number; variance: number } {
+export function emptyShardMoments(
+  placement: Placement,
+  cache?: ChanceCache,
+): { mean: number; variance: number } {
   const n = placement.total;
   // Classes come in ascending share, so q = (1 - p)^N falls along them; once it underflows
   // (log below -746) every later class and every pair term with it is exactly 0 in doubles.
-  const all = shareClasses(placement);
+  const all = shareClasses(placement, cache);
   let live = 0;
   while (live < all.length && n * Math.log1p(-all[live].share) > -746) live++;
   const classes = live === all.length ? all : all.slice(0, live);
@@ -88,6 +93,7 @@ function logEmptyExactly(
   total: number,
   shards: number,
   empty: number,
+  cache: ChanceCache | undefined,
 ): { logProbability: number; convolved: boolean } {
   const occupied = shards - empty;
   if (occupied === 0) return { logProbability: total === 0 ? 0 : -Infinity, convolved: false };
@@ -96,7 +102,7 @@ function logEmptyExactly(
   const allHit = boxLogProbability(
     total,
     [{ share: 1 / occupied, count: occupied, lower: 1, upper: Infinity }],
-    { tolerance: 1e-5 },
+    { tolerance: 1e-5, cache },
   );
   return {
     logProbability:
@@ -186,10 +192,15 @@ function occupancyChainTail(total: number, shards: number, observed: number): nu
  * `conservative-moments`: never below the exact tail in the tests, but up to orders of
  * magnitude above it when N is far below m), else the normal limit with continuity
  * correction (Weiss 1958; Renyi 1962), reported as `normal`.
- * Cost: the cheaper of O(N min(N, m)) and O(number of terms) box probabilities.
+ * Cost: the cheaper of O(N min(N, m)) and O(number of terms) box probabilities. `cache`
+ * as for emptyShardMoments.
  * Example: emptyShardsTail(makePlacement(2, 2), 1) = log(1/2).
  */
-export function emptyShardsTail(placement: Placement, observed: number): EmptyShardsTail {
+export function emptyShardsTail(
+  placement: Placement,
+  observed: number,
+  cache?: ChanceCache,
+): EmptyShardsTail {
   const n = placement.total;
   const m = placement.shardCount;
   if (observed <= 0) return { logProbability: 0, method: 'certain' };
@@ -200,9 +211,10 @@ export function emptyShardsTail(placement: Placement, observed: number): EmptySh
     if (observed === 1) {
       // P(E >= 1) is P(some shard is empty), the emptiest shard's tail at load 0 (which
       // sweeps the shares when they are many).
-      return { logProbability: emptiestTail(placement, 0).logProbability, method: 'exact' };
+      const tail = emptiestTail(placement, 0, { cache });
+      return { logProbability: tail.logProbability, method: 'exact' };
     }
-    const { mean, variance } = emptyShardMoments(placement);
+    const { mean, variance } = emptyShardMoments(placement, cache);
     // The occupancy count is under-dispersed (variance below its mean); a binomial law
     // matched on the exact mean and variance follows it far better than the Poisson limit.
     // It is fitted to whichever of the empty and the occupied count is the rarer, so that
@@ -232,7 +244,7 @@ export function emptyShardsTail(placement: Placement, observed: number): EmptySh
     const z = (observed - 0.5 - mean) / Math.sqrt(Math.max(variance, 1e-300));
     return { logProbability: logNormalUpper(z), method: 'normal' };
   }
-  const { mean, variance } = emptyShardMoments(placement);
+  const { mean, variance } = emptyShardMoments(placement, cache);
   const maxEmpty = m - (n > 0 ? 1 : 0);
   // Two exact methods; the cheaper answers. The chain's cost is known in advance; the
   // terms' cost is estimated from the shape of E and the cost of the first term (whether
@@ -253,7 +265,7 @@ export function emptyShardsTail(placement: Placement, observed: number): EmptySh
   let logSum = -Infinity;
   let spent = 0;
   for (let e = start; direction > 0 ? e <= stop : e >= stop; e += direction) {
-    const term = logEmptyExactly(n, m, e);
+    const term = logEmptyExactly(n, m, e, cache);
     const cost = term.convolved ? CONVOLVED_TERM_STEPS : EXPANDED_TERM_STEPS;
     spent += cost;
     if (e === start && chainSteps <= terms * cost) return chain();

@@ -7,6 +7,7 @@ import {
   type BoxOptions,
   type ShardGroup,
 } from './box-probability.js';
+import { chanceCacheOr, type ChanceCache } from './chance-cache.js';
 import { logChoose } from './discrete-densities.js';
 import { normalBox, normalBoxPoints } from './gaussian-box.js';
 import { log1mExp, logAddExp, logDifference } from './log-space.js';
@@ -166,6 +167,7 @@ function complementLogTail(
     total,
     groups,
     usable ? tail.relativeError : UNUSABLE_ERROR,
+    options.cache,
   );
   if (normal !== null) return normal;
   const third = thirdOrderTail(side, total, groups, options);
@@ -251,6 +253,7 @@ function normalComplementTail(
   total: number,
   groups: readonly ThresholdGroup[],
   toBeat: number,
+  cache: ChanceCache | undefined,
 ): TailProbability | null {
   const shardCount = groups.reduce((n, g) => n + g.count, 0);
   if (shardCount > NORMAL_MAX_SHARDS) return null;
@@ -268,7 +271,7 @@ function normalComplementTail(
   }
   // Not worth the convolutions when the neglected terms alone lose to the box.
   if (!(edgeworth < toBeat) || shardCount * normalBoxPoints(cuts) > NORMAL_MAX_WORK) return null;
-  const none = normalBox(cuts);
+  const none = normalBox(cuts, cache);
   const tail = 1 - none.probability;
   if (!(tail > 0)) return null;
   const relativeError = none.numericError / tail + edgeworth;
@@ -381,7 +384,11 @@ export function anyShardTail(
     // Only an exact box is wanted here: not complementLogTail, whose fallbacks (the normal
     // limit, up to 0.5 s) would be thrown away.
     const complement = tailFromComplement(
-      boxLogProbability(total, complementBox(side, live), { quick: true, forComplement: true }),
+      boxLogProbability(total, complementBox(side, live), {
+        quick: true,
+        forComplement: true,
+        cache: options.cache,
+      }),
     );
     if (complement.method === 'complement-exact') return complement;
   }
@@ -572,6 +579,7 @@ export function sweptShardTail(
     sweep,
     relative,
     options.firstOrder && options.quick ? PRUNE_QUICK : PRUNE_EXACT,
+    chanceCacheOr(options.cache),
   );
   if (sums === null) return null;
   if (sums.certain) return { logProbability: 0, method: 'certain', relativeError: 0 };
@@ -596,21 +604,18 @@ export function sweptShardTail(
   return none === null ? null : tailFromComplement(none.box);
 }
 
-/** The latest binomial sweep, kept: a search asks for the same load quickly and accurately. */
-let latest: {
-  sweep: ShareSweep;
-  side: Side;
-  relative: number;
-  margin: number;
-  sums: TailSums | null;
-} | null = null;
-
+/**
+ * The binomial sweep's sums, the latest kept in the cache (ChanceCache.latestTails): a
+ * search asks for the same load quickly and accurately.
+ */
 function lastTails(
   side: Side,
   sweep: ShareSweep,
   relative: number,
   margin: number,
+  cache: ChanceCache,
 ): TailSums | null {
+  const latest = cache.latestTails;
   if (
     latest?.sweep === sweep &&
     latest.side === side &&
@@ -619,7 +624,7 @@ function lastTails(
   )
     return latest.sums;
   const sums = sweepTails(side, sweep, relative, margin);
-  latest = { sweep, side, relative, margin, sums };
+  cache.latestTails = { sweep, side, relative, margin, sums };
   return sums;
 }
 

@@ -8,9 +8,15 @@
  * output, so values near the peak (which is where the box probability reads its answer,
  * the saddle point putting N at the centre) keep about 14 digits; values far below the
  * peak are noise and are clamped at 0. Cost O(n log n) for output length n.
+ * `twiddles` gives the tables of a transform size (by default computed afresh, O(n); a
+ * ChanceCache's `twiddles` keeps them).
  * Example: fftConvolve([1, 1], [1, 1]) = [1, 2, 1].
  */
-export function fftConvolve(a: Float64Array, b: Float64Array): Float64Array {
+export function fftConvolve(
+  a: Float64Array,
+  b: Float64Array,
+  twiddles: (n: number) => Twiddles = twiddleTables,
+): Float64Array {
   const length = a.length + b.length - 1;
   let size = 1;
   while (size < length) size <<= 1;
@@ -20,15 +26,16 @@ export function fftConvolve(a: Float64Array, b: Float64Array): Float64Array {
   const bIm = new Float64Array(size);
   aRe.set(a);
   bRe.set(b);
-  transform(aRe, aIm, false);
-  transform(bRe, bIm, false);
+  const tables = twiddles(size);
+  transform(aRe, aIm, false, tables);
+  transform(bRe, bIm, false, tables);
   for (let i = 0; i < size; i++) {
     const re = aRe[i] * bRe[i] - aIm[i] * bIm[i];
     const im = aRe[i] * bIm[i] + aIm[i] * bRe[i];
     aRe[i] = re;
     aIm[i] = im;
   }
-  transform(aRe, aIm, true);
+  transform(aRe, aIm, true, tables);
   const out = new Float64Array(length);
   for (let i = 0; i < length; i++) {
     const v = aRe[i] / size;
@@ -37,14 +44,18 @@ export function fftConvolve(a: Float64Array, b: Float64Array): Float64Array {
   return out;
 }
 
-/** Twiddle tables of the sizes used last (a box's convolutions repeat a few sizes). */
-const twiddleCache = new Map<number, { cosTable: Float64Array; sinTable: Float64Array }>();
-const TWIDDLE_SIZES_KEPT = 6;
+/** cos and sin of 2 pi k / n for k < n / 2, the twiddle factors of a transform of size n. */
+export interface Twiddles {
+  readonly cosTable: Float64Array;
+  readonly sinTable: Float64Array;
+}
 
-/** cos and sin of 2 pi k / n for k < n / 2, each from Math.cos/sin (no drifting recurrence). */
-function twiddles(n: number): { cosTable: Float64Array; sinTable: Float64Array } {
-  const kept = twiddleCache.get(n);
-  if (kept !== undefined) return kept;
+/**
+ * The twiddle tables of size n, each entry from Math.cos/sin (no drifting recurrence). A
+ * pure function of n: fftConvolve takes a source of them, so that a caller repeating sizes
+ * (a box's convolutions) keeps them in its ChanceCache (chance-cache.ts). O(n).
+ */
+export function twiddleTables(n: number): Twiddles {
   const cosTable = new Float64Array(n / 2);
   const sinTable = new Float64Array(n / 2);
   for (let k = 0; k < n / 2; k++) {
@@ -52,19 +63,16 @@ function twiddles(n: number): { cosTable: Float64Array; sinTable: Float64Array }
     cosTable[k] = Math.cos(angle);
     sinTable[k] = Math.sin(angle);
   }
-  const tables = { cosTable, sinTable };
-  // Kept up to 2^20 points (8 MiB of tables at most per size).
-  if (n > 2 ** 20) return tables;
-  if (twiddleCache.size >= TWIDDLE_SIZES_KEPT) {
-    const oldest = twiddleCache.keys().next().value;
-    if (oldest !== undefined) twiddleCache.delete(oldest);
-  }
-  twiddleCache.set(n, tables);
-  return tables;
+  return { cosTable, sinTable };
 }
 
 /** In-place iterative radix-2 transform; twiddles from Math.cos/sin per index (no drifting recurrence). */
-function transform(re: Float64Array, im: Float64Array, inverse: boolean): void {
+function transform(
+  re: Float64Array,
+  im: Float64Array,
+  inverse: boolean,
+  { cosTable, sinTable }: Twiddles,
+): void {
   const n = re.length;
   for (let i = 1, j = 0; i < n; i++) {
     let bit = n >> 1;
@@ -79,7 +87,6 @@ function transform(re: Float64Array, im: Float64Array, inverse: boolean): void {
       im[j] = t;
     }
   }
-  const { cosTable, sinTable } = twiddles(n);
   const sign = inverse ? 1 : -1;
   for (let len = 2; len <= n; len <<= 1) {
     const half = len >> 1;

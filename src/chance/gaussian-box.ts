@@ -1,4 +1,5 @@
-import { fftConvolve } from './fft-convolution.js';
+import { chanceCacheOr, type ChanceCache } from './chance-cache.js';
+import { fftConvolve, type Twiddles } from './fft-convolution.js';
 
 /**
  * The box "no shard reaches its threshold" in the normal limit of the multinomial, for few
@@ -50,7 +51,12 @@ const REACH = 13;
  * The box at lattice step sum(tops) / steps: the sampled convolution read at sum 0, which
  * is the lattice point `steps` (every cut and the reading on the lattice, no interpolation).
  */
-function boxAtStep(cuts: readonly NormalCut[], tops: readonly number[], steps: number): number {
+function boxAtStep(
+  cuts: readonly NormalCut[],
+  tops: readonly number[],
+  steps: number,
+  twiddles: (n: number) => Twiddles,
+): number {
   const top = tops.reduce((s, t) => s + t, 0);
   const step = top / steps;
   let product: Float64Array | null = null;
@@ -66,7 +72,7 @@ function boxAtStep(cuts: readonly NormalCut[], tops: readonly number[], steps: n
       samples[j] = scale * Math.exp(-0.5 * z * z);
     }
     samples[0] /= 2;
-    product = product === null ? samples : fftConvolve(product, samples);
+    product = product === null ? samples : fftConvolve(product, samples, twiddles);
     // Ends below 1e-40 of the peak are dropped (the sum's law is near normal: they are its
     // far tails, and FFT noise there anyway).
     let peak = 0;
@@ -100,11 +106,12 @@ export function normalBoxPoints(cuts: readonly NormalCut[]): number {
 /**
  * P(all U_i < c_i | sum U_i = 0) for independent U_i ~ N(0, p_i), two cuts or more.
  * Cost: three chains of m FFT convolutions, the longest about 26 * 32 * sqrt(sum p / p_min)
- * points (a few milliseconds for 3 shards).
+ * points (a few milliseconds for 3 shards). The FFT twiddle tables come from `cache`
+ * (without one, the default: chance-cache.ts).
  * Example: two shards of share 1/2 with cuts 0.1 and 0.1: U_1 = -U_2 ~ N(0, 1/4), so the
  * box is P(|U_1| < 0.1) = 2 Phi(0.2) - 1 = 0.15851.
  */
-export function normalBox(cuts: readonly NormalCut[]): NormalBox {
+export function normalBox(cuts: readonly NormalCut[], cache?: ChanceCache): NormalBox {
   const smallest = Math.sqrt(Math.min(...cuts.map((c) => c.share)));
   // A cut beyond the reach changes nothing: the lattice starts at the reach instead (its
   // half weight there is below the density's 1e-36).
@@ -117,7 +124,8 @@ export function normalBox(cuts: readonly NormalCut[]): NormalBox {
   // (8 sum / sd)^(m-1), its complement near 1).
   if (top < smallest / 8) return { probability: NaN, numericError: Infinity };
   const steps = Math.ceil((8 * top) / smallest);
-  const q = [1, 2, 4].map((n) => boxAtStep(cuts, tops, n * steps));
+  const twiddles = chanceCacheOr(cache).twiddles;
+  const q = [1, 2, 4].map((n) => boxAtStep(cuts, tops, n * steps, twiddles));
   // Errors a d^2 + b d^4 + ...: two Richardson steps.
   const r1 = (4 * q[1] - q[0]) / 3;
   const r2 = (4 * q[2] - q[1]) / 3;

@@ -1,3 +1,5 @@
+import { chanceCacheOr, type ChanceCache } from './chance-cache.js';
+
 /**
  * A window's placement question: `total` units of load on `shardCount` shards with
  * expected shares (null for equal shares). Loads are compared as relative loads
@@ -80,15 +82,16 @@ export function shareOf(placement: Placement, index: number): number {
 }
 
 /**
- * The distinct shares and how many shards hold each (one class for equal shares).
- * O(m log m) for weighted shares. Example: shares [0.5, 0.25, 0.25] give two classes.
+ * The distinct shares and how many shards hold each (one class for equal shares), in
+ * ascending share. O(m log m) for weighted shares, once per shares vector and cache
+ * (quantile searches ask dozens of times per window; the shares do not change); without a
+ * cache, the default (chance-cache.ts). Example: shares [0.5, 0.25, 0.25] give two classes.
  */
-export function shareClasses(placement: Placement): readonly ShareClass[] {
+export function shareClasses(placement: Placement, cache?: ChanceCache): readonly ShareClass[] {
   if (placement.shares === null)
     return [{ share: 1 / placement.shardCount, count: placement.shardCount }];
-  // Quantile searches ask for the classes dozens of times per window; the shares do not change.
-  const cached = classCache.get(placement.shares);
-  if (cached) return cached;
+  const work = chanceCacheOr(cache).forShares(placement.shares);
+  if (work.classes !== undefined) return work.classes;
   const sorted = Float64Array.from(placement.shares).sort();
   const classes: ShareClass[] = [];
   let start = 0;
@@ -98,8 +101,6 @@ export function shareClasses(placement: Placement): readonly ShareClass[] {
       start = i;
     }
   }
-  classCache.set(placement.shares, classes);
+  work.classes = classes;
   return classes;
 }
-
-const classCache = new WeakMap<Float64Array, ShareClass[]>();

@@ -5,6 +5,7 @@ import {
   type TailProbability,
   type ThresholdGroup,
 } from './extreme-load.js';
+import type { ChanceCache } from './chance-cache.js';
 import { shareSweep, thresholdAt, type ShareSweep } from './share-sweep/sorted-shares.js';
 import { roundingSlack, shareClasses, type Placement } from './placement.js';
 
@@ -20,8 +21,13 @@ import { roundingSlack, shareClasses, type Placement } from './placement.js';
 /** Tail levels up to this are bracketed with the first Bonferroni bound (weighted shares). */
 const FIRST_ORDER_LEVEL = 0.03;
 
-function groups(placement: Placement, relative: number, side: 'high' | 'low'): ThresholdGroup[] {
-  return shareClasses(placement).map((c) => {
+function groups(
+  placement: Placement,
+  relative: number,
+  side: 'high' | 'low',
+  cache: ChanceCache | undefined,
+): ThresholdGroup[] {
+  return shareClasses(placement, cache).map((c) => {
     const expected = placement.total * c.share;
     const scaled = relative * expected;
     const threshold =
@@ -37,6 +43,8 @@ function groups(placement: Placement, relative: number, side: 'high' | 'low'): T
  * observed maximum. Single-step max-statistic adjusted p-value of a shard with relative load
  * r is fullestTail(placement, r).
  * Cost: O(distinct shares) tails and box probabilities. Error: relative <= 1e-3 on [1e-15, 1].
+ * `options.cache` keeps the share classes, sweeps and tables for the next question about
+ * the same shares (without one, the default: chance-cache.ts).
  * Example: fullestTail(makePlacement(23, 365), 2 * 365 / 23) = 0.5072972343239857.
  */
 export function fullestTail(
@@ -46,10 +54,11 @@ export function fullestTail(
 ): TailProbability {
   if (placement.total === 0 || relative <= 0)
     return { logProbability: 0, method: 'certain', relativeError: 0 };
-  const sweep = shareSweep(placement);
+  const sweep = shareSweep(placement, options.cache);
   const swept = sweep && sweptShardTail('high', sweep, relative, options);
   if (swept) return swept;
-  return anyShardTail('high', placement.total, groups(placement, relative, 'high'), options);
+  const tested = groups(placement, relative, 'high', options.cache);
+  return anyShardTail('high', placement.total, tested, options);
 }
 
 /**
@@ -64,18 +73,20 @@ export function emptiestTail(
 ): TailProbability {
   if (relative < 0) return { logProbability: -Infinity, method: 'impossible', relativeError: 0 };
   if (placement.total === 0) return { logProbability: 0, method: 'certain', relativeError: 0 };
-  const sweep = shareSweep(placement);
+  const sweep = shareSweep(placement, options.cache);
   const swept = sweep && sweptShardTail('low', sweep, relative, options);
   if (swept) return swept;
-  return anyShardTail('low', placement.total, groups(placement, relative, 'low'), options);
+  const tested = groups(placement, relative, 'low', options.cache);
+  return anyShardTail('low', placement.total, tested, options);
 }
 
 /** The largest expected count over the shards: the scale of one count in relative load. */
-function unit(placement: Placement): number {
-  const sweep = shareSweep(placement);
+function unit(placement: Placement, cache: ChanceCache | undefined): number {
+  const sweep = shareSweep(placement, cache);
   if (sweep !== null) return 1 / Math.max(placement.total * sweep.shares[0], 1e-300);
   let smallest = Infinity;
-  for (const c of shareClasses(placement)) smallest = Math.min(smallest, placement.total * c.share);
+  for (const c of shareClasses(placement, cache))
+    smallest = Math.min(smallest, placement.total * c.share);
   return 1 / Math.max(smallest, 1e-300);
 }
 
@@ -84,9 +95,10 @@ function unit(placement: Placement): number {
  * i.e. P(max r > t) <= 1 - level. At level 1 - alpha this is the chance ceiling.
  * For equal shares t * N / m is a whole count: bisection over counts, O(log(range)) tails.
  * For weighted shares a safeguarded regula falsi on the log tail (about 5-15 tails).
+ * `cache` as for fullestTail.
  * Example: fullestQuantile(makePlacement(23, 365), 0.5) = 2 * 365 / 23 (the birthday median is a pair).
  */
-export function fullestQuantile(placement: Placement, level: number): number {
+export function fullestQuantile(placement: Placement, level: number, cache?: ChanceCache): number {
   if (placement.total === 0) return 0;
   // While bracketing an extreme level, the first Bonferroni bound S1 (>= the tail, and
   // within S1^2/2 of it) is close enough and costs one pass over the shards.
@@ -97,18 +109,18 @@ export function fullestQuantile(placement: Placement, level: number): number {
   const excess = (quick: boolean) => (t: number) =>
     rootGap(
       logBound,
-      fullestTail(placement, t, { quick, firstOrder: quick && firstOrder }).logProbability,
+      fullestTail(placement, t, { quick, firstOrder: quick && firstOrder, cache }).logProbability,
       logShards,
     );
-  return searchRelative(placement, excess, 'high');
+  return searchRelative(placement, excess, 'high', cache);
 }
 
 /**
  * Quantile of the emptiest shard's relative load: the smallest u with P(min r <= u) >= level.
- * At level alpha this is the chance floor. Searched as fullestQuantile.
+ * At level alpha this is the chance floor. Searched as fullestQuantile, `cache` likewise.
  * Example: emptiestQuantile(makePlacement(2, 2), 0.5) = 0.
  */
-export function emptiestQuantile(placement: Placement, level: number): number {
+export function emptiestQuantile(placement: Placement, level: number, cache?: ChanceCache): number {
   if (placement.total === 0) return 0;
   const firstOrder = placement.shares !== null && level <= FIRST_ORDER_LEVEL;
   const logBound = Math.log(level);
@@ -117,10 +129,10 @@ export function emptiestQuantile(placement: Placement, level: number): number {
   const shortfall = (quick: boolean) => (u: number) =>
     -rootGap(
       logBound,
-      emptiestTail(placement, u, { quick, firstOrder: quick && firstOrder }).logProbability,
+      emptiestTail(placement, u, { quick, firstOrder: quick && firstOrder, cache }).logProbability,
       logShards,
     );
-  return searchRelative(placement, shortfall, 'low');
+  return searchRelative(placement, shortfall, 'low', cache);
 }
 
 /**
@@ -165,13 +177,14 @@ function searchRelative(
   placement: Placement,
   makeGap: (quick: boolean) => (t: number) => number,
   side: 'high' | 'low',
+  cache: ChanceCache | undefined,
 ): number {
   // Bracket and narrow with quick evaluations, then settle with full accuracy.
   const quickGap = makeGap(true);
   const accurateGap = makeGap(false);
   const before = (t: number) => quickGap(t) > 0;
   const accurate = (t: number) => accurateGap(t) > 0;
-  const step = unit(placement);
+  const step = unit(placement, cache);
   const equal = placement.shares === null;
   const fair = placement.total / placement.shardCount;
   if (equal) {
@@ -317,7 +330,7 @@ function searchRelative(
   // once the bracket is below a relative ANSWER_WIDTH and returns its upper end, the
   // smallest load known to satisfy the level.
   for (let round = 0; round < 100; round++) {
-    const breakpoint = singleBreakpoint(placement, b.lo, b.hi, side);
+    const breakpoint = singleBreakpoint(placement, b.lo, b.hi, side, cache);
     if (breakpoint !== null) return breakpoint;
     if (b.hi - b.lo <= answerWidth(b.hi)) break;
     narrowOnce(accurateGap, b);
@@ -334,14 +347,15 @@ function singleBreakpoint(
   lo: number,
   hi: number,
   side: 'high' | 'low',
+  cache: ChanceCache | undefined,
 ): number | null {
   // About N (hi - lo) thresholds change in the bracket (sum_i N p_i (hi - lo)); with more
   // than 64 expected, one alone has a chance below e^-60.
   if (placement.total * (hi - lo) > 64) return null;
-  const sweep = shareSweep(placement);
+  const sweep = shareSweep(placement, cache);
   if (sweep !== null) return sweptSingleBreakpoint(sweep, lo, hi, side);
-  const low = groups(placement, lo, side);
-  const high = groups(placement, hi, side);
+  const low = groups(placement, lo, side, cache);
+  const high = groups(placement, hi, side, cache);
   let changed = -1;
   for (let g = 0; g < low.length; g++) {
     if (low[g].threshold !== high[g].threshold) {
@@ -451,13 +465,13 @@ function narrowOnce(gap: (t: number) => number, b: Bracket): void {
  * fullest shard holds at least that) to where the tail is negligible: count by count over
  * up to 256 counts, else by the trapezoid rule on a lattice of whole counts, halving the
  * step until two steps agree to 1e-10 of the mean (see integrateTail). Weighted shares:
- * the same on the relative load. Example: fullestMean(makePlacement(2, 2)) = 1.5 / 1
- * (counts 1.5).
+ * the same on the relative load; `cache` as for fullestTail. Example:
+ * fullestMean(makePlacement(2, 2)) = 1.5 / 1 (counts 1.5).
  */
-export function fullestMean(placement: Placement): number {
+export function fullestMean(placement: Placement, cache?: ChanceCache): number {
   if (placement.total === 0) return 0;
-  const tail = (t: number) => Math.exp(fullestTail(placement, t).logProbability);
-  const top = fullestQuantile(placement, 1 - 1e-15);
+  const tail = (t: number) => Math.exp(fullestTail(placement, t, { cache }).logProbability);
+  const top = fullestQuantile(placement, 1 - 1e-15, cache);
   return 1 + integrateTail(placement, tail, 1, top, 'high');
 }
 
@@ -466,11 +480,11 @@ export function fullestMean(placement: Placement): number {
  * [0, 1], summed over whole counts for equal shares, as fullestMean.
  * Example: emptiestMean(makePlacement(2, 2)) = 0.5 (counts 0.5).
  */
-export function emptiestMean(placement: Placement): number {
+export function emptiestMean(placement: Placement, cache?: ChanceCache): number {
   if (placement.total === 0) return 0;
   // P(min r >= u) = 1 - P(min r <= u - one count).
-  const bottom = emptiestQuantile(placement, 1e-15);
-  const survival = (u: number) => -Math.expm1(emptiestTail(placement, u).logProbability);
+  const bottom = emptiestQuantile(placement, 1e-15, cache);
+  const survival = (u: number) => -Math.expm1(emptiestTail(placement, u, { cache }).logProbability);
   return bottom + integrateTail(placement, survival, bottom, 1, 'low');
 }
 

@@ -1,3 +1,4 @@
+import type { ChanceCache } from './chance-cache.js';
 import { emptyShardMoments, emptyShardsTail } from './empty-shards.js';
 import { probabilityFromLog } from './log-space.js';
 import { shareOf, type Placement } from './placement.js';
@@ -50,13 +51,16 @@ export interface WindowSummary {
  * Summary of one window. `withEmptyTests` false skips the emptiest-shard and empty-count
  * tests (an undeclared universe cannot see a shard that never reported).
  * Cost: two tails, two quantile searches (O(log range) tails each), the empty-count sum and
- * an O(m) pass. Example: 23 requests on 365 equal shards, one pair: fullest p = 0.5073.
+ * an O(m) pass. `cache` keeps the work on these shares for the next window (chance-cache.ts;
+ * without one, the default). Example: 23 requests on 365 equal shards, one pair: fullest
+ * p = 0.5073.
  */
 export function summarizeWindow(
   placement: Placement,
   counts: ArrayLike<number>,
   alpha: number,
   withEmptyTests = true,
+  cache?: ChanceCache,
 ): WindowSummary {
   const m = placement.shardCount;
   const n = placement.total;
@@ -90,19 +94,21 @@ export function summarizeWindow(
     logP: tail.logProbability,
     method: tail.method,
   });
-  const fullest = extreme(hi, hiRel, fullestTail(placement, hiRel));
+  const fullest = extreme(hi, hiRel, fullestTail(placement, hiRel, { cache }));
   const emptiest = extreme(
     lo,
     loRel,
-    withEmptyTests ? emptiestTail(placement, loRel) : { logProbability: 0, method: 'off' },
+    withEmptyTests
+      ? emptiestTail(placement, loRel, { cache })
+      : { logProbability: 0, method: 'off' },
   );
-  const moments = emptyShardMoments(placement);
+  const moments = emptyShardMoments(placement, cache);
   const emptyTail = withEmptyTests
-    ? emptyShardsTail(placement, empties)
+    ? emptyShardsTail(placement, empties, cache)
     : { logProbability: 0, method: 'off' };
   const spread = spreadTest(placement, counts);
-  const ceiling = fullestQuantile(placement, 1 - alpha);
-  const floor = withEmptyTests ? emptiestQuantile(placement, alpha) : 0;
+  const ceiling = fullestQuantile(placement, 1 - alpha, cache);
+  const floor = withEmptyTests ? emptiestQuantile(placement, alpha, cache) : 0;
   return {
     total: n,
     shardCount: m,

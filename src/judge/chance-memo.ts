@@ -1,3 +1,4 @@
+import { ChanceCache } from '../chance/chance-cache.js';
 import { emptyShardMoments, emptyShardsTail } from '../chance/empty-shards.js';
 import type { TailProbability } from '../chance/extreme-load.js';
 import type { Placement } from '../chance/placement.js';
@@ -18,8 +19,16 @@ import { warmCeiling, warmFloor } from './warm-quantiles.js';
  * `capacity` is reached (a learned baseline, whose shares change every window, only cycles
  * through it). Keys carry the shares' version, so new shares never hit old answers, and
  * judges of the same universe may share one memo.
+ *
+ * It also owns the engine's work products (`cache`, a ChanceCache: share classes, share
+ * sweeps and their tables per shares vector, FFT twiddle tables per size) and hands it to
+ * every question, so that what a window's questions build serves the next window on the
+ * same shares, and goes when the shares do. And it numbers the universes its judges
+ * declare shares for (universeKey), the part of the version that tells them apart.
  */
 export class ChanceMemo {
+  /** The chance engine's kept work, passed to every question this memo asks. */
+  readonly cache: ChanceCache;
   private readonly entries = new Map<string, unknown>();
   /** The last ceiling and floor per shares and alpha, in counts, as search guesses. */
   private readonly lastLevels = new Map<string, { fair: number; count: number }>();
@@ -28,23 +37,43 @@ export class ChanceMemo {
   /** Ceilings and floors found so far per shares and alpha, by total (see QuantileLadder). */
   private readonly ladders = new Map<string, QuantileLadder>();
   private readonly capacity: number;
+  /** Numbers of the universes asked about (universeKey); a universe's entry goes with it. */
+  private readonly universes = new WeakMap<object, number>();
+  private nextUniverse = 0;
 
-  /** @param capacity most answers kept (default 4096) */
-  constructor(capacity = 4096) {
+  /**
+   * @param capacity most answers kept (default 4096)
+   * @param cache the engine's kept work (default: a new one of this memo's own)
+   */
+  constructor(capacity = 4096, cache: ChanceCache = new ChanceCache()) {
     this.capacity = capacity;
+    this.cache = cache;
+  }
+
+  /**
+   * A number for this universe, the same for every judge sharing this memo, so that their
+   * declared shares share memo keys (and one judge's never meet another universe's). O(1).
+   */
+  universeKey(universe: object): number {
+    let key = this.universes.get(universe);
+    if (key === undefined) {
+      key = this.nextUniverse++;
+      this.universes.set(universe, key);
+    }
+    return key;
   }
 
   /** P(max r >= relative), fullestTail. */
   fullestTail(placement: Placement, version: string, relative: number): TailProbability {
     return this.remember(`F${version}|${placement.total}|${relative}`, () =>
-      fullestTail(placement, relative),
+      fullestTail(placement, relative, { cache: this.cache }),
     );
   }
 
   /** P(min r <= relative), emptiestTail. */
   emptiestTail(placement: Placement, version: string, relative: number): TailProbability {
     return this.remember(`E${version}|${placement.total}|${relative}`, () =>
-      emptiestTail(placement, relative),
+      emptiestTail(placement, relative, { cache: this.cache }),
     );
   }
 
@@ -56,10 +85,10 @@ export class ChanceMemo {
     return this.remember(`C${version}|${placement.total}|${alpha}`, () => {
       if (placement.shares === null && placement.total > 0) {
         return this.warm(`C${version}|${alpha}`, placement, (guess) =>
-          warmCeiling(placement, alpha, guess),
+          warmCeiling(placement, alpha, guess, this.cache),
         );
       }
-      return fullestQuantile(placement, 1 - alpha);
+      return fullestQuantile(placement, 1 - alpha, this.cache);
     });
   }
 
@@ -68,23 +97,26 @@ export class ChanceMemo {
     return this.remember(`L${version}|${placement.total}|${alpha}`, () => {
       if (placement.shares === null && placement.total > 0) {
         return this.warm(`L${version}|${alpha}`, placement, (guess) =>
-          warmFloor(placement, alpha, guess),
+          warmFloor(placement, alpha, guess, this.cache),
         );
       }
-      return emptiestQuantile(placement, alpha);
+      return emptiestQuantile(placement, alpha, this.cache);
     });
   }
 
   /** P(at least `observed` empty shards), emptyShardsTail. */
   emptyTail(placement: Placement, version: string, observed: number): { logProbability: number } {
     return this.remember(`Z${version}|${placement.total}|${observed}`, () =>
-      emptyShardsTail(placement, observed),
+      emptyShardsTail(placement, observed, this.cache),
     );
   }
 
   /** Mean of the empty-shard count, emptyShardMoments. */
   emptyMean(placement: Placement, version: string): number {
-    return this.remember(`M${version}|${placement.total}`, () => emptyShardMoments(placement).mean);
+    return this.remember(
+      `M${version}|${placement.total}`,
+      () => emptyShardMoments(placement, this.cache).mean,
+    );
   }
 
   /**

@@ -76,7 +76,10 @@ export class Judge {
   private readonly baseline: BaselineShares | null;
   private readonly pooled = new PooledSpread(spreadSpanWindows);
   private readonly memo: ChanceMemo;
-  /** Memo keys: declared shares belong to a universe, learned ones to one judge. */
+  /**
+   * Memo keys: declared shares belong to a universe (numbered by the memo, so judges sharing
+   * it agree), learned ones to one judge.
+   */
   private readonly universeKey: number;
   private readonly judgeKey: number;
   private declaredCache: { size: number; shares: Float64Array | null } | null = null;
@@ -101,7 +104,7 @@ export class Judge {
     this.settings = checkJudgeSettings(settings);
     this.universe = universe;
     this.memo = options.memo ?? new ChanceMemo();
-    this.universeKey = universeKeyOf(universe);
+    this.universeKey = this.memo.universeKey(universe);
     this.judgeKey = nextJudgeKey++;
     this.tracker = new IncidentTracker(settings.confirm, settings.clear);
     this.sequential =
@@ -645,18 +648,6 @@ export class Judge {
 
 const noShards: ReadonlySet<number> = new Set();
 let nextJudgeKey = 0;
-let nextUniverseKey = 0;
-const universeKeys = new WeakMap<ShardUniverse, number>();
-
-function universeKeyOf(universe: ShardUniverse): number {
-  let key = universeKeys.get(universe);
-  if (key === undefined) {
-    key = nextUniverseKey++;
-    universeKeys.set(universe, key);
-  }
-  return key;
-}
-
 function iso(ms: number): string {
   return new Date(ms).toISOString();
 }

@@ -1,3 +1,4 @@
+import type { ChanceCache } from '../chance/chance-cache.js';
 import type { Placement } from '../chance/placement.js';
 import { emptiestTail, fullestTail } from '../chance/shard-extremes.js';
 
@@ -15,16 +16,22 @@ import { emptiestTail, fullestTail } from '../chance/shard-extremes.js';
 /**
  * The chance ceiling as a whole count: the smallest k with P(max >= k + 1) <= alpha, in
  * relative load k / fair share, as fullestQuantile(placement, 1 - alpha) returns it.
- * `guess` is a count near the answer (NaN: none). O(log |answer - guess|) tails.
+ * `guess` is a count near the answer (NaN: none). O(log |answer - guess|) tails, asked with
+ * `cache` (the memo's; without one, the engine's default).
  * @example warmCeiling(makePlacement(64_000, 64), 0.001, 1130) // 1133 / 1000
  */
-export function warmCeiling(placement: Placement, alpha: number, guess: number): number {
+export function warmCeiling(
+  placement: Placement,
+  alpha: number,
+  guess: number,
+  cache?: ChanceCache,
+): number {
   const total = placement.total;
   const fair = total / placement.shardCount;
   const level = 1 - alpha;
   // The engine's predicate, written the same way so that rounding agrees.
   const exceeds = (count: number) =>
-    Math.exp(fullestTail(placement, (count + 1) / fair).logProbability) > 1 - level;
+    Math.exp(fullestTail(placement, (count + 1) / fair, { cache }).logProbability) > 1 - level;
   // Below the mean no count can be the ceiling: the fullest shard always reaches it.
   const least = Math.ceil(fair) - 1;
   const start = Number.isFinite(guess)
@@ -66,13 +73,19 @@ export function warmCeiling(placement: Placement, alpha: number, guess: number):
 /**
  * The chance floor as a whole count: the smallest k with P(min <= k) >= alpha, in relative
  * load k / fair share, as emptiestQuantile(placement, alpha) returns it (0 when even an
- * empty shard is that likely). `guess` is a count near the answer (NaN: none).
+ * empty shard is that likely). `guess` is a count near the answer (NaN: none); `cache` as
+ * for warmCeiling.
  * @example warmFloor(makePlacement(64_000, 64), 0.001, 870) // 872 / 1000
  */
-export function warmFloor(placement: Placement, alpha: number, guess: number): number {
+export function warmFloor(
+  placement: Placement,
+  alpha: number,
+  guess: number,
+  cache?: ChanceCache,
+): number {
   const fair = placement.total / placement.shardCount;
   const below = (count: number) =>
-    Math.exp(emptiestTail(placement, count / fair).logProbability) < alpha;
+    Math.exp(emptiestTail(placement, count / fair, { cache }).logProbability) < alpha;
   if (!below(0)) return 0;
   // The emptiest shard never holds more than the fair share: the engine takes floor(fair)
   // as the upper end without testing it, and so does this search.

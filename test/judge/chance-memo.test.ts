@@ -1,7 +1,11 @@
 import { describe, expect, it } from 'vitest';
+import { chanceCacheOr } from '../../src/chance/chance-cache.js';
 import { makePlacement } from '../../src/chance/placement.js';
 import { emptiestQuantile, fullestQuantile } from '../../src/chance/shard-extremes.js';
 import { ChanceMemo } from '../../src/judge/chance-memo.js';
+import { Judge } from '../../src/judge/judge.js';
+import { defaultJudgeSettings } from '../../src/judge/judge-settings.js';
+import { ShardUniverse } from '../../src/window/shard-universe.js';
 
 describe('ChanceMemo ceilings and floors across windows', () => {
   it('answers between known totals from the monotone ladder exactly as the engine searches', () => {
@@ -23,5 +27,57 @@ describe('ChanceMemo ceilings and floors across windows', () => {
     }
     // After 60 windows most questions come from the ladder (none of whose answers differed).
     expect(memo.ladderAnswers - afterWarmUp).toBeGreaterThan(100);
+  });
+});
+
+describe("ChanceMemo owns the chance engine's kept work", () => {
+  // 600 shards with hash ranges 1 : 2 : 3 repeating (invented), so the engine sweeps them.
+  const ids = Array.from({ length: 600 }, (_, shard) => `s${shard}`);
+  const weights = ids.map((_, shard) => 1 + (shard % 3));
+
+  function judgeWindows(judge: Judge, windows: number): void {
+    for (let index = 0; index < windows; index++) {
+      // About 100 requests a unit of weight, a hot shard now and then (invented).
+      const counts = Float64Array.from(weights, (w, shard) => 100 * w + ((shard * 7 + index) % 13));
+      if (index % 3 === 1) counts[5] *= 2;
+      const start = index * 10_000;
+      judge.judge({
+        start,
+        end: start + 10_000,
+        counts,
+        total: counts.reduce((sum, count) => sum + count, 0),
+        late: 0,
+        rejected: {},
+      });
+    }
+  }
+
+  it("a judge's questions go to its memo's cache: one sweep of its shares, none in the default", () => {
+    const memo = new ChanceMemo();
+    const judge = new Judge(
+      ShardUniverse.fromWeights(ids, weights),
+      { ...defaultJudgeSettings, null: 'map', hopMs: 10_000 },
+      { memo },
+    );
+    const defaultBuilt = chanceCacheOr(undefined).sweepsBuilt;
+    judgeWindows(judge, 4);
+    // The declared shares are sorted once; every later total reuses them.
+    expect(memo.cache.sweepsBuilt).toBe(1);
+    expect(chanceCacheOr(undefined).sweepsBuilt).toBe(defaultBuilt);
+  });
+
+  it('numbers universes per memo: judges sharing it agree, other universes differ', () => {
+    const memo = new ChanceMemo();
+    const first = ShardUniverse.fromWeights(ids, weights);
+    const second = ShardUniverse.fromWeights(ids, weights);
+    expect(memo.universeKey(first)).toBe(memo.universeKey(first));
+    expect(memo.universeKey(second)).not.toBe(memo.universeKey(first));
+    // Two judges of one universe on one memo ask the same questions: the second's are answered
+    // from the first's memo entries, so no further sweep is built.
+    const settings = { ...defaultJudgeSettings, null: 'map' as const, hopMs: 10_000 };
+    judgeWindows(new Judge(first, settings, { memo }), 2);
+    const built = memo.cache.sweepsBuilt;
+    judgeWindows(new Judge(first, settings, { memo }), 2);
+    expect(memo.cache.sweepsBuilt).toBe(built);
   });
 });

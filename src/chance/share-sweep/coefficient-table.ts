@@ -8,7 +8,6 @@ import { type CellPart, cellPart, cellValue } from './cells.js';
 import { type DirectPart, directPart } from './direct-nodes.js';
 import {
   PRUNE_EXACT,
-  type ShareSweep,
   type Side,
   type SweepLaw,
   type SweepQuery,
@@ -85,8 +84,6 @@ const DIRECT_DRIFT = 0.05;
 /** Thresholds below this are direct nodes when the range is wider than DIRECT_COUNTS. */
 const SPLIT_COUNT = 64;
 
-export const reusable = new WeakMap<ShareSweep, { high?: Coefficients; low?: Coefficients }>();
-
 /**
  * The coefficients for one sweep. Accurate binomial sweeps (a quantile search settling its
  * answer probes loads within about 1e-4 of each other) share one table: a shard's tail
@@ -94,8 +91,9 @@ export const reusable = new WeakMap<ShareSweep, { high?: Coefficients; low?: Coe
  * with series good for |e| <= 2 (cells) or half a part plus 0.05 (direct nodes) serves any
  * load t at which every shard's offset from its bucket centre, measured at t0, stays within
  * that, i.e. 1/2 + x_max |t / t0 - 1| <= 2 and split |t / t0 - 1| <= 0.05, and whose
- * thresholds stay inside the table. Null when a part is refused, or on side high
- * when some threshold is 0 (that shard surely reaches it; the caller says so).
+ * thresholds stay inside the table. The shared table is kept on the sweep (`kept`), so it
+ * lives as long as the sweep does in its ChanceCache. Null when a part is refused, or on
+ * side high when some threshold is 0 (that shard surely reaches it; the caller says so).
  */
 export function prepare(query: SweepQuery, reuse: boolean): Coefficients | null {
   const { side, law, sweep, relative } = query;
@@ -110,7 +108,7 @@ export function prepare(query: SweepQuery, reuse: boolean): Coefficients | null 
   if (side === 'low' && first < 0) return null;
   const last = usefulLast(query);
   if (last > total - MAX_ORDER - 2) return null;
-  const kept = reuse ? reusable.get(sweep)?.[side] : undefined;
+  const kept = reuse ? sweep.kept[side].table : undefined;
   if (kept !== undefined && first >= kept.first && last <= kept.last) {
     // Positions drift by x |t / t0 - 1|: at most the split's count in the direct part, the
     // largest share's position in the cells.
@@ -149,9 +147,7 @@ export function prepare(query: SweepQuery, reuse: boolean): Coefficients | null 
     const low = Math.max(side === 'high' ? 1 : 0, first - 3);
     const co = build(REUSE_REACH, DIRECT_DRIFT, low, Math.min(total - MAX_ORDER - 2, last + 3));
     if (co !== null) {
-      const entry = reusable.get(sweep) ?? {};
-      entry[side] = co;
-      reusable.set(sweep, entry);
+      sweep.kept[side].table = co;
       return co;
     }
   }

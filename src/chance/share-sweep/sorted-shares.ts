@@ -1,4 +1,7 @@
+import { chanceCacheOr, type ChanceCache } from '../chance-cache.js';
 import { type Placement, roundingSlack } from '../placement.js';
+import type { TailState } from './accumulators.js';
+import type { Coefficients } from './coefficient-table.js';
 
 /**
  * Sums over many weighted shards of their single-shard tails at one relative load, with no
@@ -64,36 +67,59 @@ export interface ShareSweep {
   readonly shares: Float64Array;
   /** prefix[i] = sum of the i smallest shares. */
   readonly prefix: Float64Array;
+  /**
+   * Per side, the coefficient table kept for nearby loads (coefficient-table.ts) and the
+   * latest accurate binomial sweep on it (tail-sums.ts). They belong to this sweep, so they
+   * go with it: a new total gets a new sweep with none.
+   */
+  readonly kept: Record<Side, KeptWork>;
+}
+
+/** What one side of a sweep keeps for the next question at a nearby load. */
+export interface KeptWork {
+  table?: Coefficients;
+  tails?: TailState;
 }
 
 /** Fewer shards than this are left to the grouped engine (exact where affordable). */
 export const SWEEP_FROM = 500;
 
-/** Per shares array, the latest total asked about and its sweep (null: not eligible). */
-const sweepCache = new WeakMap<Float64Array, { total: number; sweep: ShareSweep | null }>();
-
 /**
  * The sweep of a weighted placement, or null when shares are equal, the shards are few, a
  * share is zero, or the largest share is above 1e-2 (the grouped engine handles those).
- * O(m log m) once per placement (cached).
+ * O(m log m) once per shares vector and cache (chance-cache.ts; without one, the default),
+ * O(1) after; a new total reuses the sorted shares in a new sweep.
  */
-export function shareSweep(placement: Placement): ShareSweep | null {
+export function shareSweep(placement: Placement, cache?: ChanceCache): ShareSweep | null {
   const shares = placement.shares;
   if (shares === null || placement.shardCount < SWEEP_FROM) return null;
-  const cached = sweepCache.get(shares);
-  if (cached !== undefined) {
+  const owner = chanceCacheOr(cache);
+  const work = owner.forShares(shares);
+  const known = work.sweep;
+  if (known !== undefined) {
     // Whether a sweep applies depends on the shares alone; a new total reuses their order.
-    if (cached.sweep === null || cached.total === placement.total) return cached.sweep;
-    const sweep = { ...cached.sweep, total: placement.total };
-    sweepCache.set(shares, { total: placement.total, sweep });
+    if (known === null || known.total === placement.total) return known;
+    const sweep: ShareSweep = {
+      total: placement.total,
+      shares: known.shares,
+      prefix: known.prefix,
+      kept: { high: {}, low: {} },
+    };
+    work.sweep = sweep;
     return sweep;
   }
   const sorted = Float64Array.from(shares).sort();
-  const sweep =
+  owner.sweepsBuilt++;
+  const sweep: ShareSweep | null =
     sorted[0] > 0 && sorted[sorted.length - 1] <= 1e-2
-      ? { total: placement.total, shares: sorted, prefix: prefixSums(sorted) }
+      ? {
+          total: placement.total,
+          shares: sorted,
+          prefix: prefixSums(sorted),
+          kept: { high: {}, low: {} },
+        }
       : null;
-  sweepCache.set(shares, { total: placement.total, sweep });
+  work.sweep = sweep;
   return sweep;
 }
 

@@ -1,6 +1,6 @@
 import { roundingSlack } from '../placement.js';
 import { rankTail, type TailAccumulator, type TailState } from './accumulators.js';
-import { prepare, reusable, TableLookup } from './coefficient-table.js';
+import { prepare, TableLookup } from './coefficient-table.js';
 import { PRUNE_EXACT, type ShareSweep, type Side, type SweepQuery } from './sorted-shares.js';
 import { walk } from './walk.js';
 
@@ -16,13 +16,12 @@ export interface TailSums {
   readonly certain: boolean;
 }
 
-const tailStates = new WeakMap<ShareSweep, { high?: TailState; low?: TailState }>();
-
 /**
  * Binomial sweep: the first Bonferroni sum S1 = sum_i P(X_i reaches its threshold) and what
  * the pair estimate of S2 needs, X_i ~ Binomial(N, p_i). Null when the sweep cannot be
  * trusted (the grouped engine then answers). O(nodes + m); on a table kept from the
  * previous accurate sweep, O(m) threshold comparisons plus a table lookup per moved shard.
+ * The state of an accurate sweep is kept on the sweep (`kept`, beside its table).
  */
 export function sweepTails(
   side: Side,
@@ -44,14 +43,15 @@ export function sweepTails(
   const query: SweepQuery = { side, law: { kind: 'binomial' }, sweep, relative };
   const accurate = margin >= PRUNE_EXACT && !(side === 'low' && relative === 0);
   const co = accurate ? prepare(query, true) : null;
-  const kept = tailStates.get(sweep)?.[side];
+  const keptWork = sweep.kept[side];
+  const kept = keptWork.tails;
   if (co !== null && kept !== undefined && kept.co === co) {
     updateTails(query, kept, acc);
   } else {
     let store: TailState | null = null;
-    if (co !== null && co === reusable.get(sweep)?.[side]) {
+    if (co !== null && co === keptWork.table) {
       // The arrays of the state it replaces are reused (two per side and sweep).
-      const previous = tailStates.get(sweep)?.[side];
+      const previous = kept;
       const m = sweep.shares.length;
       store = {
         co,
@@ -67,9 +67,7 @@ export function sweepTails(
     if (store) {
       store.sum = acc.sum;
       store.squares = acc.squares;
-      const entry = tailStates.get(sweep) ?? {};
-      entry[side] = store;
-      tailStates.set(sweep, entry);
+      keptWork.tails = store;
     }
   }
   if (!Number.isFinite(acc.sum) || acc.first < 0) return null;
