@@ -5,7 +5,11 @@
 //   feeding EventTimeWindows in this process;
 // - cli: the built CLI, `node dist/cli/main.js watch --brokers ... --topic ... --from
 //   earliest --no-ui --metrics-port 0` (windows judged, verdicts written to a pipe this
-//   bench drains), its progress read from shardwise_records_total on /metrics every 20 ms.
+//   bench drains), its progress read from shardwise_records_total on /metrics every 20 ms;
+//   it is done once every record is read and the verdict of every window those records
+//   close is out: as many as `ours` closed in the same round but the last, partial one
+//   (`ours` closes it at the end; a live run closes it once the topic has been quiet).
+//   Windows are judged on a second thread, so reading alone would finish early.
 // Each measurement runs in a fresh process with a fresh consumer group, alternating raw and
 // ours, so neither inherits the other's JIT or page-cache warmth.
 //
@@ -137,7 +141,11 @@ async function measureOurs(topic: string): Promise<Measurement> {
 }
 
 /** The built CLI's watch on the topic, until /metrics counts every record accepted. */
-async function measureCli(topic: string, expected: number): Promise<Measurement> {
+async function measureCli(
+  topic: string,
+  expected: number,
+  expectedWindows: number,
+): Promise<Measurement> {
   const root = fileURLToPath(new URL('..', import.meta.url));
   const started = performance.now();
   const watch = spawn(
@@ -187,6 +195,12 @@ async function measureCli(topic: string, expected: number): Promise<Measurement>
       if (performance.now() - started > 280_000) throw new Error(`stuck at ${records} records`);
       if (records < expected) await sleep(20);
     }
+    // Then the verdicts of the windows those records closed (stdout is read as it comes).
+    while (verdicts < expectedWindows) {
+      if (watch.exitCode !== null) throw new Error(`watch ended:\n${stderr}`);
+      if (performance.now() - started > 280_000) throw new Error(`stuck at ${verdicts} verdicts`);
+      await sleep(2);
+    }
     const last = performance.now();
     return {
       mode: 'cli',
@@ -208,7 +222,7 @@ if (first === '--measure') {
     mode === 'raw' || mode === 'raw-json'
       ? await measureRaw(topic, expected, mode === 'raw-json')
       : mode === 'cli'
-        ? await measureCli(topic, expected)
+        ? await measureCli(topic, expected, Number(process.argv[6]))
         : await measureOurs(topic);
   console.log(JSON.stringify(result));
 } else {
@@ -236,6 +250,7 @@ if (first === '--measure') {
     );
     const results: Measurement[] = [];
     for (let round = 0; round < rounds; round++) {
+      let oursWindows = 0;
       for (const mode of modes) {
         const child = spawnSync(
           process.execPath,
@@ -246,12 +261,14 @@ if (first === '--measure') {
             mode,
             topic,
             String(count),
+            String(oursWindows),
           ],
           { encoding: 'utf8', timeout: 300_000 },
         );
         if (child.status !== 0) throw new Error(`${mode}: ${child.stderr}`);
         const result = JSON.parse(child.stdout.trim().split('\n').pop() as string) as Measurement;
         results.push(result);
+        if (mode === 'ours') oursWindows = result.windows - 1;
         console.log(
           `round ${round + 1} ${mode.padEnd(8)} ${(result.records / result.seconds / 1000).toFixed(0).padStart(5)} k records/s ` +
             `(${result.seconds.toFixed(2)} s first to last, ${result.totalSeconds.toFixed(2)} s with connect and join)` +
