@@ -32,6 +32,7 @@ const benches: readonly Bench[] = [
   { file: 'metrics-scrape.bench.ts', args: [] },
   { file: 'review.bench.ts', args: [], needs: ['build'] },
   { file: 'watch-input.bench.ts', args: [], needs: ['build'] },
+  { file: 'judge-thread-warm-up.bench.ts', args: [], needs: ['build'] },
   { file: 'kafka-throughput.bench.ts', args: [], needs: ['broker', 'build'] },
   { file: 'scale-out.bench.ts', args: [], needs: ['broker', 'build'] },
 ];

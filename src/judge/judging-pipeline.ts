@@ -279,6 +279,8 @@ export class JudgingPipeline implements FeedSink {
    * quiet-time rule above and announces a stall once per quiet stretch.
    */
   tick(): void {
+    // Called from timers: a judging failure is reported by the feed and settled(), not here.
+    if (this.failure !== null) return;
     const now = this.clock();
     if (this.live) {
       this.aheadLimit = now + this.maxAheadMs;
@@ -305,6 +307,7 @@ export class JudgingPipeline implements FeedSink {
    * every open window closes, the last partial one included.
    */
   finish(): void {
+    if (this.failure !== null) throw this.failure.error;
     for (const run of this.held.values()) {
       for (let at = 0; at < run.records.length; at++) this.reject('too far ahead');
     }
@@ -378,7 +381,8 @@ export class JudgingPipeline implements FeedSink {
   }
 
   private judgeWindow(window: ClosedWindow): void {
-    if (this.failure !== null) throw this.failure.error;
+    // After a failure nothing more is judged; the feed, finish() and settled() report it.
+    if (this.failure !== null) return;
     this.events.emit('window closed', window);
     const context = this.closeContext(window);
     const judged = this.judge.judge(window);

@@ -8,6 +8,7 @@ import { describe, expect, it } from 'vitest';
 import { JudgeThread, builtJudgeThreadEntry } from '../../src/cli/judge-thread.js';
 import { Judge } from '../../src/judge/judge.js';
 import { defaultJudgeSettings } from '../../src/judge/judge-settings.js';
+import { RandomDraws } from '../../src/scenario/random-draws.js';
 import { runScenario } from '../../src/scenario/scenario-run.js';
 import { EventTimeWindows, type ClosedWindow } from '../../src/window/event-time-window.js';
 import { ShardUniverse } from '../../src/window/shard-universe.js';
@@ -52,6 +53,40 @@ describe('JudgeThread', () => {
       } finally {
         await thread.close();
       }
+    }
+  });
+
+  it('warms up before the first window of a large weighted universe, and still agrees', async () => {
+    // Hash-range weights of a ring with 4 tokens a shard (demo data), 5000 shards: past the
+    // warm-up's 4000, so the thread judges its made-up windows first.
+    const draws = new RandomDraws(11);
+    const ids = Array.from({ length: 5000 }, (_, shard) => `r-${shard}`);
+    const weights = ids.map(() => {
+      let weight = 0;
+      for (let token = 0; token < 4; token++) weight -= Math.log(1 - draws.uniform());
+      return weight;
+    });
+    const universe = ShardUniverse.fromWeights(ids, weights);
+    const settings = { ...defaultJudgeSettings, null: 'map' as const, hopMs: 10_000 };
+    const windows = [20, 2000].map((perShard, at) => {
+      const counts = new Float64Array(5000);
+      let total = 0;
+      universe.shares.forEach((share, shard) => {
+        counts[shard] = draws.poisson(perShard * 5000 * share * (shard === 7 ? 2 : 1));
+        total += counts[shard];
+      });
+      return { start: at * 10_000, end: (at + 1) * 10_000, counts, total, late: 0, rejected: {} };
+    });
+    const thread = new JudgeThread(universe.describe()!, settings, entry);
+    try {
+      const here = new Judge(universe, settings);
+      for (const window of windows) {
+        expect(JSON.stringify(await thread.judge(window))).toBe(JSON.stringify(here.judge(window)));
+      }
+      // Twice its share on shard r-7 is found at 2000 requests a shard.
+      expect(here.judge(windows[1]).findings).toContain('hotspot');
+    } finally {
+      await thread.close();
     }
   });
 
