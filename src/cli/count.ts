@@ -75,7 +75,7 @@ export const countCommand: Command = {
       return value;
     };
     const topic = parseTopic(required('topic'));
-    const summaryTopic = parseTopic(required('summaries'));
+    const summaryTopic = parseTopic(required('summaries'), '--summaries');
     const groupId = parseGroup(required('group')) as string;
     const from = values.from ?? 'latest';
     if (from !== 'latest' && from !== 'earliest') {

@@ -182,11 +182,11 @@ export function parseBrokers(value: string): string[] {
   return entries;
 }
 
-/** `--topic`: Kafka's legal topic names (letters, digits, `.`, `_`, `-`; at most 249). */
-export function parseTopic(value: string): string {
+/** A topic name given with `option` (`--topic`, `--merge`, `--summaries`): Kafka's legal names (letters, digits, `.`, `_`, `-`; at most 249). */
+export function parseTopic(value: string, option = '--topic'): string {
   if (!topicPattern.test(value) || value === '.' || value === '..') {
     throw new UsageError(
-      '--topic',
+      option,
       value,
       'is not a Kafka topic name (1 to 249 of A-Z a-z 0-9 . _ -, not "." or "..")',
     );

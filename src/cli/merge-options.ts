@@ -63,7 +63,7 @@ export function readMergeSettings(
   return {
     settings: {
       connection,
-      topic: parseTopic(topicText),
+      topic: parseTopic(topicText, '--merge'),
       groupId: parseGroup(typeof values.group === 'string' ? values.group : undefined),
       from,
       deadlineMs: deadline === undefined ? 30_000 : duration('--merge-deadline', String(deadline)),

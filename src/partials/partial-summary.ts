@@ -177,12 +177,13 @@ function countsField(object: Record<string, unknown>, name: string): Record<stri
   if (typeof value !== 'object' || value === null || Array.isArray(value)) {
     throw new PartialSummaryError(`${name} is not a JSON object`);
   }
-  const out: Record<string, number> = {};
-  for (const [key, count] of Object.entries(value as Record<string, unknown>)) {
+  const entries = Object.entries(value as Record<string, unknown>);
+  for (const [key, count] of entries) {
     if (typeof count !== 'number' || !Number.isSafeInteger(count) || count < 0) {
       throw new PartialSummaryError(`${name}.${key} is not a non-negative whole number`);
     }
-    out[key] = count;
   }
-  return out;
+  // Keys are shard ids from the wire: fromEntries defines each one as an own property, where
+  // assigning `__proto__` would set the prototype and lose its count.
+  return Object.fromEntries(entries) as Record<string, number>;
 }

@@ -192,8 +192,10 @@ export class PartitionCounter {
   }
 
   private makePart(start: number, part: OpenPart | undefined): ClosedPart {
-    const counts: Record<string, number> = {};
-    if (part !== undefined) for (const [shard, load] of part.counts) counts[shard] = load;
+    // Shard ids from the wire: fromEntries defines each one as an own property, where
+    // assigning `__proto__` would set the prototype and lose its load.
+    const counts: Record<string, number> =
+      part === undefined ? {} : Object.fromEntries(part.counts);
     const closed: ClosedPart = {
       start,
       end: start + this.windowMs,

@@ -11,7 +11,11 @@ export interface Props {
   readonly height: number;
 }
 
-/** The help: keys first, then one paragraph per panel, wrapped to the width. */
+/**
+ * The help: keys first, then one paragraph per panel, wrapped to the width. On a terminal
+ * shorter than the help it is cut at the bottom: no line shrinks, since Yoga would squeeze
+ * lines to no height and Ink would draw them over their neighbours.
+ */
 export function HelpOverlay({ help, width, height }: Props) {
   const keyWidth = Math.max(...help.keys.map((hint) => hint.key.length)) + 2;
   return (
@@ -20,16 +24,20 @@ export function HelpOverlay({ help, width, height }: Props) {
         <Text bold>{help.title}</Text>
       </Box>
       {help.keys.map((hint) => (
-        <Text key={hint.key} wrap="wrap">
-          <Text bold>{padWidth(hint.key, keyWidth)}</Text>
-          {hint.action}
-        </Text>
+        <Box key={hint.key} flexShrink={0}>
+          <Text wrap="wrap">
+            <Text bold>{padWidth(hint.key, keyWidth)}</Text>
+            {hint.action}
+          </Text>
+        </Box>
       ))}
       {help.panels.map((panel) => (
-        <Text key={panel.name} wrap="wrap">
-          <Text bold>{`${panel.name}: `}</Text>
-          {panel.text}
-        </Text>
+        <Box key={panel.name} flexShrink={0}>
+          <Text wrap="wrap">
+            <Text bold>{`${panel.name}: `}</Text>
+            {panel.text}
+          </Text>
+        </Box>
       ))}
     </Box>
   );

@@ -1,4 +1,5 @@
 import { Box } from 'ink';
+import type { ReactNode } from 'react';
 import { HeaderBar } from './header-bar.js';
 import { HelpOverlay } from './help-overlay.js';
 import { HistoryStrip } from './history-strip.js';
@@ -19,6 +20,10 @@ export interface Props {
  * The whole screen, top to bottom in the order an operator asks: what is the verdict,
  * which shards, how is the load spread, since when, is the source alive, which keys. Wide
  * terminals put the shard table beside the spread chart; the help takes the panels' place.
+ * Only the panels between the verdict and the history give way on a terminal too short for
+ * everything: they are cut from the bottom. Every other part keeps its lines (flexShrink 0),
+ * since Yoga would otherwise squeeze lines to no height and Ink draw them over their
+ * neighbours.
  */
 export function Screen({ model }: Props) {
   const { layout } = model;
@@ -39,40 +44,47 @@ export function Screen({ model }: Props) {
       height={layout.chartHeight}
     />
   );
+  const fixed = (part: ReactNode) => <Box flexShrink={0}>{part}</Box>;
   return (
     <Box flexDirection="column" width={width} height={layout.lines} overflow="hidden">
-      <HeaderBar header={model.header} width={width} />
+      {fixed(<HeaderBar header={model.header} width={width} />)}
       {model.help !== null ? (
         <HelpOverlay help={model.help} width={width} height={layout.lines - 2} />
       ) : (
         <>
-          <VerdictPanel
-            verdict={model.verdict}
-            width={width}
-            evidenceLines={layout.evidenceLines}
-          />
+          {fixed(
+            <VerdictPanel
+              verdict={model.verdict}
+              width={width}
+              evidenceLines={layout.evidenceLines}
+            />,
+          )}
           {layout.sideBySide ? (
-            <Box flexDirection="row" width={width} flexGrow={1}>
-              {shards}
-              <Box marginLeft={1}>{spread}</Box>
+            <Box flexDirection="row" width={width} flexGrow={1} overflow="hidden">
+              {fixed(shards)}
+              <Box marginLeft={1} flexShrink={0}>
+                {spread}
+              </Box>
             </Box>
           ) : (
-            <Box flexDirection="column" width={width} flexGrow={1}>
-              {shards}
-              {spread}
+            <Box flexDirection="column" width={width} flexGrow={1} overflow="hidden">
+              {fixed(shards)}
+              {fixed(spread)}
             </Box>
           )}
-          <HistoryStrip
-            history={model.history}
-            width={width}
-            labelWidth={layout.historyLabelWidth}
-          />
-          <IncidentLine incidents={model.incidents} />
-          <SourceLine source={model.source} />
+          {fixed(
+            <HistoryStrip
+              history={model.history}
+              width={width}
+              labelWidth={layout.historyLabelWidth}
+            />,
+          )}
+          {fixed(<IncidentLine incidents={model.incidents} />)}
+          {fixed(<SourceLine source={model.source} />)}
         </>
       )}
       <Box flexGrow={model.help !== null ? 1 : 0} />
-      <KeyLine keys={model.keys} />
+      {fixed(<KeyLine keys={model.keys} />)}
     </Box>
   );
 }

@@ -124,3 +124,20 @@ describe('shardwise count', () => {
     expect(err).toContain('11 messages counted, 3 summaries published');
   });
 });
+
+describe('shardwise count: the summary topic', () => {
+  it('a bad --summaries name is refused naming --summaries, not --topic', async () => {
+    const io = {
+      stdout: new PassThrough(),
+      stderr: new PassThrough(),
+      stdin: new PassThrough(),
+      env: {},
+    };
+    await expect(
+      countCommand.run(
+        ['--brokers', '127.0.0.1:1', '--topic', 't', '--group', 'g', '--summaries', 'bad name'],
+        io,
+      ),
+    ).rejects.toThrow('--summaries: "bad name" is not a Kafka topic name');
+  });
+});

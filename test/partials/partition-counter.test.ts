@@ -108,3 +108,21 @@ describe('PartitionCounter', () => {
     expect(ledgerOf(0, [[0, 10]], -Infinity).commitOffset(counter.closedThrough)).toBe(1);
   });
 });
+
+describe('PartitionCounter: shard ids from the wire', () => {
+  it('a shard called __proto__ is counted like any other', () => {
+    // On a plain object, counts['__proto__'] = n sets the prototype and drops the count.
+    const counter = new PartitionCounter(0, { windowMs: 10, latenessMs: 0 }, 0);
+    feed(counter, [
+      [0, 1, '__proto__'],
+      [1, 2, '__proto__'],
+      [2, 3, 'a'],
+      [3, 25, 'a'],
+    ]);
+    const [part] = counter.closeDue();
+    expect(Object.entries(part.counts)).toEqual([
+      ['__proto__', 2],
+      ['a', 1],
+    ]);
+  });
+});

@@ -284,3 +284,28 @@ describe('issue #18: no line is cut, at any state, at 80x24 and 120x40', () => {
     expect(frame.replace(colour, '').split('\n').at(-1)).toMatch(/^keys › p pause/);
   });
 });
+
+describe('a terminal shorter than every panel', () => {
+  // Below 19 rows stacked (16 side by side) the panels need more lines than there are. The
+  // verdict, the history, the incidents, the source and the keys keep their lines; the
+  // shard table and the spread chart between them are cut from the bottom, and no line is
+  // drawn over another.
+  it.each([
+    [60, 14],
+    [80, 16],
+    [40, 13],
+    [170, 14],
+  ])('%dx%d: the lines around the panels as on a tall terminal', (columns, rows) => {
+    const views = demo.slice(0, 4);
+    const short = frameOf(modelOf(views, { size: { columns, rows } })).split('\n');
+    const tall = frameOf(modelOf(views, { size: { columns, rows: 40 } })).split('\n');
+    expect(short.length).toBeLessThanOrEqual(rows - 1);
+    // Header, headline, two lines of evidence, the model line.
+    expect(short.slice(0, 5)).toEqual(tall.slice(0, 5));
+    // The history (4 lines), incidents, source and keys end the frame.
+    expect(short.slice(-7)).toEqual(tall.slice(-7));
+    // Whatever the panels keep is their first lines.
+    const panels = short.slice(5, -7);
+    expect(panels).toEqual(tall.slice(5, 5 + panels.length));
+  });
+});
