@@ -210,3 +210,16 @@ describe('sharesOfNull and compareIds', () => {
     ]);
   });
 });
+describe('compareIds', () => {
+  it('reading order: seat-2 before seat-10 (the doc comment’s example)', () => {
+    expect(compareIds('seat-2', 'seat-10')).toBeLessThan(0);
+    expect(['seat-10', 'seat-2', 'seat-1', 'b', 'a'].sort(compareIds)).toEqual([
+      'a',
+      'b',
+      'seat-1',
+      'seat-2',
+      'seat-10',
+    ]);
+    expect(compareIds('node-007', 'node-007')).toBe(0);
+  });
+});

@@ -1,7 +1,8 @@
 import { describe, expect, it } from 'vitest';
 import { screenLayout } from '../../src/ui/screen-layout.js';
 import { shardTableView } from '../../src/ui/shard-rows-view.js';
-import type { ScreenContext, ShardCandidate, WindowView } from '../../src/ui/view-common.js';
+import type { ShardCandidate } from '../../src/judge/shard-candidates.js';
+import type { ScreenContext, WindowView } from '../../src/ui/view-common.js';
 
 const context: ScreenContext = {
   sourceLabel: 'file counts.jsonl',

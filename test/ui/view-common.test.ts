@@ -1,25 +1,5 @@
 import { describe, expect, it } from 'vitest';
-import {
-  compareIds,
-  findingLegend,
-  findingSymbols,
-  label,
-  legendItems,
-} from '../../src/ui/view-common.js';
-
-describe('compareIds', () => {
-  it('reading order: seat-2 before seat-10 (the doc comment’s example)', () => {
-    expect(compareIds('seat-2', 'seat-10')).toBeLessThan(0);
-    expect(['seat-10', 'seat-2', 'seat-1', 'b', 'a'].sort(compareIds)).toEqual([
-      'a',
-      'b',
-      'seat-1',
-      'seat-2',
-      'seat-10',
-    ]);
-    expect(compareIds('node-007', 'node-007')).toBe(0);
-  });
-});
+import { findingLegend, findingSymbols, label, legendItems } from '../../src/ui/view-common.js';
 
 describe('label', () => {
   it('a missing id is ?; an id is escaped and cut to 24 cells, the last an ellipsis', () => {
