@@ -29,9 +29,7 @@ port.on('message', (window: ClosedWindow) => {
     if (window.counts.length > universe.size) universe.growNumbered(window.counts.length);
     reply = { judgement: judge.judge(window) };
   } catch (error) {
-    reply = {
-      error: error instanceof Error ? (error.stack ?? error.message) : String(error),
-    };
+    reply = { error: error instanceof Error ? error.message : String(error) };
   }
   port.postMessage(reply);
 });

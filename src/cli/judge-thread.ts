@@ -7,6 +7,9 @@ import type { WindowJudge } from '../judge/judging-pipeline.js';
 import type { ClosedWindow } from '../window/event-time-window.js';
 import type { DeclaredUniverse } from '../window/shard-universe.js';
 
+/** Said with a failure of the thread: how to judge without it. */
+const inlineHint = ' (--judge-inline judges on the reading thread)';
+
 /** What the judging thread posts back for each window, in the order posted. */
 export type JudgeThreadReply = { readonly judgement: Judgement } | { readonly error: string };
 
@@ -67,11 +70,17 @@ export class JudgeThread implements WindowJudge {
       if (this.waiting.length === 0) this.worker.unref();
       if (next === undefined) return;
       if ('judgement' in reply) next.resolve(reply.judgement);
-      else next.reject(new Error(`judging thread: ${reply.error}`));
+      else next.reject(new Error(`the judging thread failed: ${reply.error}${inlineHint}`));
     });
-    this.worker.on('error', (error) => this.fail(error));
+    this.worker.on('error', (error) =>
+      this.fail(
+        new Error(`the judging thread failed: ${error.message}${inlineHint}`, { cause: error }),
+      ),
+    );
     this.worker.on('exit', (code) => {
-      if (!this.closed) this.fail(new Error(`judging thread stopped (exit code ${code})`));
+      if (!this.closed) {
+        this.fail(new Error(`the judging thread stopped (exit code ${code})${inlineHint}`));
+      }
     });
   }
 

@@ -137,7 +137,9 @@ describe('JudgeThread', () => {
       late: 0,
       rejected: {},
     };
-    await expect(broken.judge(window)).rejects.toThrow(/no-such-worker|Cannot find module/);
+    await expect(broken.judge(window)).rejects.toThrow(
+      /^the judging thread failed: .*(no-such-worker|Cannot find module).* \(--judge-inline judges on the reading thread\)$/s,
+    );
     await broken.close();
     const thread = new JudgeThread(universe.describe()!, settings, entry);
     await thread.close();
