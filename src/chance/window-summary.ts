@@ -1,5 +1,6 @@
 import type { ChanceCache } from './chance-cache.js';
 import { emptyShardMoments, emptyShardsTail } from './empty-shards.js';
+import { LoadExtremes } from './load-extremes.js';
 import { probabilityFromLog } from './log-space.js';
 import { shareOf, type Placement } from './placement.js';
 import { emptiestQuantile, emptiestTail, fullestQuantile, fullestTail } from './shard-extremes.js';
@@ -64,22 +65,11 @@ export function summarizeWindow(
 ): WindowSummary {
   const m = placement.shardCount;
   const n = placement.total;
-  let hi = 0;
-  let lo = 0;
-  let hiRel = -Infinity;
-  let loRel = Infinity;
+  const extremes = new LoadExtremes();
   let empties = 0;
   for (let i = 0; i < m; i++) {
     const expected = n * shareOf(placement, i);
-    const r = expected > 0 ? counts[i] / expected : counts[i] > 0 ? Infinity : 1;
-    if (r > hiRel) {
-      hiRel = r;
-      hi = i;
-    }
-    if (r < loRel) {
-      loRel = r;
-      lo = i;
-    }
+    extremes.see(i, expected > 0 ? counts[i] / expected : counts[i] > 0 ? Infinity : 1);
     if (counts[i] === 0 && expected > 0) empties++;
   }
   const extreme = (
@@ -94,12 +84,16 @@ export function summarizeWindow(
     logP: tail.logProbability,
     method: tail.method,
   });
-  const fullest = extreme(hi, hiRel, fullestTail(placement, hiRel, { cache }));
+  const fullest = extreme(
+    extremes.highest,
+    extremes.highestValue,
+    fullestTail(placement, extremes.highestValue, { cache }),
+  );
   const emptiest = extreme(
-    lo,
-    loRel,
+    extremes.lowest,
+    extremes.lowestValue,
     withEmptyTests
-      ? emptiestTail(placement, loRel, { cache })
+      ? emptiestTail(placement, extremes.lowestValue, { cache })
       : { logProbability: 0, method: 'off' },
   );
   const moments = emptyShardMoments(placement, cache);

@@ -6,7 +6,7 @@ import {
   type OptionContext,
   type ParsedValues,
 } from './kafka-options.js';
-import { duration } from './option-values.js';
+import { duration, refuseGiven } from './option-values.js';
 import type { MergeSettings } from './watch-merge.js';
 
 /** The options of `watch --merge` beside the Kafka connection ones. */
@@ -42,15 +42,11 @@ export function readMergeSettings(
       'needs --merge SUMMARY_TOPIC',
     );
   }
-  for (const name of ['topic', 'input', 'scenario', 'shard-from'] as const) {
-    if (values[name] !== undefined) {
-      throw new UsageError(
-        `--${name}`,
-        String(values[name]),
-        'cannot be combined with --merge (the summaries name their source)',
-      );
-    }
-  }
+  refuseGiven(
+    values,
+    ['topic', 'input', 'scenario', 'shard-from'],
+    'cannot be combined with --merge (the summaries name their source)',
+  );
   if (values.brokers === undefined) {
     throw new UsageError('--merge', topicText, 'needs --brokers');
   }

@@ -6,6 +6,28 @@ import { UsageError } from '../errors/usage-error.js';
  * typo fails at start-up with one line (exit 2) and never halfway through a run.
  */
 
+/**
+ * Refuses options given where they do not apply: the first of `names` present in `values`
+ * (in the order named) throws a UsageError naming it, its value and `reason` (a text, or one
+ * per option).
+ */
+export function refuseGiven<Name extends string>(
+  values: Readonly<Partial<Record<Name, unknown>>>,
+  names: readonly Name[],
+  reason: string | ((name: Name) => string),
+): void {
+  for (const name of names) {
+    const value = values[name];
+    if (value !== undefined) {
+      throw new UsageError(
+        `--${name}`,
+        String(value),
+        typeof reason === 'string' ? reason : reason(name),
+      );
+    }
+  }
+}
+
 /** node:util parseArgs in strict mode, with its errors turned into UsageError. */
 export function parseOptions<T extends NonNullable<ParseArgsConfig['options']>>(
   argv: readonly string[],

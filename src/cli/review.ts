@@ -27,7 +27,7 @@ import {
   parseShardFrom,
   parseTopic,
 } from './kafka-options.js';
-import { duration, parseOptions } from './option-values.js';
+import { duration, parseOptions, refuseGiven } from './option-values.js';
 import { ProgressLine } from './progress-line.js';
 import { PrometheusSource } from '../ingest/prometheus/prometheus-source.js';
 import {
@@ -275,29 +275,26 @@ async function reviewRecording(
   progress: ProgressLine,
   onNote: (note: string) => void,
 ): Promise<ReviewBuilder | null> {
-  for (const name of [
-    'shards',
-    'shard-map',
-    'max-shards',
-    'hop',
-    'lateness',
-    'max-ahead',
-    'no-keys',
-    'since',
-    'until',
-    'topic',
-    'shard-from',
-  ] as const) {
-    if (values[name] !== undefined) {
-      throw new UsageError(
-        `--${name}`,
-        String(values[name]),
-        name === 'hop' || name === 'lateness' || name === 'max-ahead' || name === 'no-keys'
-          ? 'applies only to --input and Kafka (a recording has its windows already)'
-          : 'applies only to --input and Kafka (a recording carries its own universe and source)',
-      );
-    }
-  }
+  refuseGiven(
+    values,
+    [
+      'shards',
+      'shard-map',
+      'max-shards',
+      'hop',
+      'lateness',
+      'max-ahead',
+      'no-keys',
+      'since',
+      'until',
+      'topic',
+      'shard-from',
+    ],
+    (name) =>
+      name === 'hop' || name === 'lateness' || name === 'max-ahead' || name === 'no-keys'
+        ? 'applies only to --input and Kafka (a recording has its windows already)'
+        : 'applies only to --input and Kafka (a recording carries its own universe and source)',
+  );
   for (const path of paths) await checkReadable('--recording', path);
   const windowMs = values.window === undefined ? null : duration('--window', values.window);
   const rejudging =
@@ -423,15 +420,11 @@ async function reviewRecords(
   const kafka = values.brokers !== undefined ? kafkaRange(values, io) : null;
   const promRange = prometheus === null ? null : prometheusRange(values, prometheus, io);
   if (kafka === null && promRange === null) {
-    for (const name of ['since', 'until', 'topic', 'shard-from'] as const) {
-      if (values[name] !== undefined) {
-        throw new UsageError(
-          `--${name}`,
-          String(values[name]),
-          'applies only to a Kafka range (--brokers)',
-        );
-      }
-    }
+    refuseGiven(
+      values,
+      ['since', 'until', 'topic', 'shard-from'],
+      'applies only to a Kafka range (--brokers)',
+    );
     if (values.input !== '-') await checkReadable('--input', values.input as string);
   }
   const { universe, sharesDeclared } = await readUniverseOptions(values, {
@@ -586,20 +579,17 @@ function unequalShares(universe: ShardUniverse, size: number): Float64Array | nu
 /** --since/--until for a Prometheus source; --topic and --shard-from do not apply. */
 function prometheusRange(values: Values, source: ParsedPrometheusSource, io: CommandIO) {
   for (const warning of source.warnings) io.stderr.write(`shardwise review: warning: ${warning}\n`);
-  for (const name of ['topic', 'shard-from'] as const) {
-    if (values[name] !== undefined) {
-      throw new UsageError(
-        `--${name}`,
-        String(values[name]),
-        'applies only to a Kafka range (--brokers)',
-      );
-    }
-  }
+  refuseGiven(values, ['topic', 'shard-from'], 'applies only to a Kafka range (--brokers)');
+  return { source, ...timeRange(values, '--prometheus') };
+}
+
+/** --since (required with `source`) and --until (default now), the range to review. */
+function timeRange(values: Values, source: '--prometheus' | '--brokers') {
   if (values.since === undefined) {
     throw new UsageError(
       '--since',
       '',
-      'is required with --prometheus (the start of the range to review)',
+      `is required with ${source} (the start of the range to review)`,
     );
   }
   const sinceMs = instant('--since', values.since);
@@ -607,7 +597,7 @@ function prometheusRange(values: Values, source: ParsedPrometheusSource, io: Com
   if (untilMs <= sinceMs) {
     throw new UsageError('--until', values.until ?? 'now', `is not after --since ${values.since}`);
   }
-  return { source, sinceMs, untilMs };
+  return { sinceMs, untilMs };
 }
 
 function kafkaRange(values: Values, io: CommandIO) {
@@ -617,18 +607,7 @@ function kafkaRange(values: Values, io: CommandIO) {
   );
   for (const warning of warnings) io.stderr.write(`shardwise review: warning: ${warning}\n`);
   if (values.topic === undefined) throw new UsageError('--topic', '', 'is required with --brokers');
-  if (values.since === undefined) {
-    throw new UsageError(
-      '--since',
-      '',
-      'is required with --brokers (the start of the range to review)',
-    );
-  }
-  const sinceMs = instant('--since', values.since);
-  const untilMs = values.until === undefined ? Date.now() : instant('--until', values.until);
-  if (untilMs <= sinceMs) {
-    throw new UsageError('--until', values.until ?? 'now', `is not after --since ${values.since}`);
-  }
+  const { sinceMs, untilMs } = timeRange(values, '--brokers');
   return {
     connection,
     topic: parseTopic(values.topic),

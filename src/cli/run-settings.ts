@@ -7,7 +7,7 @@ import type { RecordedSettings } from '../record/recording-line.js';
 import type { ReviewSettings } from '../review/review-model.js';
 import { UsageError } from '../errors/usage-error.js';
 import type { ShardUniverse } from '../window/shard-universe.js';
-import { wholeNumber } from './option-values.js';
+import { refuseGiven, wholeNumber } from './option-values.js';
 
 /** Key analysis settings: sketch sizes and re-placement simulations. */
 export interface KeySettings {
@@ -44,11 +44,7 @@ export interface KeyOptionValues {
 export function readKeySettings(values: KeyOptionValues): KeySettings | null {
   const names = ['key-counters', 'key-registers', 'key-simulations'] as const;
   if (values['no-keys'] === true) {
-    for (const name of names) {
-      if (values[name] !== undefined) {
-        throw new UsageError(`--${name}`, values[name], 'cannot be combined with --no-keys');
-      }
-    }
+    refuseGiven(values, names, 'cannot be combined with --no-keys');
     return null;
   }
   const counters =

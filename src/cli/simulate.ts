@@ -15,7 +15,7 @@ import { csvHeader, encodeCsvLine, encodeJsonLine } from '../ingest/encode.js';
 import { runScenario, type PlantedEvent } from '../scenario/scenario-run.js';
 import { UsageError } from '../errors/usage-error.js';
 import type { Command } from './command.js';
-import { parseOptions } from './option-values.js';
+import { parseOptions, refuseGiven } from './option-values.js';
 import { durationOption, scenarioNamed, seedOption, startOption } from './scenario-options.js';
 
 const help = `Usage: shardwise simulate --scenario NAME (--to FILE|- | --to kafka --brokers H:P --topic T) [options]
@@ -92,10 +92,7 @@ export const simulateCommand: Command = {
     const durationMs = durationOption(values.duration, definition.suggestedDurationMs);
     const run = runScenario(definition, { seed, startMs, durationMs });
     if (to === 'kafka') return simulateToKafka(values, run, io);
-    for (const name of ['brokers', 'topic', 'pace'] as const) {
-      if (values[name] !== undefined)
-        throw new UsageError(`--${name}`, String(values[name]), 'applies only to --to kafka');
-    }
+    refuseGiven(values, ['brokers', 'topic', 'pace'], 'applies only to --to kafka');
 
     const out = to === '-' ? io.stdout : await openForWriting(to);
     const encode = format === 'csv' ? encodeCsvLine : encodeJsonLine;

@@ -32,7 +32,7 @@ import type { Command, CommandIO } from './command.js';
 import { summaryOf } from './command-list.js';
 import { readUniverseOptions, readWindowOptions, windowOptionSpec } from './window-options.js';
 import { judgeOptionSpec, readJudgeSettings } from './judge-options.js';
-import { byteSize, duration, parseOptions } from './option-values.js';
+import { byteSize, duration, parseOptions, refuseGiven } from './option-values.js';
 import {
   kafkaSourceOptionSpec,
   parseKafkaSource,
@@ -187,15 +187,11 @@ async function readPlan(values: Values, io: CommandIO): Promise<WatchPlan> {
   let universe: ShardUniverse | null;
   let sharesDeclared: boolean;
   if (values.scenario !== undefined) {
-    for (const name of ['shards', 'shard-map'] as const) {
-      if (values[name] !== undefined) {
-        throw new UsageError(
-          `--${name}`,
-          values[name],
-          'cannot be combined with --scenario (the scenario declares its shards)',
-        );
-      }
-    }
+    refuseGiven(
+      values,
+      ['shards', 'shard-map'],
+      'cannot be combined with --scenario (the scenario declares its shards)',
+    );
     const definition = scenarioNamed(values.scenario);
     const pace = values.pace ?? 'real-time';
     if (pace !== 'real-time' && pace !== 'fast') {
@@ -218,11 +214,7 @@ async function readPlan(values: Values, io: CommandIO): Promise<WatchPlan> {
     universe = run.universe;
     sharesDeclared = true;
   } else {
-    for (const name of ['seed', 'duration', 'start', 'pace'] as const) {
-      if (values[name] !== undefined) {
-        throw new UsageError(`--${name}`, values[name], 'applies only to --scenario');
-      }
-    }
+    refuseGiven(values, ['seed', 'duration', 'start', 'pace'], 'applies only to --scenario');
     if (values.merge !== undefined || values['merge-deadline'] !== undefined) {
       const { settings, warnings } = readMergeSettings(values, { env: io.env });
       for (const warning of warnings) io.stderr.write(`shardwise watch: warning: ${warning}\n`);
@@ -275,11 +267,7 @@ async function readPlan(values: Values, io: CommandIO): Promise<WatchPlan> {
   const metricsHostValue = metricsHost(values['metrics-host']);
   const metricsPortValue = metricsPort(values['metrics-port']);
   if (values['no-metrics'] === true) {
-    for (const name of ['metrics-port', 'metrics-host'] as const) {
-      if (values[name] !== undefined) {
-        throw new UsageError(`--${name}`, values[name], 'cannot be combined with --no-metrics');
-      }
-    }
+    refuseGiven(values, ['metrics-port', 'metrics-host'], 'cannot be combined with --no-metrics');
   }
   return {
     source,
@@ -296,17 +284,11 @@ async function readPlan(values: Values, io: CommandIO): Promise<WatchPlan> {
 
 /** --offsets-only reads end offsets only: no group, no start, no records, no keys. */
 function checkOffsetsOnly(values: Values): void {
-  for (const name of ['group', 'from', 'shard-from', 'shards', 'shard-map'] as const) {
-    if (values[name] !== undefined) {
-      throw new UsageError(
-        `--${name}`,
-        values[name],
-        name === 'shards' || name === 'shard-map'
-          ? "cannot be combined with --offsets-only (the shards are the topic's partitions)"
-          : 'cannot be combined with --offsets-only (no message is read)',
-      );
-    }
-  }
+  refuseGiven(values, ['group', 'from', 'shard-from', 'shards', 'shard-map'], (name) =>
+    name === 'shards' || name === 'shard-map'
+      ? "cannot be combined with --offsets-only (the shards are the topic's partitions)"
+      : 'cannot be combined with --offsets-only (no message is read)',
+  );
 }
 
 async function checkReadable(path: string): Promise<void> {

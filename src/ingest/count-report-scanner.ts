@@ -62,9 +62,7 @@ function scanCountReport(
   at = scanDigits(bytes, at, end);
   if (at < 0) return false;
   const ts = digitsValue(bytes, tsStart, at);
-  at = skipSpace(bytes, at, end);
-  if (at >= end || bytes[at] !== comma) return false;
-  at = scanKey(bytes, skipSpace(bytes, at + 1, end), end, shardName);
+  at = scanNextKey(bytes, at, end, shardName);
   if (at < 0 || at >= end || bytes[at] !== quoteMark) return false;
   const shardStart = at + 1;
   let hash = idHashStart;
@@ -76,9 +74,7 @@ function scanCountReport(
     hash = hashIdByte(hash, byte);
   }
   const shardEnd = at;
-  at = skipSpace(bytes, at + 1, end);
-  if (at >= end || bytes[at] !== comma) return false;
-  at = scanKey(bytes, skipSpace(bytes, at + 1, end), end, countName);
+  at = scanNextKey(bytes, at + 1, end, countName);
   if (at < 0) return false;
   const countStart = at;
   at = scanDigits(bytes, at, end);
@@ -127,6 +123,18 @@ function scanKey(bytes: Uint8Array, start: number, end: number, name: readonly n
   const at = skipSpace(bytes, start + name.length + 2, end);
   if (at >= end || bytes[at] !== colon) return -1;
   return skipSpace(bytes, at + 1, end);
+}
+
+/** After a value at `start`: optional space, a comma, then the key `name` as {@link scanKey} matches it; -1 if not there. */
+function scanNextKey(
+  bytes: Uint8Array,
+  start: number,
+  end: number,
+  name: readonly number[],
+): number {
+  const at = skipSpace(bytes, start, end);
+  if (at >= end || bytes[at] !== comma) return -1;
+  return scanKey(bytes, skipSpace(bytes, at + 1, end), end, name);
 }
 
 function skipSpace(bytes: Uint8Array, start: number, end: number): number {

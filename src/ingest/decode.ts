@@ -44,18 +44,8 @@ export function decodeJsonLine(line: string, sink: RecordSink, fallbackTs = Numb
     sink.reject('line too long');
     return;
   }
-  let value: unknown;
-  try {
-    value = JSON.parse(line);
-  } catch {
-    sink.reject('not JSON');
-    return;
-  }
-  if (value === null || typeof value !== 'object' || Array.isArray(value)) {
-    sink.reject('wrong type');
-    return;
-  }
-  const fields = value as Record<string, unknown>;
+  const fields = parseRecordObject(line, sink);
+  if (fields === undefined) return;
   const batch = fields.counts;
   if (batch !== undefined && (fields.shard !== undefined || fields.count !== undefined)) {
     sink.reject('wrong type');
@@ -68,31 +58,58 @@ export function decodeJsonLine(line: string, sink: RecordSink, fallbackTs = Numb
     sink.reject('wrong type');
     return;
   }
-  const ts = readTimestamp(fields.ts, fallbackTs);
-  if (Number.isNaN(ts)) {
-    sink.reject('bad timestamp');
-    return;
-  }
+  const ts = readTimestamp(fields.ts, fallbackTs, sink);
+  if (Number.isNaN(ts)) return;
   if (batch !== undefined) {
     for (const [shard, count] of Object.entries(batch as Record<string, unknown>)) {
       emitChecked(ts, shard, count, undefined, sink);
     }
     return;
   }
-  const shard = readShard(fields.shard);
-  if (shard === undefined) {
-    sink.reject(
-      fields.shard === undefined || fields.shard === null ? 'missing shard' : 'wrong type',
-    );
-    return;
+  const shard = readShard(fields.shard, sink);
+  if (shard === undefined) return;
+  emitRecordFields(ts, shard, fields, sink);
+}
+
+/**
+ * A JSON record's text parsed: its fields, or undefined when it is "not JSON" or not an
+ * object ("wrong type"), said to `sink`. The first step of every JSON decoding path (file and
+ * Kafka), after the length check each makes in its own unit.
+ */
+export function parseRecordObject(
+  text: string,
+  sink: RecordSink,
+): Record<string, unknown> | undefined {
+  let value: unknown;
+  try {
+    value = JSON.parse(text);
+  } catch {
+    sink.reject('not JSON');
+    return undefined;
   }
+  if (value === null || typeof value !== 'object' || Array.isArray(value)) {
+    sink.reject('wrong type');
+    return undefined;
+  }
+  return value as Record<string, unknown>;
+}
+
+/**
+ * The last step of a JSON record whose `ts` and shard are read: its `key` (a string; null or
+ * absent is none) and `count` (absent: 1, a request event) go to {@link emitChecked}.
+ */
+export function emitRecordFields(
+  ts: number,
+  shard: string,
+  fields: Record<string, unknown>,
+  sink: RecordSink,
+): void {
   const key = fields.key;
   if (key !== undefined && key !== null && typeof key !== 'string') {
     sink.reject('wrong type');
     return;
   }
-  const count = fields.count === undefined ? 1 : fields.count;
-  emitChecked(ts, shard, count, key ?? undefined, sink);
+  emitChecked(ts, shard, fields.count === undefined ? 1 : fields.count, key ?? undefined, sink);
 }
 
 /** The columns of a record CSV file, by position; -1 where a column is absent. */
@@ -160,17 +177,29 @@ export function decodeCsvLine(line: string, columns: CsvColumns, sink: RecordSin
   emitChecked(ts, fields[columns.shard], count, key, sink);
 }
 
-function readTimestamp(value: unknown, fallbackTs: number): number {
-  if (value === undefined || value === null)
-    return Number.isFinite(fallbackTs) ? checkEpochMs(fallbackTs) : Number.NaN;
-  if (typeof value === 'number') return checkEpochMs(value);
-  if (typeof value === 'string') return parseIsoTimestamp(value);
-  return Number.NaN;
+/**
+ * A JSON record's `ts` field as epoch ms: a number of ms or ISO-8601 text with a zone;
+ * `fallbackTs` when it is absent or null (NaN: there is none). NaN when it is none of these,
+ * said to `sink` as "bad timestamp".
+ */
+export function readTimestamp(value: unknown, fallbackTs: number, sink: RecordSink): number {
+  let ts = Number.NaN;
+  if (value === undefined || value === null) ts = checkEpochMs(fallbackTs);
+  else if (typeof value === 'number') ts = checkEpochMs(value);
+  else if (typeof value === 'string') ts = parseIsoTimestamp(value);
+  if (Number.isNaN(ts)) sink.reject('bad timestamp');
+  return ts;
 }
 
-function readShard(value: unknown): string | undefined {
+/**
+ * A JSON record's shard field as an id: a string, or a whole number >= 0 (a partition number)
+ * kept as text. Undefined when it is absent or null ("missing shard") or anything else
+ * ("wrong type"), said to `sink`.
+ */
+export function readShard(value: unknown, sink: RecordSink): string | undefined {
   if (typeof value === 'string') return value;
   if (typeof value === 'number' && Number.isSafeInteger(value) && value >= 0) return String(value);
+  sink.reject(value === undefined || value === null ? 'missing shard' : 'wrong type');
   return undefined;
 }
 

@@ -60,18 +60,31 @@ export interface SourceStart {
 
 const onePartition: SourceStart = { partitions: 1, backlogPartitions: [], judgedThrough: null };
 
-/** A record file, or standard input for `-` (then live: it may pause and go on). */
-export function fileRecordSource(path: string, stdin?: Readable): RecordSource {
-  const file = new FileSource(path, path === '-' && stdin !== undefined ? { stream: stdin } : {});
+/** A source of one partition with no offsets to commit and no backlog to tell: a file or a scenario. */
+function singlePartitionSource(
+  label: string,
+  live: boolean,
+  reader: Pick<RecordSource, 'batches' | 'close'>,
+): RecordSource {
   return {
-    label: path === '-' ? 'standard input' : `file ${path}`,
-    live: path === '-',
+    label,
+    live,
     open: () => Promise.resolve(onePartition),
-    batches: () => file.batches(),
-    close: () => file.close(),
+    batches: () => reader.batches(),
+    close: () => reader.close(),
     markJudgedUpTo() {},
     backlogged: () => false,
   };
+}
+
+/** A record file, or standard input for `-` (then live: it may pause and go on). */
+export function fileRecordSource(path: string, stdin?: Readable): RecordSource {
+  const file = new FileSource(path, path === '-' && stdin !== undefined ? { stream: stdin } : {});
+  return singlePartitionSource(
+    path === '-' ? 'standard input' : `file ${path}`,
+    path === '-',
+    file,
+  );
 }
 
 /** A built-in simulated cluster, paced in real time (live) or as fast as drawn. */
@@ -80,16 +93,7 @@ export function scenarioRecordSource(
   pace: 'real-time' | 'fast',
   label: string,
 ): RecordSource {
-  const scenario = new ScenarioSource(run, { pace });
-  return {
-    label,
-    live: pace === 'real-time',
-    open: () => Promise.resolve(onePartition),
-    batches: () => scenario.batches(),
-    close: () => scenario.close(),
-    markJudgedUpTo() {},
-    backlogged: () => false,
-  };
+  return singlePartitionSource(label, pace === 'real-time', new ScenarioSource(run, { pace }));
 }
 
 /**

@@ -37,37 +37,7 @@ export function warmCeiling(
   const start = Number.isFinite(guess)
     ? Math.max(least + 1, Math.min(total, Math.round(guess)))
     : least + 1;
-  let low: number;
-  let high: number;
-  if (exceeds(start)) {
-    low = start;
-    for (let width = 1; ; width *= 2) {
-      const next = Math.min(total, low + width);
-      if (!exceeds(next)) {
-        high = next;
-        break;
-      }
-      low = next;
-      if (low === total) return total / fair;
-    }
-  } else {
-    high = start;
-    low = least;
-    for (let width = 1; high - width > least; width *= 2) {
-      const next = high - width;
-      if (exceeds(next)) {
-        low = next;
-        break;
-      }
-      high = next;
-    }
-  }
-  while (high - low > 1) {
-    const mid = Math.floor((low + high) / 2);
-    if (exceeds(mid)) low = mid;
-    else high = mid;
-  }
-  return high / fair;
+  return gallopThenBisect(exceeds, least, total, start, true) / fair;
 }
 
 /**
@@ -91,33 +61,58 @@ export function warmFloor(
   // as the upper end without testing it, and so does this search.
   const most = Math.floor(fair);
   const start = Number.isFinite(guess) ? Math.max(1, Math.min(most, Math.round(guess))) : most;
-  let low = 0;
-  let high = most;
-  if (start < most && below(start)) {
-    low = start;
-    for (let width = 1; low + width < most; width *= 2) {
-      const next = low + width;
-      if (!below(next)) {
-        high = next;
-        break;
-      }
-      low = next;
-    }
-  } else if (start < most) {
-    high = start;
-    for (let width = 1; high - width > 0; width *= 2) {
-      const next = high - width;
-      if (below(next)) {
+  return gallopThenBisect(below, 0, most, start, false) / fair;
+}
+
+/**
+ * The one search of both: the least whole count above `lowest` at which `holds` fails, for
+ * a `holds` that is true up to some count and false from there on. From `start` it gallops
+ * (steps 1, 2, 4, ...) up while `holds` and down while not, then bisects the bracket found.
+ * `lowest` is taken to hold and never asked. `highest` is the answer when nothing below it
+ * fails; it is asked (as the last step up, or as `start`) only when `askHighest`, and when it
+ * then holds, it is the answer too. O(log |answer - start|) calls of `holds`.
+ */
+function gallopThenBisect(
+  holds: (count: number) => boolean,
+  lowest: number,
+  highest: number,
+  start: number,
+  askHighest: boolean,
+): number {
+  let low = lowest;
+  let high = highest;
+  if (start < highest || askHighest) {
+    if (holds(start)) {
+      low = start;
+      for (let width = 1; ; width *= 2) {
+        let next = low + width;
+        if (next >= highest) {
+          if (!askHighest) break;
+          next = highest;
+        }
+        if (!holds(next)) {
+          high = next;
+          break;
+        }
         low = next;
-        break;
+        if (low === highest) return highest;
       }
-      high = next;
+    } else {
+      high = start;
+      for (let width = 1; high - width > lowest; width *= 2) {
+        const next = high - width;
+        if (holds(next)) {
+          low = next;
+          break;
+        }
+        high = next;
+      }
     }
   }
   while (high - low > 1) {
     const mid = Math.floor((low + high) / 2);
-    if (below(mid)) low = mid;
+    if (holds(mid)) low = mid;
     else high = mid;
   }
-  return high / fair;
+  return high;
 }

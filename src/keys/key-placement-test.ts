@@ -1,3 +1,4 @@
+import { LoadExtremes } from '../chance/load-extremes.js';
 import { probabilityFromLog } from '../chance/log-space.js';
 import type { Placement } from '../chance/placement.js';
 import { emptiestTail, fullestTail } from '../chance/shard-extremes.js';
@@ -73,24 +74,14 @@ export function keyPlacementTest(
   const keys = Math.max(1, Math.round(total));
   const placement: Placement = { total: keys, shardCount: m, shares };
   const widen = sketchMargin * counts.standardError;
-  let high = 0;
-  let low = 0;
-  let highTested = -Infinity;
-  let lowTested = Infinity;
+  const extremes = new LoadExtremes();
   for (let index = 0; index < m; index++) {
     const expected = keys * (shares === null ? 1 / m : shares[index]);
     const observed = counts.distinct[index] / expected;
     const exact = counts.exact[index];
     const towardHigh = exact ? observed : observed / (1 + widen);
     const towardLow = exact ? observed : observed / Math.max(1 - widen, 1e-9);
-    if (towardHigh > highTested) {
-      highTested = towardHigh;
-      high = index;
-    }
-    if (towardLow < lowTested) {
-      lowTested = towardLow;
-      low = index;
-    }
+    extremes.see(index, towardHigh, towardLow);
   }
   const extreme = (index: number, tested: number, side: 'high' | 'low'): KeyExtreme => {
     const expected = keys * (shares === null ? 1 / m : shares[index]);
@@ -108,8 +99,8 @@ export function keyPlacementTest(
   const spread = spreadTest(placement, counts.distinct);
   return {
     keys,
-    fullest: extreme(high, highTested, 'high'),
-    emptiest: extreme(low, lowTested, 'low'),
+    fullest: extreme(extremes.highest, extremes.highestValue, 'high'),
+    emptiest: extreme(extremes.lowest, extremes.lowestValue, 'low'),
     phi: spread.dispersion,
     spreadP: allExact ? probabilityFromLog(spread.logProbability) : null,
     margin: sketchMargin,

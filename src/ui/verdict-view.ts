@@ -1,4 +1,4 @@
-import type { Finding } from '../judge/judgement.js';
+import type { ExtremeShardVerdict, Finding, LoadLevel } from '../judge/judgement.js';
 import type { KeyCause } from '../judge/key-verdict.js';
 import {
   formatClock,
@@ -120,19 +120,7 @@ export function verdictView(
   if (j.fullest !== null) {
     sentences.push({
       finding: 'hotspot',
-      parts: [
-        {
-          text: `Fullest ${label(j.fullest.shard)}: ${formatCount(j.fullest.count)} req, ${formatRelative(j.fullest.relative)} fair share`,
-          short: `Fullest ${label(j.fullest.shard)}: ${formatRelative(j.fullest.relative)} fair share`,
-          rank: 0,
-        },
-        {
-          text: `chance ceiling ${formatRelative(j.ceiling.relative)}${j.ceiling.requests !== null ? ` (${formatCount(j.ceiling.requests)} req)` : ''}`,
-          short: `chance ceiling ${formatRelative(j.ceiling.relative)}`,
-          rank: 2,
-        },
-        { text: `${pStatement(j.fullest.p ?? 1)}`, rank: 1 },
-      ],
+      parts: extremeParts('Fullest', j.fullest, 'chance ceiling', j.ceiling),
     });
   }
   // What made it hot, from the keys: right after the fullest shard's sentence.
@@ -144,19 +132,7 @@ export function verdictView(
     });
   }
   if (j.findings.includes('cold') && j.emptiest !== null && j.floor !== null) {
-    const parts: LinePart[] = [
-      {
-        text: `Emptiest ${label(j.emptiest.shard)}: ${formatCount(j.emptiest.count)} req, ${formatRelative(j.emptiest.relative)} fair share`,
-        short: `Emptiest ${label(j.emptiest.shard)}: ${formatRelative(j.emptiest.relative)} fair share`,
-        rank: 0,
-      },
-      {
-        text: `chance floor ${formatRelative(j.floor.relative)}${j.floor.requests !== null ? ` (${formatCount(j.floor.requests)} req)` : ''}`,
-        short: `chance floor ${formatRelative(j.floor.relative)}`,
-        rank: 2,
-      },
-      { text: `${pStatement(j.emptiest.p ?? 1)}`, rank: 1 },
-    ];
+    const parts = extremeParts('Emptiest', j.emptiest, 'chance floor', j.floor);
     if (j.empty.observed > 0) {
       parts.push({
         text: `${j.empty.observed} empty, ${formatPlain(j.empty.expected)} expected, ${pStatement(j.empty.p ?? 1)}`,
@@ -309,6 +285,31 @@ export function verdictView(
  * shard id (keys come from the wire too). Words: "hot key", "moved", "placement", as in the
  * verdict stream.
  */
+/**
+ * The evidence on one side: the fullest or emptiest shard and its relative load (rank 0), the
+ * chance ceiling or floor it is judged against (rank 2), its p-value (rank 1).
+ */
+function extremeParts(
+  side: 'Fullest' | 'Emptiest',
+  shard: ExtremeShardVerdict,
+  boundName: 'chance ceiling' | 'chance floor',
+  bound: LoadLevel,
+): LinePart[] {
+  return [
+    {
+      text: `${side} ${label(shard.shard)}: ${formatCount(shard.count)} req, ${formatRelative(shard.relative)} fair share`,
+      short: `${side} ${label(shard.shard)}: ${formatRelative(shard.relative)} fair share`,
+      rank: 0,
+    },
+    {
+      text: `${boundName} ${formatRelative(bound.relative)}${bound.requests !== null ? ` (${formatCount(bound.requests)} req)` : ''}`,
+      short: `${boundName} ${formatRelative(bound.relative)}`,
+      rank: 2,
+    },
+    { text: `${pStatement(shard.p ?? 1)}`, rank: 1 },
+  ];
+}
+
 function causeParts(cause: KeyCause, wide: boolean): LinePart[] {
   const top: LinePart[] =
     cause.topKey === null

@@ -4,7 +4,8 @@
 // stable across versions unlike the message text.
 import * as nodeUtil from 'node:util';
 import { afterEach, describe, expect, it, vi } from 'vitest';
-import { parseOptions } from '../../src/cli/option-values.js';
+import { parseOptions, refuseGiven } from '../../src/cli/option-values.js';
+import { UsageError } from '../../src/errors/usage-error.js';
 
 vi.mock('node:util', async (importOriginal) => {
   const actual = await importOriginal<typeof import('node:util')>();
@@ -73,5 +74,41 @@ describe('parseOptions', () => {
       throw Object.assign(new TypeError('reworded by a later Node'), { code });
     });
     expect(messageOf(argv)).toBe(message);
+  });
+});
+
+// refuseGiven: the rule of DEVELOPERS.md ("a bad setting fails at start-up with a UsageError
+// naming the option and the value"), for options given where they do not apply.
+describe('refuseGiven', () => {
+  function refusal(run: () => void): UsageError | 'none' {
+    try {
+      run();
+    } catch (error) {
+      return error as UsageError;
+    }
+    return 'none';
+  }
+
+  it('passes when none of the options is given', () => {
+    expect(refusal(() => refuseGiven({ seed: undefined }, ['seed', 'pace'], 'x'))).toBe('none');
+  });
+
+  it('names the first option given, in the order named, with its value and the reason', () => {
+    const error = refusal(() =>
+      refuseGiven({ pace: 'fast', seed: '7' }, ['seed', 'pace'], 'applies only to --scenario'),
+    );
+    expect(error).toBeInstanceOf(UsageError);
+    expect((error as UsageError).option).toBe('--seed');
+    expect((error as UsageError).value).toBe('7');
+    expect((error as UsageError).message).toContain('applies only to --scenario');
+  });
+
+  it('takes a reason per option, and a flag given reads as true', () => {
+    const error = refusal(() =>
+      refuseGiven({ 'no-keys': true }, ['hop', 'no-keys'], (name) => `reason for ${name}`),
+    );
+    expect((error as UsageError).option).toBe('--no-keys');
+    expect((error as UsageError).value).toBe('true');
+    expect((error as UsageError).message).toContain('reason for no-keys');
   });
 });

@@ -1,8 +1,16 @@
 import { longestShardId } from '../../window/count-record.js';
 import { decodeJsonBytes } from '../count-report-scanner.js';
-import { emitChecked, longestLine, type RecordSink } from '../decode.js';
+import {
+  emitChecked,
+  emitRecordFields,
+  longestLine,
+  parseRecordObject,
+  readShard,
+  readTimestamp,
+  type RecordSink,
+} from '../decode.js';
 import { hashIdByte, idHashStart, ShardIdCache } from '../shard-id-cache.js';
-import { checkEpochMs, parseIsoTimestamp } from '../timestamp.js';
+import { checkEpochMs } from '../timestamp.js';
 import { decodeUtf8Marked } from '../utf8-text.js';
 
 /**
@@ -129,58 +137,15 @@ function decodeShardless(
     sink.reject('line too long');
     return;
   }
-  let parsed: unknown;
-  try {
-    parsed = JSON.parse(decodeUtf8Marked(value));
-  } catch {
-    sink.reject('not JSON');
-    return;
-  }
-  if (parsed === null || typeof parsed !== 'object' || Array.isArray(parsed)) {
-    sink.reject('wrong type');
-    return;
-  }
-  const fields = parsed as Record<string, unknown>;
+  const fields = parseRecordObject(decodeUtf8Marked(value), sink);
+  if (fields === undefined) return;
   if (fields.counts !== undefined) {
     sink.reject('wrong type');
     return;
   }
-  const ts = readTimestamp(fields.ts, messageTs);
-  if (Number.isNaN(ts)) {
-    sink.reject('bad timestamp');
-    return;
-  }
-  let id = shard;
-  if (shardField !== undefined) {
-    const raw = fields[shardField];
-    if (raw === undefined || raw === null) {
-      sink.reject('missing shard');
-      return;
-    }
-    if (typeof raw === 'string') id = raw;
-    else if (typeof raw === 'number' && Number.isSafeInteger(raw) && raw >= 0) id = String(raw);
-    else {
-      sink.reject('wrong type');
-      return;
-    }
-  }
-  const key = fields.key;
-  if (key !== undefined && key !== null && typeof key !== 'string') {
-    sink.reject('wrong type');
-    return;
-  }
-  emitChecked(
-    ts,
-    id as string,
-    fields.count === undefined ? 1 : fields.count,
-    (key as string | null | undefined) ?? undefined,
-    sink,
-  );
-}
-
-function readTimestamp(value: unknown, fallbackTs: number): number {
-  if (value === undefined || value === null) return checkEpochMs(fallbackTs);
-  if (typeof value === 'number') return checkEpochMs(value);
-  if (typeof value === 'string') return parseIsoTimestamp(value);
-  return Number.NaN;
+  const ts = readTimestamp(fields.ts, messageTs, sink);
+  if (Number.isNaN(ts)) return;
+  const id = shardField === undefined ? shard : readShard(fields[shardField], sink);
+  if (id === undefined) return;
+  emitRecordFields(ts, id, fields, sink);
 }
