@@ -3,6 +3,7 @@ import { ReadStream } from 'node:tty';
 import type { SourceItem } from '../ingest/file-source.js';
 import type { KafkaSourceEvent } from '../ingest/kafka/events.js';
 import type { JudgingPipeline } from '../judge/judging-pipeline.js';
+import { loadTerminalScreen } from '../ui/load-terminal-screen.js';
 import { ScreenController } from '../ui/screen-controller.js';
 import { SourceMeter } from '../ui/source-meter.js';
 import type { TerminalScreen, TerminalScreenOptions } from '../ui/terminal-screen.js';
@@ -80,7 +81,7 @@ export class WatchScreen {
    * run with `--no-ui` never loads them.
    */
   static async open(options: WatchScreenOptions): Promise<WatchScreen> {
-    const { openTerminalScreen } = await import('../ui/terminal-screen.js');
+    const { openTerminalScreen } = await loadTerminalScreen();
     return new WatchScreen(options, openTerminalScreen);
   }
 

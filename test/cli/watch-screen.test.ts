@@ -1,26 +1,19 @@
 // watch with the live screen, through main() on a pretend terminal: the screen comes up
 // on the alternate buffer, shows the verdicts, answers q, and gives the terminal back;
-// without a terminal watch falls back to JSON Lines and says so. Ink draws nothing live
-// when CI is set (it only prints the last frame), so this file clears that first and loads
-// the CLI afterwards.
+// without a terminal watch falls back to JSON Lines and says so. CI is set, as on a build
+// machine: Ink left to itself would then draw nothing live (only the last frame, at exit),
+// and watch loads it so that it draws.
 import { PassThrough, Readable } from 'node:stream';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import type { main as mainFunction } from '../../src/cli/main.js';
+import { main } from '../../src/cli/main.js';
 
-let main: typeof mainFunction;
-const ciSettings = {
-  CI: process.env.CI,
-  CONTINUOUS_INTEGRATION: process.env.CONTINUOUS_INTEGRATION,
-};
-beforeAll(async () => {
-  delete process.env.CI;
-  delete process.env.CONTINUOUS_INTEGRATION;
-  ({ main } = await import('../../src/cli/main.js'));
+const ciBefore = process.env.CI;
+beforeAll(() => {
+  process.env.CI = 'true';
 });
 afterAll(() => {
-  for (const [name, value] of Object.entries(ciSettings)) {
-    if (value !== undefined) process.env[name] = value;
-  }
+  if (ciBefore === undefined) delete process.env.CI;
+  else process.env.CI = ciBefore;
 });
 
 /** A terminal of the given size: what Ink needs of standard output and input. */

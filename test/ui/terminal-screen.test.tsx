@@ -1,8 +1,9 @@
 import { EventEmitter } from 'node:events';
-import { describe, expect, it, vi } from 'vitest';
+import { afterAll, beforeAll, describe, expect, it, vi } from 'vitest';
+import { loadTerminalScreen } from '../../src/ui/load-terminal-screen.js';
 import { ScreenController } from '../../src/ui/screen-controller.js';
 import { SourceMeter } from '../../src/ui/source-meter.js';
-import { openTerminalScreen } from '../../src/ui/terminal-screen.js';
+import type { openTerminalScreen as openTerminalScreenFunction } from '../../src/ui/terminal-screen.js';
 import { context } from './judged-windows.js';
 import { ManualScheduler } from './manual-scheduler.js';
 
@@ -62,6 +63,22 @@ class FakeKeys extends EventEmitter {
     this.emit('readable');
   }
 }
+
+// The screen is loaded as `watch` loads it, with CI set as on a build machine (and in
+// shells that carry a build job's variables): Ink, left to itself, would then draw nothing
+// until it is unmounted. Measured on main before the loader: the first three tests failed
+// whenever CI was set.
+let openTerminalScreen: typeof openTerminalScreenFunction;
+const ciBefore = process.env.CI;
+beforeAll(async () => {
+  process.env.CI = 'true';
+  ({ openTerminalScreen } = await loadTerminalScreen());
+  expect(process.env.CI).toBe('true');
+});
+afterAll(() => {
+  if (ciBefore === undefined) delete process.env.CI;
+  else process.env.CI = ciBefore;
+});
 
 /** Lets Ink's input handling and React's commit run. */
 const settle = () => new Promise<void>((resolve) => setTimeout(resolve, 20));
