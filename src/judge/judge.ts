@@ -151,6 +151,15 @@ export class Judge {
         `baseline learning (${nullShares.baseline.learnedWindows} of ${nullShares.baseline.neededWindows} windows): judged against the declared shares; what happens now is learned as usual load`,
       );
     }
+    const inexact = firstInexactCount(counts);
+    if (inexact >= 0) {
+      // The sources refuse such counts; a caller of this class might not. Every method in
+      // src/chance counts whole requests: a negative count would be judged as a cold shard.
+      notes.push(
+        `not judged: shard ${this.universe.idAt(inexact)} has the count ${counts[inexact]}, not a whole number of at least 0`,
+      );
+      return this.quietWindow(window, m, coldTests, nullShares, notes, [], 'counts not exact');
+    }
     if (!Number.isSafeInteger(n)) {
       // Counts above 2^53 - 1 are no longer whole numbers in a double: neighbours collapse
       // (2^53 + 1 reads as 2^53), so the counts may not even add up to the total, and every
@@ -423,6 +432,7 @@ export class Judge {
     nullShares: NullShares,
     notes: string[],
     findings: Finding[] = ['too little traffic'],
+    inexact = 'total not exact',
   ): Judgement {
     this.sequential?.reset();
     const update = this.tracker.update(window.start, [], [], true);
@@ -444,7 +454,7 @@ export class Judge {
       ...(nullShares.baseline === undefined ? {} : { baseline: nullShares.baseline }),
       spreadMode: this.settings.spread === 'robust' ? 'robust' : 'exact',
       spreadReason:
-        findings.length > 0 ? 'no requests: nothing to judge' : 'total not exact: not judged',
+        findings.length > 0 ? 'no requests: nothing to judge' : `${inexact}: not judged`,
       findings,
       pattern: null,
       fullest: null,
@@ -650,4 +660,13 @@ const noShards: ReadonlySet<number> = new Set();
 let nextJudgeKey = 0;
 function iso(ms: number): string {
   return new Date(ms).toISOString();
+}
+
+/** The index of the first count that is not a whole number of at least 0, or -1. */
+function firstInexactCount(counts: ArrayLike<number>): number {
+  for (let shard = 0; shard < counts.length; shard++) {
+    const count = counts[shard];
+    if (!(count >= 0 && Number.isInteger(count))) return shard;
+  }
+  return -1;
 }
