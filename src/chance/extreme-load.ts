@@ -283,11 +283,15 @@ function normalComplementTail(
  * Last resort where neither Levin's box, nor the normal limit, nor thirdOrderTail is usable
  * (more shards than those take, N p in the trillions, a cut near the fair share: the cut laws
  * keep skewed shapes however large N is, so the Edgeworth step does not converge, and the
- * exact convolution is out of reach): the tail is reported as its lower
- * bound max(largest single tail, S1 - S1^2 / 2) (Bonferroni with negatively associated
- * counts; S1 - S1^2 / 2 only while S1 <= 1), method `lower-bound`, with the relative gap to
- * the upper bound min(1, S1) as its error. This happens only where the tail is above the
- * switch-over (0.03 and more), so no finding at an alpha below 0.03 changes with it.
+ * exact convolution is out of reach): the tail is reported as its lower bound
+ * 1 - prod_i (1 - T_i), T_i the single tails, method `lower-bound`, with the relative gap to
+ * the upper bound min(1, S1) as its error. Multinomial counts are negatively associated
+ * (Joag-Dev and Proschan 1983), so P(no shard reaches its threshold) = P(all X_i < c_i) is
+ * at most prod_i P(X_i < c_i); the bound is at least S1 - S1^2 / 2 (Bonferroni) and the
+ * largest single tail. Just past certainty (thresholds that the N requests only just fail
+ * to fill) it is 1 within 1e-300 where the largest single tail is near 1/2. This happens
+ * only where the tail is above the switch-over (0.03 and more), so no finding at an alpha
+ * below 0.03 changes with it.
  */
 function bonferroniLowerBound(
   side: Side,
@@ -296,14 +300,15 @@ function bonferroniLowerBound(
   failed: TailProbability,
 ): TailProbability {
   let logS1 = -Infinity;
-  let logLargest = -Infinity;
+  // log prod_i (1 - T_i)^count: the upper bound on P(no shard reaches its threshold).
+  let logNone = 0;
   for (const g of groups) {
+    if (g.count === 0) continue;
     const t = singleLogTail(side, total, g);
-    logLargest = Math.max(logLargest, t);
     logS1 = logAddExp(logS1, Math.log(g.count) + t);
+    logNone += g.count * log1mExp(t);
   }
-  const s1 = Math.exp(logS1);
-  const logLower = Math.max(logLargest, s1 <= 1 ? Math.log(s1 - (s1 * s1) / 2) : -Infinity);
+  const logLower = log1mExp(logNone);
   const logUpper = Math.min(0, logS1);
   if (!Number.isFinite(logLower)) return failed;
   return {
