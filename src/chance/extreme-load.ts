@@ -306,7 +306,7 @@ function bonferroniLowerBound(
     if (g.count === 0) continue;
     const t = singleLogTail(side, total, g);
     logS1 = logAddExp(logS1, Math.log(g.count) + t);
-    logNone += g.count * log1mExp(t);
+    logNone += g.count * log1mExp(Math.min(t, 0));
   }
   const logLower = log1mExp(logNone);
   const logUpper = Math.min(0, logS1);
@@ -665,7 +665,11 @@ function sweptComplementBox(
     const gap = total - kappa[0];
     const variance = kappa[1];
     if (!(variance > 0)) return null;
-    if (Math.abs(gap) <= 1e-3 * Math.sqrt(variance) || step === 7)
+    // Newton's last step is taken within a standard deviation of N (the Edgeworth density
+    // holds there); further off, the sweep's cumulants have left their range (a cut many
+    // standard deviations from the rate) and the sweep refuses.
+    const settled = Math.abs(gap) <= 1e-3 * Math.sqrt(variance);
+    if (settled || (step === 7 && Math.abs(gap) <= Math.sqrt(variance)))
       return {
         box: edgeworthBoxFromSums(total, rate * shareSum, cuts.logMassSum, kappa, SWEEP_ERROR),
         tailSum,
