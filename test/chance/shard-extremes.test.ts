@@ -11,6 +11,7 @@ import {
 } from '../../src/chance/shard-extremes.js';
 import { RandomDraws } from '../../src/scenario/random-draws.js';
 import { huge, reference, relativeError } from './reference-data.js';
+import weightedMeans from './reference/weighted-means.json' with { type: 'json' };
 
 const TOLERANCE = 1e-3; // docs/model.md accuracy bar: relative error <= 1e-3 for p in [1e-15, 1]
 
@@ -305,6 +306,32 @@ describe('1e5 unequal shares near the fair share', () => {
       const tail = emptiestTail(placement, u);
       expect(tail.logProbability).toBeLessThanOrEqual(0);
       expect(tail.logProbability).toBeGreaterThan(-1e-12);
+    }
+  }, 60_000);
+});
+
+describe('means of the fullest and emptiest relative loads on unequal shares', () => {
+  // Reference: reference/weighted-means.json from make-weighted-mean-reference.py (scipy
+  // 1.17.1 binom.pmf summed over every outcome for two and three shards; numpy Monte Carlo
+  // with its standard error for 200 shards).
+  it('equal the exact sums over every outcome for two and three shards', () => {
+    // Measured on main before the step-by-step sum: off by up to 2e-4 (3 shards, N = 300),
+    // the trapezoid rule on 1025 tails.
+    for (const c of weightedMeans.exact) {
+      const placement = makePlacement(c.requests, c.weights.length, Float64Array.from(c.weights));
+      expect(relativeError(fullestMean(placement), c.max)).toBeLessThan(1e-9);
+      expect(relativeError(emptiestMean(placement), c.min)).toBeLessThan(1e-9);
+    }
+  });
+
+  it('agree with Monte Carlo on 200 shards at N / m = 100, within 4 standard errors', () => {
+    for (const c of weightedMeans.sampled) {
+      const weights = Float64Array.from({ length: 200 }, (_, i) =>
+        c.weightsRule.startsWith('1 + (i mod 5)') ? 1 + (i % 5) / 4 : 1 + i / 199,
+      );
+      const placement = makePlacement(c.requests, 200, weights);
+      expect(Math.abs(fullestMean(placement) - c.max)).toBeLessThan(4 * c.maxSe);
+      expect(Math.abs(emptiestMean(placement) - c.min)).toBeLessThan(4 * c.minSe);
     }
   }, 60_000);
 });

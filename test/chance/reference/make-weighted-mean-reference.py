@@ -1,0 +1,75 @@
+#!/usr/bin/env python3
+"""Reference means of the fullest and emptiest shards' relative loads on unequal shares.
+
+Run:  python3 test/chance/reference/make-weighted-mean-reference.py \
+        > test/chance/reference/weighted-means.json      (about a minute)
+Needs: pip install numpy scipy==1.17.1 (from PyPI).
+
+Nothing here shares code with src/chance. r_i = X_i / (N p_i), (X_i) ~ Multinomial(N, p).
+- exact: two and three shards, E[max r] and E[min r] summed over every outcome. Two shards:
+  X_1 ~ Binomial(N, p_1), X_2 = N - X_1. Three: X_1 ~ Binomial(N, p_1), then
+  X_2 | X_1 ~ Binomial(N - X_1, p_2 / (p_2 + p_3)), X_3 the rest (scipy.stats.binom.pmf,
+  summed in double precision: relative error below 1e-12).
+- sampled: many shards, by Monte Carlo with numpy's multinomial sampler (PCG64, seed 7),
+  with the standard error of the sample mean; a check of the order of 1e-4, no more.
+"""
+import json
+
+import numpy as np
+from scipy.stats import binom
+
+
+def exact_two(n, w):
+    p = np.array(w, float) / sum(w)
+    lam = n * p
+    x = np.arange(n + 1)
+    pm = binom.pmf(x, n, p[0])
+    r = np.stack([x / lam[0], (n - x) / lam[1]])
+    return float(np.dot(pm, r.max(0))), float(np.dot(pm, r.min(0)))
+
+
+def exact_three(n, w):
+    p = np.array(w, float) / sum(w)
+    lam = n * p
+    emax = emin = 0.0
+    pm1 = binom.pmf(np.arange(n + 1), n, p[0])
+    for a in range(n + 1):
+        rest = n - a
+        x2 = np.arange(rest + 1)
+        pm2 = binom.pmf(x2, rest, p[1] / (p[1] + p[2]))
+        r = np.stack([np.full(rest + 1, a / lam[0]), x2 / lam[1], (rest - x2) / lam[2]])
+        emax += pm1[a] * np.dot(pm2, r.max(0))
+        emin += pm1[a] * np.dot(pm2, r.min(0))
+    return float(emax), float(emin)
+
+
+def sampled(n, w, draws):
+    rng = np.random.default_rng(7)
+    p = np.array(w, float) / sum(w)
+    lam = n * p
+    maxes = np.empty(draws)
+    mins = np.empty(draws)
+    for start in range(0, draws, 10000):
+        x = rng.multinomial(n, p, size=min(10000, draws - start)) / lam
+        maxes[start : start + len(x)] = x.max(1)
+        mins[start : start + len(x)] = x.min(1)
+    se = lambda v: float(v.std(ddof=1) / np.sqrt(draws))
+    return float(maxes.mean()), se(maxes), float(mins.mean()), se(mins)
+
+
+out = {"exact": [], "sampled": []}
+for n, w in [(1000, [1, 3]), (20, [2, 5]), (300, [1, 2, 3]), (3000, [1, 2, 3])]:
+    emax, emin = exact_two(n, w) if len(w) == 2 else exact_three(n, w)
+    out["exact"].append({"requests": n, "weights": w, "max": emax, "min": emin})
+# 200 shards, N / m = 100 (the staircase regime): five share classes (weights 1, 1.25, ..., 2
+# in turn), and 200 distinct shares (weights 1 + i / 199).
+for rule, w in [
+    ("1 + (i mod 5) / 4 for i < 200", [1 + (i % 5) / 4 for i in range(200)]),
+    ("1 + i / 199 for i < 200", [1 + i / 199 for i in range(200)]),
+]:
+    mx, mxse, mn, mnse = sampled(20000, w, 400000)
+    out["sampled"].append(
+        {"requests": 20000, "weightsRule": rule, "max": mx, "maxSe": mxse, "min": mn,
+         "minSe": mnse, "draws": 400000}
+    )
+print(json.dumps(out, indent=2))
