@@ -16,6 +16,7 @@ import {
   fullestMean,
   fullestQuantile,
 } from '../src/chance/shard-extremes.js';
+import { RandomDraws } from '../src/scenario/random-draws.js';
 import { median, summaryRow } from './summary-row.js';
 
 const repeats = Number(process.argv[2] ?? 3);
@@ -63,6 +64,41 @@ for (const [shards, requests] of cases) {
       'well under 1 s',
     );
   }
+}
+
+// Weighted shares (`odds --shard-map`): demo maps of hash-range sizes, a ring with 16 random
+// tokens per shard (gamma(16) shares), the same work as above with the map's shares.
+function ringWeights(m: number, seed: number): Float64Array {
+  const draws = new RandomDraws(seed);
+  return Float64Array.from({ length: m }, () => {
+    let w = 0;
+    for (let t = 0; t < 16; t++) w -= Math.log(1 - draws.uniform());
+    return w;
+  });
+}
+function weightedSummary(weights: Float64Array, requests: number): void {
+  const placement = makePlacement(requests, weights.length, weights);
+  for (const level of [0.5, 0.9, 0.99, 0.999]) fullestQuantile(placement, level);
+  for (const level of [0.001, 0.01, 0.1, 0.5]) emptiestQuantile(placement, level);
+  fullestMean(placement);
+  emptiestMean(placement);
+}
+console.log('\nodds compute on a weighted map, in process (one run each, fresh shares)\n');
+console.log('| shards | requests | ms |');
+console.log('| --- | --- | --- |');
+for (const [shards, requests] of [
+  [3, 3000],
+  [1000, 1e6],
+  [10_000, 1e6],
+  [10_000, 1e9],
+  [100_000, 1e9],
+] as const) {
+  const started = performance.now();
+  weightedSummary(ringWeights(shards, 5), requests);
+  const took = performance.now() - started;
+  console.log(`| ${shards} | ${requests} | ${took.toFixed(0)} |`);
+  if (shards === 100_000)
+    summaryRow(`odds compute, weighted map, ${shards} x ${requests}`, `${took.toFixed(0)} ms`, '');
 }
 
 const cli = join(root, 'dist', 'cli', 'main.js');
