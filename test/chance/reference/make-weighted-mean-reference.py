@@ -43,8 +43,8 @@ def exact_three(n, w):
     return float(emax), float(emin)
 
 
-def sampled(n, w, draws):
-    rng = np.random.default_rng(7)
+def sampled(n, w, draws, seed=7):
+    rng = np.random.default_rng(seed)
     p = np.array(w, float) / sum(w)
     lam = n * p
     maxes = np.empty(draws)
@@ -58,7 +58,17 @@ def sampled(n, w, draws):
 
 
 out = {"exact": [], "sampled": []}
-for n, w in [(1000, [1, 3]), (20, [2, 5]), (300, [1, 2, 3]), (3000, [1, 2, 3])]:
+# The last three: a shard of 1e-9 of the traffic beside one of 1e-3, whose few requests
+# read as relative loads of 1e6 and more.
+for n, w in [
+    (1000, [1, 3]),
+    (20, [2, 5]),
+    (300, [1, 2, 3]),
+    (3000, [1, 2, 3]),
+    (1, [0.000001, 1, 1000]),
+    (7, [0.000001, 1, 1000]),
+    (1000, [0.000001, 1, 1000]),
+]:
     emax, emin = exact_two(n, w) if len(w) == 2 else exact_three(n, w)
     out["exact"].append({"requests": n, "weights": w, "max": emax, "min": emin})
 # 200 shards, N / m = 100 (the staircase regime): five share classes (weights 1, 1.25, ..., 2
@@ -71,5 +81,12 @@ for rule, w in [
     out["sampled"].append(
         {"requests": 20000, "weightsRule": rule, "max": mx, "maxSe": mxse, "min": mn,
          "minSe": mnse, "draws": 400000}
+    )
+# The same three shares at N = 1e6 and 1e9, too many outcomes to sum: sampled.
+for n in (10**6, 10**9):
+    mx, mxse, mn, mnse = sampled(n, [0.000001, 1, 1000], 10**7, seed=11)
+    out["sampled"].append(
+        {"requests": n, "weights": [0.000001, 1, 1000], "max": mx, "maxSe": mxse, "min": mn,
+         "minSe": mnse, "draws": 10**7}
     )
 print(json.dumps(out, indent=2))
