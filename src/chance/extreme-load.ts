@@ -483,6 +483,11 @@ function pairSumTail(
   // Groups join in the order of their tails until the guess for the pairs outside is
   // bounded by PAIR_SUM_TARGET relative (P >= S1 (1 - S1 / 2)), or PAIR_GROUPS have joined.
   for (let x = 0; x < order.length && x < PAIR_GROUPS; x++) {
+    // A group whose tail is below e^-700 of S1 adds under e^-700 S1^2 in pairs: it and the
+    // rest (sorted) are left to restScaled, already 0 to double precision. Their joint
+    // tails, astronomically far out, are not asked for (they came out NaN: 5000 equal shares
+    // at 25 times their fair share beside one of 2e-13, N = 1e12).
+    if (logTails[order[x]] - logS1 < -700) break;
     const a = live[order[x]];
     if (a.count >= 2) {
       const joint = jointLogTail(side, total, [{ ...a, count: 2 }], options);
@@ -538,7 +543,10 @@ function pairEstimatedTail(
   pair: { groups: ThresholdGroup[]; logProduct: number },
   options: BoxOptions,
 ): TailProbability {
-  const logIndependent = logDifference(2 * logS1, logSumSquares) - Math.LN2;
+  // (S1^2 - sum T_i^2) / 2: none when one shard holds all of S1 (then rounding can put the
+  // sum of squares a hair above S1^2, and the difference would be NaN).
+  const logIndependent =
+    logSumSquares >= 2 * logS1 ? -Infinity : logDifference(2 * logS1, logSumSquares) - Math.LN2;
   const logRatio = Math.min(0, jointLogTail(side, total, pair.groups, options) - pair.logProduct);
   const value = logDifference(logS1, logIndependent + logRatio);
   return {
@@ -586,7 +594,9 @@ export function sweptShardTail(
     options.firstOrder && options.quick ? PRUNE_QUICK : PRUNE_EXACT,
     chanceCacheOr(options.cache),
   );
-  if (sums === null) return null;
+  // Sums that are not numbers (seen on 5000 equal shares beside one of 2e-13 at N = 1e12,
+  // 25 times the fair share, where the sweep's terms underflow): the sweep refuses.
+  if (sums === null || Number.isNaN(sums.logSum) || Number.isNaN(sums.logSumSquares)) return null;
   if (sums.certain) return { logProbability: 0, method: 'certain', relativeError: 0 };
   const logS1 = sums.logSum;
   if (logS1 === -Infinity)

@@ -343,3 +343,23 @@ describe('means of the fullest and emptiest relative loads on unequal shares', (
     }
   }, 60_000);
 });
+
+describe('5000 equal shares beside one of 2e-13, N = 1e12', () => {
+  it('the fullest tail far out is the tiny shard own tail, a number, and the mean is finite', () => {
+    // At 25 times the fair share no large shard can reach its threshold (log tail about
+    // -1.1e10); the tail is the tiny shard's, P(X >= 5) for X ~ Binomial(1e12, 1e-9 /
+    // (5000 + 1e-9)): 2.2581905529348883e-6 by scipy.stats.binom.sf 1.17.1 (computed
+    // offline). Measured on main before the fix: NaN (its pair sums asked for joint tails
+    // of the large shards that far out), and the fullest mean NaN with it.
+    const weights = new Float64Array(5001).fill(1);
+    weights[5000] = 1e-9;
+    const placement = makePlacement(1e12, 5001, weights);
+    const tail = fullestTail(placement, 24.999742745046937);
+    expect(relativeError(Math.exp(tail.logProbability), 2.2581905529348883e-6)).toBeLessThan(1e-3);
+    const mean = fullestMean(placement);
+    // E[max r] >= E[r] of the tiny shard, which is 1, plus the large shards' fullest load
+    // when the tiny shard holds nothing (probability e^-0.2, load about 1): about 1.82.
+    expect(mean).toBeGreaterThan(1.8);
+    expect(mean).toBeLessThan(1.84);
+  }, 60_000);
+});
