@@ -9,6 +9,7 @@ import { causeText, isRetriable, KafkaIngestError } from './errors.js';
 import type { KafkaSourceEvent, KafkaSourceListener } from './events.js';
 import { KafkaMessageDecoder, type ShardFrom } from './message-decoder.js';
 import { PartitionAlignment } from './partition-alignment.js';
+import { FetchStaleness } from './fetch-staleness.js';
 import { OffsetLedger } from './offset-ledger.js';
 import {
   backoffDelay,
@@ -100,7 +101,11 @@ export class KafkaSource implements AsyncIterable<SourceItem> {
   private delivering = false;
   private paused = new Set<number>();
   private readonly bufferedThrough = new Map<number, number>();
-  private readonly lastFetched = new Map<number, number>();
+  /**
+   * Quiet partitions, on a clock that runs while batches come: a gap between two batches
+   * counts for at most 1 s (live fetches return every maxWaitTime, 500 ms by default).
+   */
+  private readonly staleness = new FetchStaleness(1000);
   /** With `untilMs`: per partition, the first offset not to read. */
   private readonly endOffsets = new Map<number, number>();
   private readonly counters = {
@@ -359,9 +364,7 @@ export class KafkaSource implements AsyncIterable<SourceItem> {
       this.alignment.reassigned(held);
       this.bufferedThrough.clear();
       this.paused.clear();
-      const now = Date.now();
-      this.lastFetched.clear();
-      for (const partition of held) this.lastFetched.set(partition, now);
+      this.staleness.reset(held, Date.now());
       if (held.length > 0) consumer.resume([{ topic: this.topic, partitions: [...held] }]);
       this.seekUncommitted(consumer, held);
       this.emit({
@@ -487,7 +490,7 @@ export class KafkaSource implements AsyncIterable<SourceItem> {
       this.counters.redeliveriesSkipped += duplicates;
       this.emit({ type: 'redelivery-skipped', partition, messages: duplicates });
     }
-    this.lastFetched.set(partition, Date.now());
+    this.staleness.fetched(partition, Date.now());
     this.alignment.append(
       partition,
       fresh,
@@ -600,20 +603,19 @@ export class KafkaSource implements AsyncIterable<SourceItem> {
 
   /**
    * Run on the commit interval: a partition that said it had more but has
-   * delivered nothing for a long while stops holding the others back (see
+   * delivered nothing while the others kept delivering for a long while stops
+   * holding the others back (see {@link FetchStaleness} and
    * {@link PartitionAlignment.markCaughtUp}), and whatever that frees is
    * handed on.
    */
   private tickAlignment(): void {
-    const now = Date.now();
     const staleAfter = Math.max(5000, 10 * (this.options.maxWaitTimeMs ?? 500));
     let released = false;
-    for (const [partition, fetchedAt] of this.lastFetched) {
-      if (now - fetchedAt > staleAfter && !this.alignment.hasBuffered(partition)) {
-        this.alignment.markCaughtUp(partition);
-        this.lastFetched.delete(partition);
-        released = true;
-      }
+    for (const partition of this.staleness.stale(staleAfter, (p) =>
+      this.alignment.hasBuffered(p),
+    )) {
+      this.alignment.markCaughtUp(partition);
+      released = true;
     }
     // Also hands on what a skipped delivery left buffered.
     if ((released || this.alignment.buffered.length > 0) && !this.closed && !this.ended) {
