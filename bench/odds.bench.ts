@@ -10,12 +10,8 @@ import { dirname, join } from 'node:path';
 import { fileURLToPath } from 'node:url';
 import { emptyShardMoments } from '../src/chance/empty-shards.js';
 import { makePlacement } from '../src/chance/placement.js';
-import {
-  emptiestMean,
-  emptiestQuantile,
-  fullestMean,
-  fullestQuantile,
-} from '../src/chance/shard-extremes.js';
+import { emptiestQuantile, fullestQuantile } from '../src/chance/shard-extremes.js';
+import { emptiestMean, fullestMean } from '../src/chance/extreme-means.js';
 import { RandomDraws } from '../src/scenario/random-draws.js';
 import { median, summaryRow } from './summary-row.js';
 

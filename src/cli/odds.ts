@@ -1,13 +1,12 @@
 import { emptyShardMoments, emptyShardsTail } from '../chance/empty-shards.js';
 import { makePlacement, type Placement } from '../chance/placement.js';
 import {
-  emptiestMean,
   emptiestQuantile,
   emptiestTail,
-  fullestMean,
   fullestQuantile,
   fullestTail,
 } from '../chance/shard-extremes.js';
+import { emptiestMean, fullestMean } from '../chance/extreme-means.js';
 import { readShardMapFile } from '../ingest/shard-map-file.js';
 import { UsageError } from '../errors/usage-error.js';
 import type { Command } from './command.js';

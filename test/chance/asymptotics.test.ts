@@ -1,7 +1,8 @@
 import { describe, expect, it } from 'vitest';
 import { gonnetExpectedMaximum, raabStegerMaximum } from '../../src/chance/asymptotics.js';
 import { makePlacement } from '../../src/chance/placement.js';
-import { fullestMean, fullestQuantile } from '../../src/chance/shard-extremes.js';
+import { fullestQuantile } from '../../src/chance/shard-extremes.js';
+import { fullestMean } from '../../src/chance/extreme-means.js';
 
 describe('asymptotic cross-checks (shown in plan, never used for verdicts)', () => {
   it('Gonnet (1981): E[max] for N = m is Gamma^-1(m) - 3/2 + o(1); the exact mean is within 0.5 at m = 1e5', () => {

@@ -14,10 +14,10 @@ import { makePlacement, shareClasses } from '../../src/chance/placement.js';
 import {
   emptiestQuantile,
   emptiestTail,
-  fullestMean,
   fullestQuantile,
   fullestTail,
 } from '../../src/chance/shard-extremes.js';
+import { fullestMean } from '../../src/chance/extreme-means.js';
 import { shareSweep } from '../../src/chance/share-sweep/sorted-shares.js';
 import { summarizeWindow } from '../../src/chance/window-summary.js';
 
