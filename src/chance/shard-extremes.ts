@@ -1,10 +1,6 @@
 import type { BoxOptions } from './box-probability.js';
-import {
-  anyShardTail,
-  sweptShardTail,
-  type TailProbability,
-  type ThresholdGroup,
-} from './extreme-load.js';
+import { anyShardTail, type TailProbability, type ThresholdGroup } from './extreme-load.js';
+import { sweptShardTail } from './swept-tail.js';
 import type { ChanceCache } from './chance-cache.js';
 import { shareSweep, thresholdAt, type ShareSweep } from './share-sweep/sorted-shares.js';
 import { roundingSlack, shareClasses, type Placement } from './placement.js';

@@ -1,6 +1,7 @@
 import { existsSync, readFileSync } from 'node:fs';
 import { describe, expect, it } from 'vitest';
-import { anyShardTail, sweptShardTail } from '../../src/chance/extreme-load.js';
+import { anyShardTail } from '../../src/chance/extreme-load.js';
+import { sweptShardTail } from '../../src/chance/swept-tail.js';
 import { makePlacement, roundingSlack, shareClasses } from '../../src/chance/placement.js';
 import { shareSweep, type Side } from '../../src/chance/share-sweep/sorted-shares.js';
 import { sweepTails } from '../../src/chance/share-sweep/tail-sums.js';
