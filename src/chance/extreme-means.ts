@@ -254,7 +254,7 @@ function monotoneTrapezoid(
     }
   };
   halveAll();
-  let before = rule();
+  const before = rule();
   halveAll();
   let estimate = rule();
   if (Math.abs(estimate - before) <= tolerance(estimate)) return estimate;
@@ -275,7 +275,6 @@ function monotoneTrapezoid(
     if (!(x > xs[worst] && x < xs[worst + 1])) break;
     xs.splice(worst + 1, 0, x);
     ys.splice(worst + 1, 0, f(x));
-    before = estimate;
     estimate = rule();
   }
   return estimate;
