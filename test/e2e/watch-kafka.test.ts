@@ -5,7 +5,12 @@ import { dirname, join } from 'node:path';
 import { fileURLToPath } from 'node:url';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { brokerList } from './kafka-env.js';
-import { produceMessages, produceWithKcat, TopicPool } from './kafka-fixtures.js';
+import {
+  produceMessages,
+  produceWithKcat,
+  readLinesWithKcat,
+  TopicPool,
+} from './kafka-fixtures.js';
 
 // `shardwise watch --brokers` end to end: the built CLI reads a topic filled from a scenario
 // file and must print the same verdicts as `watch --input` on that file (the file run is the
@@ -145,6 +150,15 @@ describe('watch --brokers (real broker)', () => {
     writeFileSync(file, lines.join('\n') + '\n');
     const topic = await pool.fresh('kcat-backlog', 4);
     await produceWithKcat(topic, keyed);
+    // The premise, checked on the topic itself: each partition holds its reporters' batches
+    // in file order (a producer that reorders a partition makes its records rightly late).
+    const written = await readLinesWithKcat(topic);
+    expect([...written.values()].reduce((sum, held) => sum + held.length, 0)).toBe(keyed.length);
+    for (const [partition, held] of written) {
+      const reporters = new Set(held.map((line) => line.slice(0, line.indexOf('\t'))));
+      const inFileOrder = keyed.filter((line) => reporters.has(line.slice(0, line.indexOf('\t'))));
+      expect(held, `partition ${partition} as written`).toEqual(inFileOrder);
+    }
     const common = ['--shards', 's-00..s-63', '--lateness', '0s', '--no-ui', '--no-metrics'];
     const fromFile = verdictsFromFile(file, common);
     expect(fromFile).toHaveLength(250);
