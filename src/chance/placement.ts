@@ -16,20 +16,23 @@ export interface Placement {
 
 /**
  * Tolerance for turning a relative load back into a count (rounding of t N p): a threshold
- * is ceil(t N p - 1e-9 max(1, t N p)) on the high side and floor(t N p + ...) on the low side,
+ * is ceil(t N p - 1e-9 t N p) on the high side and floor(t N p + ...) on the low side,
  * so that a shard's own relative load maps back to its own count.
  */
 export const EXTREME_ROUNDING = 1e-9;
 
 /**
- * The slack of that rounding at position x = t N p, in counts: EXTREME_ROUNDING max(1, x) up
- * to x = 1e6, then 1e-3 + 1e-14 x. A relative load carries about 4 roundings (2e-16 each)
+ * The slack of that rounding at position x = t N p, in counts: EXTREME_ROUNDING x up to
+ * x = 1e6, then 1e-3 + 1e-14 x. A relative load carries about 4 roundings (2e-16 each)
  * back into its count, so 1e-14 x keeps a margin of ten; 1e-9 x would reach 1e6 counts at
  * x = 1e15, 0.03 standard deviations, and move a tail eight standard deviations out by a
- * quarter.
+ * quarter. The slack is relative all the way down: rounding cannot carry a positive x to 0,
+ * and an absolute 1e-9 below x = 1 (as once here) read any x under 1e-9 as a threshold of 0,
+ * "certain": a shard of 1e-9 of the traffic beside two of 1 and 2 made one request's
+ * fullest load "surely" above 3, so the median read 3 where 1.5 is right.
  */
 export function roundingSlack(x: number): number {
-  return Math.min(EXTREME_ROUNDING * Math.max(1, x), 1e-3 + 1e-14 * x);
+  return Math.min(EXTREME_ROUNDING * x, 1e-3 + 1e-14 * x);
 }
 
 /** Shards sharing a share value, with their positions in the universe. */

@@ -335,8 +335,12 @@ function searchRelative(
 }
 
 /**
- * The breakpoint between lo and hi when exactly one share class changes its threshold there
- * (by one count), else null (none or several). O(distinct shares).
+ * The breakpoint between lo and hi when the share classes whose threshold changes there all
+ * change by one count at the same load (within a relative 1e-12), else null (none, a class
+ * moving by more than one count, or breakpoints apart, which the search must separate).
+ * Coinciding breakpoints are common: on shares 1 : 2 every load that is a whole count on the
+ * first is one on the second, and a search that wanted one class alone stopped a relative
+ * 5e-6 above the answer (3.0000147 for 3). O(distinct shares).
  */
 function singleBreakpoint(
   placement: Placement,
@@ -352,18 +356,12 @@ function singleBreakpoint(
   if (sweep !== null) return sweptSingleBreakpoint(sweep, lo, hi, side);
   const low = groups(placement, lo, side, cache);
   const high = groups(placement, hi, side, cache);
-  let changed = -1;
+  const common = new CommonBreakpoint(side);
   for (let g = 0; g < low.length; g++) {
-    if (low[g].threshold !== high[g].threshold) {
-      if (changed >= 0) return null;
-      changed = g;
-    }
+    const expected = placement.total * high[g].share;
+    if (!common.add(low[g].threshold, high[g].threshold, expected)) return null;
   }
-  if (changed < 0 || Math.abs(high[changed].threshold - low[changed].threshold) !== 1) return null;
-  const expected = placement.total * high[changed].share;
-  return side === 'high'
-    ? (high[changed].threshold - 1) / expected
-    : high[changed].threshold / expected;
+  return common.found;
 }
 
 /** singleBreakpoint over a sweep's sorted shares, without building groups. O(m). */
@@ -373,16 +371,33 @@ function sweptSingleBreakpoint(
   hi: number,
   side: 'high' | 'low',
 ): number | null {
-  let found: number | null = null;
+  const common = new CommonBreakpoint(side);
   for (let i = 0; i < sweep.shares.length; i++) {
     const expected = sweep.total * sweep.shares[i];
-    const a = thresholdAt(side, lo * expected);
-    const b = thresholdAt(side, hi * expected);
-    if (a === b) continue;
-    if (found !== null || Math.abs(b - a) !== 1) return null;
-    found = side === 'high' ? (b - 1) / expected : b / expected;
+    if (!common.add(thresholdAt(side, lo * expected), thresholdAt(side, hi * expected), expected))
+      return null;
   }
-  return found;
+  return common.found;
+}
+
+/** The one load at which every changed threshold moves, gathered class by class. */
+class CommonBreakpoint {
+  /** The breakpoint so far (the largest of those within 1e-12 of each other), or null. */
+  found: number | null = null;
+
+  constructor(private readonly side: 'high' | 'low') {}
+
+  /** A class's thresholds at the bracket's ends; false once no single breakpoint can hold. */
+  add(atLo: number, atHi: number, expected: number): boolean {
+    if (atLo === atHi) return true;
+    if (Math.abs(atHi - atLo) !== 1) return false;
+    const at = this.side === 'high' ? (atHi - 1) / expected : atHi / expected;
+    if (this.found === null) this.found = at;
+    else if (Math.abs(at - this.found) <= 1e-12 * Math.max(at, this.found))
+      this.found = Math.max(at, this.found);
+    else return false;
+    return true;
+  }
 }
 
 /** A bracket [lo, hi] of a falling gap: gap(lo) > 0 >= gap(hi). */

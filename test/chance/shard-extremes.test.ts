@@ -10,6 +10,7 @@ import {
 import { emptiestMean, fullestMean } from '../../src/chance/extreme-means.js';
 import { RandomDraws } from '../../src/scenario/random-draws.js';
 import { huge, reference, relativeError } from './reference-data.js';
+import weightedMeans from './reference/weighted-means.json' with { type: 'json' };
 
 const TOLERANCE = 1e-3; // docs/model.md accuracy bar: relative error <= 1e-3 for p in [1e-15, 1]
 
@@ -158,6 +159,47 @@ describe('quantiles and means', () => {
     }
     expect(Math.abs(fullestMean(placement) * fair - max)).toBeLessThan(1e-9 * max);
     expect(Math.abs(emptiestMean(placement) * fair - min)).toBeLessThan(1e-9 * min);
+  });
+});
+
+describe('quantiles on unequal shares, against the whole law (scipy)', () => {
+  // Reference: reference/weighted-means.json `quantiles` from make-weighted-mean-reference.py
+  // (scipy 1.17.1 binom.pmf over every outcome of two or three shards, cumulated in order).
+  it('equal the exact quantiles of the fullest and emptiest relative loads', () => {
+    // Measured on main before: shares 1e-9 : 1 : 2, 1 request, median fullest 3.0000009
+    // (1.5000000005 is right) and 1e-12 : 1 : 1, 2000.009 (2.000000000001); shares 1 : 2,
+    // where two shards' breakpoints coincide, 3.0000147 for 3.000000001, and 1 : 3 at
+    // N = 1000, 1.0200049 for 1.02.
+    for (const c of weightedMeans.quantiles) {
+      const placement = makePlacement(c.requests, c.weights.length, Float64Array.from(c.weights));
+      const label = `N = ${c.requests}, weights ${c.weights.join(' : ')}`;
+      for (const [level, q] of Object.entries(c.fullest)) {
+        const got = fullestQuantile(placement, Number(level));
+        expect(Math.abs(got - q), `fullest ${level}, ${label}: ${got}`).toBeLessThanOrEqual(
+          1e-12 * q,
+        );
+      }
+      for (const [level, q] of Object.entries(c.emptiest)) {
+        const got = emptiestQuantile(placement, Number(level));
+        expect(Math.abs(got - q), `emptiest ${level}, ${label}: ${got}`).toBeLessThanOrEqual(
+          1e-12 * q,
+        );
+      }
+    }
+  });
+
+  it('a shard of 1e-9 of the traffic is not surely above any load (worked by hand)', () => {
+    // One request on shares 1e-9 : 1 : 2: the fullest relative load is 1 / (N p_i) with
+    // probability p_i, so P(max r >= 1.6) = p_2 + p_1 (1/3 and 3.3e-10). Measured on main
+    // before: "certain" (1) for every load up to 3, and up to 2000 on 1e-12 : 1 : 1.
+    const placement = makePlacement(1, 3, Float64Array.from([1e-9, 1, 2]));
+    const sum = 3 + 1e-9;
+    const tail = Math.exp(fullestTail(placement, 1.6).logProbability);
+    expect(relativeError(tail, (1 + 1e-9) / sum)).toBeLessThan(1e-9);
+    const tiny = makePlacement(1, 3, Float64Array.from([1e-12, 1, 1]));
+    expect(
+      relativeError(Math.exp(fullestTail(tiny, 1000).logProbability), 1e-12 / (2 + 1e-12)),
+    ).toBeLessThan(1e-9);
   });
 });
 
