@@ -48,8 +48,10 @@ export function emptyShardMoments(
   for (let a = 0; a < classes.length; a++) {
     const q = Math.exp(logQ[a]);
     mean += classes[a].count * q;
-    variance += classes[a].count * q * (1 - q);
+    variance += classes[a].count * q * -Math.expm1(logQ[a]);
   }
+  // The positive part, for the rounding floor below.
+  const diagonal = variance;
   const c = classes.map((k) => (k.share < 1 ? k.share / (1 - k.share) : Infinity));
   const pairTerm = (a: number, b: number) => {
     const product = c[a] * c[b];
@@ -80,7 +82,10 @@ export function emptyShardMoments(
       variance += coefficient * (linear * linear - square);
     }
   }
-  return { mean, variance: Math.max(variance, 0) };
+  // The diagonal and the (negative) pair terms cancel wherever E is nearly fixed, exactly at
+  // N = 1 (E = m - 1): what is left below 1e-14 of the diagonal is rounding (1.1e-16 on
+  // shares 1e-9 : 1 : 2, printed by odds as a variance), not a spread.
+  return { mean, variance: variance > 1e-14 * diagonal ? variance : 0 };
 }
 
 /**

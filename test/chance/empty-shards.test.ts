@@ -29,6 +29,33 @@ describe('empty shards', () => {
     }
   });
 
+  it('one request leaves exactly m - 1 shards empty: variance 0, not rounding (worked by hand)', () => {
+    // Measured on main before: 1.1e-16 on shares 1e-9 : 1 : 2, which odds printed.
+    for (const weights of [
+      [1e-9, 1, 2],
+      [1, 2, 3, 4],
+      [0.25, 0.25, 0.5],
+    ]) {
+      const moments = emptyShardMoments(makePlacement(1, weights.length, weights));
+      expect(moments.variance).toBe(0);
+      expect(moments.mean).toBeCloseTo(weights.length - 1, 12);
+    }
+    // Two requests on m equal shares: E is m - 1 with chance 1/m, else m - 2, so the
+    // variance is (1/m)(1 - 1/m), about 1/(2m) of the diagonal sum q (1 - q) that cancels
+    // against the pair terms. Measured on main before: 5.6e-8 at m = 1e9 (56 times too
+    // big; 1 - q was formed as 1 - (1 - 1/m)^2). At m = 1e13 it must survive the floor.
+    for (const [m, bar] of [
+      [1e3, 1e-9],
+      [1e6, 1e-6],
+      [1e9, 1e-5],
+      [1e11, 1e-4],
+      [1e13, 1e-2],
+    ]) {
+      const variance = emptyShardMoments(makePlacement(2, m)).variance;
+      expect(relativeError(variance, (1 / m) * (1 - 1 / m)), `m = ${m}`).toBeLessThan(bar);
+    }
+  });
+
   it('the weighted variance formula with equal weights equals the equal-share one (pair sum identity)', () => {
     const weights = new Array(40).fill(1);
     weights[0] = 1 + 1e-12; // forces the weighted path
