@@ -55,6 +55,12 @@ export function summary(
     lines.push(
       `  too late by source partition: ${lateByPartition.map(([partition, count]) => `${partition}: ${count}`).join(', ')}`,
     );
+    const outOfOrder = [...totals.outOfOrderByPartition].sort(([a], [b]) => a - b);
+    if (outOfOrder.length > 0) {
+      lines.push(
+        `    of them out of time order within their own partition (older than records it had already given; --lateness covers disorder up to its length): ${outOfOrder.map(([partition, count]) => `${partition}: ${count}`).join(', ')}`,
+      );
+    }
   }
   lines.push(
     `  incidents: ${incidents.opened.length} opened, ${incidents.cleared} cleared, ${incidents.openAtEnd.length} open at the end`,

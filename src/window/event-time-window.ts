@@ -87,6 +87,13 @@ export interface WindowTotals {
   readonly gapCount: number;
   /** Records that missed every covering window, by source partition. */
   readonly lateByPartition: ReadonlyMap<number, number>;
+  /**
+   * Of those, the records older than one their own partition had already delivered: the
+   * partition itself was out of time order (written so by its producer), which only a
+   * lateness as long as the disorder covers; the rest were late because other partitions
+   * had moved the watermark on (an idle partition's return, a quiet-time close).
+   */
+  readonly outOfOrderByPartition: ReadonlyMap<number, number>;
 }
 
 /** How many skipped gaps the totals keep (the count goes on). */
@@ -161,6 +168,7 @@ export class EventTimeWindows {
   private slowestActive = Number.NEGATIVE_INFINITY;
   private activePartitions = 0;
   private readonly lateByPartition = new Map<number, number>();
+  private readonly outOfOrderByPartition = new Map<number, number>();
   private readonly running = {
     records: 0,
     load: 0,
@@ -302,6 +310,7 @@ export class EventTimeWindows {
       rejected: { ...this.running.rejected },
       gaps: [...this.running.gaps],
       lateByPartition: new Map(this.lateByPartition),
+      outOfOrderByPartition: new Map(this.outOfOrderByPartition),
     };
   }
 
@@ -338,7 +347,7 @@ export class EventTimeWindows {
       if (window === null) {
         window = this.windowFor(lastIndex);
         if (window === null) {
-          this.countLate(count, true, partition);
+          this.countLate(count, true, partition, ts);
           return -1;
         }
       }
@@ -350,7 +359,7 @@ export class EventTimeWindows {
         if (open === null) missed++;
         else addTo(open, index, count);
       }
-      if (missed > 0) this.countLate(count, missed === this.windowsPerRecord, partition);
+      if (missed > 0) this.countLate(count, missed === this.windowsPerRecord, partition, ts);
       if (missed === this.windowsPerRecord) return -1;
     }
     this.running.records++;
@@ -407,13 +416,19 @@ export class EventTimeWindows {
     return created;
   }
 
-  private countLate(count: number, missedAll: boolean, partition: number): void {
+  /** A late record at `ts`, after its partition's clock has taken it in. */
+  private countLate(count: number, missedAll: boolean, partition: number, ts: number): void {
     this.pendingLate += count;
     this.running.late += count;
     this.running.lateRecords++;
     if (missedAll) {
       this.reject('too late');
       this.lateByPartition.set(partition, (this.lateByPartition.get(partition) ?? 0) + 1);
+      // The clock keeps the newest of the partition: newer than ts only if it came before.
+      if (ts < (this.clocks[partition]?.newest ?? ts)) {
+        const before = this.outOfOrderByPartition.get(partition) ?? 0;
+        this.outOfOrderByPartition.set(partition, before + 1);
+      }
     }
   }
 

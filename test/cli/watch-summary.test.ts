@@ -21,6 +21,7 @@ const zero: WindowTotals = {
   gaps: [],
   gapCount: 0,
   lateByPartition: new Map(),
+  outOfOrderByPartition: new Map(),
 };
 
 /** Only what watch-summary reads of a pipeline: its totals and open windows. */
@@ -113,6 +114,7 @@ describe('summary', () => {
             [2, 1],
             [0, 1],
           ]),
+          outOfOrderByPartition: new Map([[2, 1]]),
         },
         2,
       ),
@@ -137,6 +139,7 @@ describe('summary', () => {
       'shardwise watch: 12 windows judged, 47 records read, 900 requests counted',
       '  rejected: 7 (not JSON 5, first on line 2; too late 2, first on line 9); late: 6 requests in 2 records',
       '  too late by source partition: 0: 1, 2: 1',
+      '    of them out of time order within their own partition (older than records it had already given; --lateness covers disorder up to its length): 2: 1',
       '  incidents: 1 opened, 0 cleared, 0 open at the end',
       '    hotspot on db-7\\x1b[2J since 2026-01-01T00:00:10.000Z',
       '  gaps without records, skipped and not judged: 3 (30 windows)',

@@ -184,6 +184,44 @@ describe('watch --brokers (real broker)', () => {
     ).toBe(true);
   });
 
+  it('names a partition written out of time order, whose older records are rightly too late at --lateness 0s', async () => {
+    // Invented data: 4 shards, one record a second each for 100 s, shards a and b on
+    // partition 0 in time order, c and d on partition 1 with seconds 30-49 written after
+    // second 99, as a producer retrying without idempotence can leave them.
+    const start = Date.parse('2026-01-01T00:00:00Z');
+    const record = (second: number, shard: string, partition: number) => {
+      const value = JSON.stringify({ ts: start + second * 1000, shard, count: 5 });
+      return { key: shard, value, partition, timestamp: String(start + second * 1000) };
+    };
+    const seconds = Array.from({ length: 100 }, (_, s) => s);
+    const moved = (s: number) => s >= 30 && s < 50;
+    const partition1 = [...seconds.filter((s) => !moved(s)), ...seconds.filter(moved)];
+    const topic = await pool.fresh('disorder', 2);
+    await produceMessages(topic, [
+      ...seconds.flatMap((s) => [record(s, 'a', 0), record(s, 'b', 0)]),
+      ...partition1.flatMap((s) => [record(s, 'c', 1), record(s, 'd', 1)]),
+    ]);
+    const fromKafka = await verdictsFromKafka(
+      ['--brokers', brokerList().join(','), '--topic', topic, '--from', 'earliest'].concat([
+        '--shards',
+        'a,b,c,d',
+        '--window',
+        '10s',
+        '--lateness',
+        '0s',
+        '--no-ui',
+        '--no-metrics',
+      ]),
+      9,
+    );
+    expect(fromKafka.code).toBe(0);
+    // Seconds 30-49 of c and d come after partition 1 gave second 99: all 40 are too late,
+    // and every one is named as disorder within partition 1; partition 0 lost nothing.
+    expect(fromKafka.err).toMatch(/rejected: 40 \(too late 40\)/);
+    expect(fromKafka.err).toMatch(/too late by source partition: 1: 40\n/);
+    expect(fromKafka.err).toMatch(/out of time order within their own partition .*: 1: 40\n/);
+  });
+
   it('exits 1 naming the brokers when none answers', () => {
     const r = spawnSync(
       'node',

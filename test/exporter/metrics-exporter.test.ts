@@ -24,6 +24,7 @@ const totals: WindowTotals & { recordsSeen: number } = {
   gaps: [],
   gapCount: 0,
   lateByPartition: new Map([[0, 1]]),
+  outOfOrderByPartition: new Map(),
   recordsSeen: 5,
 };
 

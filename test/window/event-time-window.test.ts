@@ -443,6 +443,13 @@ describe('event time per source partition', () => {
     expect(windows.totals.lateRecords).toBe(1);
     expect(windows.totals.lateByPartition.get(1)).toBe(1);
     expect(windows.totals.lateByPartition.get(0)).toBeUndefined();
+    // Late because partition 0 moved on while it was idle, not by its own order (15 s is
+    // its newest yet)...
+    expect(windows.totals.outOfOrderByPartition.size).toBe(0);
+    // ...while 11 s after its own 15 s is disorder within the partition.
+    windows.add(base + 11 * second, 'a', 1, 1);
+    expect(windows.totals.lateByPartition.get(1)).toBe(2);
+    expect([...windows.totals.outOfOrderByPartition]).toEqual([[1, 1]]);
   });
 
   it('never moves the watermark back when a slow partition returns from idle', () => {
