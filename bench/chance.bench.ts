@@ -14,6 +14,7 @@ import { emptyShardsTail } from '../src/chance/empty-shards.js';
 import { makePlacement } from '../src/chance/placement.js';
 import { summarizeWindow } from '../src/chance/window-summary.js';
 import { RandomDraws } from '../src/scenario/random-draws.js';
+import { ringWeights } from './ring-weights.js';
 
 function measure(
   name: string,
@@ -65,17 +66,6 @@ console.log('| --- | --- | --- | --- |');
 measure('equal shares, m = 1e5, N = 1e9', () => windowOf(1e5, 1e9, null, 1), 50);
 measure('equal shares, m = 1e4, N = 1e6', () => windowOf(1e4, 1e6, null, 2), 50);
 measure('equal shares, m = 64, N = 1e5', () => windowOf(64, 1e5, null, 3), 50);
-// Hash-range sizes of a ring with v random tokens per shard: a gamma(v) spread (CV 1/sqrt v).
-function ringWeights(m: number, seed: number, tokensPerShard = 16): Float64Array {
-  const tokens = new RandomDraws(seed);
-  const weights = new Float64Array(m);
-  for (let i = 0; i < m; i++) {
-    let w = 0;
-    for (let t = 0; t < tokensPerShard; t++) w -= Math.log(1 - tokens.uniform());
-    weights[i] = w;
-  }
-  return weights;
-}
 measure(
   'weighted shares (16 tokens per shard), m = 1024, N = 1e7',
   () => windowOf(1024, 1e7, ringWeights(1024, 4), 5),

@@ -17,6 +17,7 @@ import { fileURLToPath } from 'node:url';
 import { setTimeout as sleep } from 'node:timers/promises';
 import { RandomDraws } from '../src/scenario/random-draws.js';
 import { median, summaryRow } from './summary-row.js';
+import { ringWeights } from './ring-weights.js';
 
 const runs = Number(process.argv[2] ?? 3);
 if (!Number.isSafeInteger(runs) || runs < 1) throw new Error('usage: [runs >= 1]');
@@ -27,13 +28,9 @@ if (!existsSync(cli)) throw new Error('no dist/cli/main.js: run `npm run build` 
 const m = 100_000;
 const total = 1e9;
 const dir = mkdtempSync(join(tmpdir(), 'shardwise-warm-up-'));
-const tokens = new RandomDraws(4);
-const weights = new Float64Array(m);
+const weights = ringWeights(m, 4);
 let weightSum = 0;
-for (let shard = 0; shard < m; shard++) {
-  for (let token = 0; token < 16; token++) weights[shard] -= Math.log(1 - tokens.uniform());
-  weightSum += weights[shard];
-}
+for (let shard = 0; shard < m; shard++) weightSum += weights[shard];
 const map = join(dir, 'ring.csv');
 writeFileSync(
   map,

@@ -12,8 +12,8 @@ import { emptyShardMoments } from '../src/chance/empty-shards.js';
 import { makePlacement } from '../src/chance/placement.js';
 import { emptiestQuantile, fullestQuantile } from '../src/chance/shard-extremes.js';
 import { emptiestMean, fullestMean } from '../src/chance/extreme-means.js';
-import { RandomDraws } from '../src/scenario/random-draws.js';
 import { median, summaryRow } from './summary-row.js';
+import { ringWeights } from './ring-weights.js';
 
 const repeats = Number(process.argv[2] ?? 3);
 if (!Number.isSafeInteger(repeats) || repeats < 1) {
@@ -64,14 +64,6 @@ for (const [shards, requests] of cases) {
 
 // Weighted shares (`odds --shard-map`): demo maps of hash-range sizes, a ring with 16 random
 // tokens per shard (gamma(16) shares), the same work as above with the map's shares.
-function ringWeights(m: number, seed: number): Float64Array {
-  const draws = new RandomDraws(seed);
-  return Float64Array.from({ length: m }, () => {
-    let w = 0;
-    for (let t = 0; t < 16; t++) w -= Math.log(1 - draws.uniform());
-    return w;
-  });
-}
 function weightedSummary(weights: Float64Array, requests: number): void {
   const placement = makePlacement(requests, weights.length, weights);
   for (const level of [0.5, 0.9, 0.99, 0.999]) fullestQuantile(placement, level);

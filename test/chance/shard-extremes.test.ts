@@ -1,4 +1,5 @@
 import { describe, expect, it } from 'vitest';
+import { ringWeights } from '../../bench/ring-weights.js';
 import { anyShardTail } from '../../src/chance/extreme-load.js';
 import { makePlacement } from '../../src/chance/placement.js';
 import {
@@ -8,7 +9,6 @@ import {
   fullestTail,
 } from '../../src/chance/shard-extremes.js';
 import { emptiestMean, fullestMean } from '../../src/chance/extreme-means.js';
-import { RandomDraws } from '../../src/scenario/random-draws.js';
 import { huge, reference, relativeError } from './reference-data.js';
 import weightedMeans from './reference/weighted-means.json' with { type: 'json' };
 
@@ -335,12 +335,7 @@ describe('1e5 unequal shares near the fair share', () => {
     // is 1 in double precision. Measured on main before the fix: NaN at these three loads
     // (the saddle-point search of the share sweep had not settled after its last step and
     // its Edgeworth box came out as e^113311).
-    const draws = new RandomDraws(4);
-    const weights = Float64Array.from({ length: 100_000 }, () => {
-      let w = 0;
-      for (let t = 0; t < 16; t++) w -= Math.log(1 - draws.uniform());
-      return w;
-    });
+    const weights = ringWeights(100_000, 4);
     const placement = makePlacement(1e9, 100_000, weights);
     for (const u of [0.9993174999999991, 0.9993300999999984, 0.9993363999999981]) {
       const tail = emptiestTail(placement, u);

@@ -1,5 +1,6 @@
 import { existsSync, readFileSync } from 'node:fs';
 import { describe, expect, it } from 'vitest';
+import { ringWeights } from '../../bench/ring-weights.js';
 import { anyShardTail } from '../../src/chance/extreme-load.js';
 import { sweptShardTail } from '../../src/chance/swept-tail.js';
 import { makePlacement, roundingSlack, shareClasses } from '../../src/chance/placement.js';
@@ -11,22 +12,9 @@ import {
   fullestQuantile,
   fullestTail,
 } from '../../src/chance/shard-extremes.js';
-import { RandomDraws } from '../../src/scenario/random-draws.js';
 import { relativeError } from './reference-data.js';
 
 const TOLERANCE = 1e-3; // docs/model.md accuracy bar: relative error <= 1e-3 for p in [1e-15, 1]
-
-/** Hash-range sizes of a ring with `tokens` random tokens per shard: gamma(tokens) (demo data). */
-function ringWeights(m: number, seed: number, tokens = 16): Float64Array {
-  const draws = new RandomDraws(seed);
-  const weights = new Float64Array(m);
-  for (let i = 0; i < m; i++) {
-    let w = 0;
-    for (let t = 0; t < tokens; t++) w -= Math.log(1 - draws.uniform());
-    weights[i] = w;
-  }
-  return weights;
-}
 
 /** The grouped engine's own question: one threshold group per distinct share. */
 function groupedTail(n: number, weights: Float64Array, relative: number, side: Side) {

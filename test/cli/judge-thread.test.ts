@@ -5,6 +5,7 @@
 // tsx (ts-worker-entry.mjs), as the built CLI runs dist/cli/judge-thread-worker.js.
 import { fileURLToPath } from 'node:url';
 import { describe, expect, it } from 'vitest';
+import { ringWeights } from '../../bench/ring-weights.js';
 import { JudgeThread, builtJudgeThreadEntry } from '../../src/cli/judge-thread.js';
 import { Judge } from '../../src/judge/judge.js';
 import { defaultJudgeSettings } from '../../src/judge/judge-settings.js';
@@ -61,11 +62,7 @@ describe('JudgeThread', () => {
     // warm-up's 4000, so the thread judges its made-up windows first.
     const draws = new RandomDraws(11);
     const ids = Array.from({ length: 5000 }, (_, shard) => `r-${shard}`);
-    const weights = ids.map(() => {
-      let weight = 0;
-      for (let token = 0; token < 4; token++) weight -= Math.log(1 - draws.uniform());
-      return weight;
-    });
+    const weights = [...ringWeights(5000, draws, 4)];
     const universe = ShardUniverse.fromWeights(ids, weights);
     const settings = { ...defaultJudgeSettings, null: 'map' as const, hopMs: 10_000 };
     const windows = [20, 2000].map((perShard, at) => {

@@ -25,30 +25,6 @@ import numpy as np
 from scipy.stats import binom
 
 
-def exact_two(n, w):
-    p = np.array(w, float) / sum(w)
-    lam = n * p
-    x = np.arange(n + 1)
-    pm = binom.pmf(x, n, p[0])
-    r = np.stack([x / lam[0], (n - x) / lam[1]])
-    return float(np.dot(pm, r.max(0))), float(np.dot(pm, r.min(0)))
-
-
-def exact_three(n, w):
-    p = np.array(w, float) / sum(w)
-    lam = n * p
-    emax = emin = 0.0
-    pm1 = binom.pmf(np.arange(n + 1), n, p[0])
-    for a in range(n + 1):
-        rest = n - a
-        x2 = np.arange(rest + 1)
-        pm2 = binom.pmf(x2, rest, p[1] / (p[1] + p[2]))
-        r = np.stack([np.full(rest + 1, a / lam[0]), x2 / lam[1], (rest - x2) / lam[2]])
-        emax += pm1[a] * np.dot(pm2, r.max(0))
-        emin += pm1[a] * np.dot(pm2, r.min(0))
-    return float(emax), float(emin)
-
-
 def outcomes(n, w):
     """Every outcome's probability with its max r and min r (two or three shards)."""
     p = np.array(w, float) / sum(w)
@@ -113,7 +89,8 @@ for n, w in [
     (1, [1e-12, 1, 1]),
     (5, [1e-12, 1, 1]),
 ]:
-    emax, emin = exact_two(n, w) if len(w) == 2 else exact_three(n, w)
+    prob, mx, mn = outcomes(n, w)
+    emax, emin = float(np.dot(prob, mx)), float(np.dot(prob, mn))
     out["exact"].append({"requests": n, "weights": w, "max": emax, "min": emin})
 # Quantiles at the levels of a median, the 90th and 99.9th percentile (fullest) and their
 # mirrors (emptiest); shares 1 : 2 put breakpoints of two shards at the same loads.
